@@ -1,0 +1,28 @@
+//! Beat detection, beat-by-beat scoring and the RR series.
+//!
+//! In: a lead (raw samples) and its rate. Out: R-peak sample indices, RR intervals, and, when a
+//! reference is given, a [`Score`] by the ANSI/AAMI EC57 matching rule.
+
+use serde::{Deserialize, Serialize};
+
+/// Beat-by-beat comparison of detected beats against reference beats.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Score {
+    /// Number of reference beats.
+    pub reference: usize,
+    /// Number of detected beats.
+    pub detected: usize,
+    /// True positives (matched pairs).
+    pub tp: usize,
+    /// False positives (detections without a reference beat).
+    pub fp: usize,
+    /// False negatives (reference beats without a detection).
+    #[serde(rename = "fn")]
+    pub fn_: usize,
+    /// Sensitivity TP/(TP+FN); 1 when there is no reference beat.
+    pub se: f64,
+    /// Positive predictivity TP/(TP+FP); 1 when nothing was detected.
+    pub ppv: f64,
+    /// Matching window in milliseconds (150 in EC57).
+    pub match_window_ms: f64,
+}

@@ -1,0 +1,35 @@
+//! Intrinsic dimension, scale by scale.
+//!
+//! In: [`Points`](crate::points::Points). Out: a [`ScalingCurve`] of dimension against scale
+//! from k-means quantization scaling (distortion D(k) ∝ k^(−2/d); Zador 1982, Graf & Luschgy
+//! 2000), measured on held-out points.
+
+use serde::{Deserialize, Serialize};
+
+/// One point of a dimension-against-scale curve.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct ScalePoint {
+    /// Length scale (for k-means: √D at the pair's geometric mean).
+    pub scale: f64,
+    /// Local dimension estimate at that scale.
+    pub d: f64,
+}
+
+/// Result of k-means quantization scaling.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ScalingCurve {
+    /// Ladder of k (number of centres).
+    pub ks: Vec<usize>,
+    /// Held-out distortion D(k): mean squared distance to the nearest centre.
+    pub distortion: Vec<f64>,
+    /// Local slopes as dimension against scale, one per neighbouring pair of k.
+    pub curve: Vec<ScalePoint>,
+    /// Plateau estimate of d (robust summary of the curve over the non-noise scales).
+    pub d: f64,
+    /// Least-squares slope of log D against log k over the plateau, and its intercept.
+    pub fit_slope: f64,
+    /// Intercept of that fit (natural logs).
+    pub fit_intercept: f64,
+    /// Scale below which d climbs steeply (noise-dominated regime), if detected.
+    pub noise_scale: Option<f64>,
+}

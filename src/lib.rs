@@ -1,0 +1,33 @@
+//! beatfold: a research-use workbench that takes ECG-like recordings through a reproducible chain
+//! — read or synthesise, condition, detect beats, describe and embed them with a diffusion map,
+//! measure their dimension scale by scale, describe the rhythm — and reports it all.
+//!
+//! **Research use only.** Not a medical device; not for diagnosis or treatment decisions. See
+//! [`NOTICE`].
+//!
+//! Data flows one way: [`io`] → [`record::Record`] → [`signal`] → [`beats`] → [`features`] →
+//! [`embed`] / [`dimension`] / [`rhythm`] → [`report`]; [`synth`] makes records with ground truth.
+//! Only `io` and `report` touch files; [`pipeline`] runs the chain.
+
+pub mod beats;
+pub mod dimension;
+pub mod embed;
+pub mod error;
+pub mod features;
+pub mod io;
+pub mod pipeline;
+pub mod points;
+pub mod record;
+pub mod report;
+pub mod rhythm;
+pub mod signal;
+pub mod synth;
+
+pub use error::{Error, Result};
+
+/// The notice every output carries.
+pub const NOTICE: &str = "Research use only. Not a medical device; not for diagnosis or treatment decisions. \
+Results must be reviewed by qualified clinicians under local regulations.";
+
+/// Short form of [`NOTICE`] for figures.
+pub const NOTICE_SHORT: &str = "beatfold - research use only, not for diagnosis; defer to qualified clinicians";

@@ -1,0 +1,31 @@
+//! Conditioning: zero-phase Butterworth band-pass (second-order sections, applied forward and
+//! backward), mains notch, baseline removal, and per-segment signal-quality flags.
+//!
+//! In: one lead's samples and its sampling rate in Hz. Out: the conditioned samples (same length)
+//! and [`QualitySegment`]s.
+
+use serde::{Deserialize, Serialize};
+
+/// Quality flags of one segment of a lead.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct QualitySegment {
+    /// Segment start, seconds.
+    pub start_s: f64,
+    /// Segment end, seconds.
+    pub end_s: f64,
+    /// Signal nearly constant (flat line or lead off).
+    pub flat: bool,
+    /// Samples stuck at the range limits (saturation / clipping).
+    pub clipped: bool,
+    /// High-frequency noise power well above the QRS band.
+    pub noisy: bool,
+    /// Non-finite samples (NaN/Inf) were present and replaced.
+    pub non_finite: bool,
+}
+
+impl QualitySegment {
+    /// True when no flag is set.
+    pub fn is_clean(&self) -> bool {
+        !(self.flat || self.clipped || self.noisy || self.non_finite)
+    }
+}
