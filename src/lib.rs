@@ -26,8 +26,10 @@ pub mod synth;
 pub use error::{Error, Result};
 
 /// The notice every output carries.
-pub const NOTICE: &str = "Research use only. Not a medical device; not for diagnosis or treatment decisions. \
+pub const NOTICE: &str =
+    "Research use only. Not a medical device; not for diagnosis or treatment decisions. \
 Results must be reviewed by qualified clinicians under local regulations.";
 
 /// Short form of [`NOTICE`] for figures.
-pub const NOTICE_SHORT: &str = "beatfold - research use only, not for diagnosis; defer to qualified clinicians";
+pub const NOTICE_SHORT: &str =
+    "beatfold - research use only, not for diagnosis; defer to qualified clinicians";

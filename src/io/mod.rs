@@ -1,1 +1,224 @@
-//! io (being written).
+//! Reading recordings and point clouds, writing recordings and annotations.
+//!
+//! In: a path. Out: a [`Record`](crate::record::Record) (leads in physical units, sampling rate,
+//! reference annotations) or [`Points`](crate::points::Points). Only this module and `report`
+//! touch files. Every writer goes through [`write_atomic`]: a temporary sibling file, fsync, then
+//! rename, so an interrupted run never leaves a half-written output.
+
+pub mod annotations;
+pub mod csv;
+
+use crate::error::{Error, Result};
+use crate::points::Points;
+use crate::record::Record;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// Options for reading a recording.
+#[derive(Debug, Clone, Default)]
+pub struct ReadOptions {
+    /// Sampling rate in Hz, for files that carry neither a rate nor a time column.
+    pub fs_hz: Option<f64>,
+    /// Reference annotation file to attach (beatfold annotation CSV).
+    pub annotations: Option<PathBuf>,
+}
+
+/// A record with the warnings its reader raised (e.g. missing values).
+#[derive(Debug, Clone)]
+pub struct Loaded {
+    /// The record.
+    pub record: Record,
+    /// Non-fatal findings, each naming the file and place.
+    pub warnings: Vec<String>,
+}
+
+/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`).
+///
+/// When `opts.annotations` is not given, a sibling `<stem>.annotations.csv` (as written by
+/// `beatfold synth`) is attached if it exists.
+pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
+    let ext = path
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(|e| e.to_ascii_lowercase())
+        .unwrap_or_default();
+    let mut loaded = match ext.as_str() {
+        "csv" | "tsv" | "txt" => csv::read_record(path, opts.fs_hz)?,
+        other => return Err(Error::input(
+            path,
+            "file name",
+            format!(
+                "unsupported extension `.{other}`; beatfold reads .csv, .tsv and .txt recordings"
+            ),
+        )),
+    };
+    let ann_path = match &opts.annotations {
+        Some(p) => Some(p.clone()),
+        None => {
+            let sib = annotations::sibling_path(path);
+            sib.exists().then_some(sib)
+        }
+    };
+    if let Some(ap) = ann_path {
+        loaded.record.annotations = annotations::read(&ap, loaded.record.fs_hz)?;
+    }
+    Ok(loaded)
+}
+
+/// Read a plain numeric CSV point cloud: one row a point, no header, comma/tab/space separated.
+pub fn read_points(path: &Path) -> Result<Points> {
+    let text = read_text(path)?;
+    let mut rows: Vec<Vec<f64>> = Vec::new();
+    for (ln, line) in text.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        let mut row = Vec::new();
+        for (col, field) in line
+            .split(|c: char| c == ',' || c == '\t' || c == ';' || c == ' ')
+            .filter(|f| !f.is_empty())
+            .enumerate()
+        {
+            let v: f64 = field.trim().parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {}, column {}", ln + 1, col + 1),
+                    format!("`{field}` is not a number (a point cloud is numbers only, no header)"),
+                )
+            })?;
+            if !v.is_finite() {
+                return Err(Error::input(
+                    path,
+                    format!("line {}, column {}", ln + 1, col + 1),
+                    "value is not finite",
+                ));
+            }
+            row.push(v);
+        }
+        if let Some(first) = rows.first() {
+            if first.len() != row.len() {
+                return Err(Error::input(
+                    path,
+                    format!("line {}", ln + 1),
+                    format!(
+                        "{} values, but the first row has {}",
+                        row.len(),
+                        first.len()
+                    ),
+                ));
+            }
+        }
+        rows.push(row);
+    }
+    if rows.is_empty() {
+        return Err(Error::input(path, "whole file", "no points found"));
+    }
+    Points::from_rows(&rows).map_err(|e| Error::input(path, "rows", e.to_string()))
+}
+
+/// True when a CSV file looks like a plain point cloud (first data line all numbers, no
+/// beatfold recording header) rather than a recording.
+pub fn looks_like_points(path: &Path) -> bool {
+    let Ok(text) = std::fs::read_to_string(path) else {
+        return false;
+    };
+    let mut lines = text.lines().filter(|l| !l.trim().is_empty());
+    match lines.next() {
+        Some(first) if first.starts_with('#') => false,
+        Some(first) => first
+            .split([',', '\t', ';', ' '])
+            .filter(|f| !f.is_empty())
+            .all(|f| f.trim().parse::<f64>().is_ok()),
+        None => false,
+    }
+}
+
+/// Read a whole file as UTF-8 text with an error naming the file.
+pub fn read_text(path: &Path) -> Result<String> {
+    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    String::from_utf8(bytes).map_err(|e| {
+        Error::input(
+            path,
+            format!("byte offset {}", e.utf8_error().valid_up_to()),
+            "not valid UTF-8 text",
+        )
+    })
+}
+
+/// SHA-256 of a file, lower-case hex.
+pub fn sha256_file(path: &Path) -> Result<String> {
+    use sha2::{Digest, Sha256};
+    let mut f = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut h = Sha256::new();
+    std::io::copy(&mut f, &mut h).map_err(|e| Error::io(path, e))?;
+    Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
+}
+
+/// Write `bytes` to `path` atomically: a temporary sibling file is written and fsynced, then
+/// renamed over `path`. On error the temporary file is removed and any existing `path` is intact.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    let name = path
+        .file_name()
+        .ok_or_else(|| Error::output(path, "not a file path"))?
+        .to_string_lossy()
+        .into_owned();
+    let tmp = path.with_file_name(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| -> std::io::Result<()> {
+        let mut f = std::fs::File::create(&tmp)?;
+        f.write_all(bytes)?;
+        f.sync_all()?;
+        std::fs::rename(&tmp, path)
+    })();
+    if let Err(e) = result {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(Error::output(path, e.to_string()));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn atomic_write_replaces_and_leaves_no_temp() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("a.txt");
+        write_atomic(&p, b"one").unwrap();
+        write_atomic(&p, b"two").unwrap();
+        assert_eq!(std::fs::read(&p).unwrap(), b"two");
+        let n = std::fs::read_dir(dir.path()).unwrap().count();
+        assert_eq!(n, 1, "only the target file remains");
+        // A write into a missing folder fails and names the file.
+        let bad = dir.path().join("missing").join("b.txt");
+        let err = write_atomic(&bad, b"x").unwrap_err().to_string();
+        assert!(err.contains("b.txt"), "{err}");
+    }
+
+    #[test]
+    fn points_csv_reads_and_rejects_ragged_rows() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("pts.csv");
+        std::fs::write(&p, "1,2,3\n4,5,6\n").unwrap();
+        let pts = read_points(&p).unwrap();
+        assert_eq!((pts.n, pts.dim), (2, 3));
+        assert_eq!(pts.row(1), &[4.0, 5.0, 6.0]);
+        assert!(looks_like_points(&p));
+        std::fs::write(&p, "1,2,3\n4,5\n").unwrap();
+        let err = read_points(&p).unwrap_err().to_string();
+        assert!(err.contains("line 2"), "{err}");
+    }
+
+    #[test]
+    fn sha256_of_known_text() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("abc.txt");
+        std::fs::write(&p, "abc").unwrap();
+        // Source: FIPS 180-2, appendix B.1 (SHA-256 of "abc").
+        assert_eq!(
+            sha256_file(&p).unwrap(),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+}
