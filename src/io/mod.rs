@@ -7,6 +7,7 @@
 
 pub mod annotations;
 pub mod csv;
+pub mod physionet;
 
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -32,7 +33,7 @@ pub struct Loaded {
     pub warnings: Vec<String>,
 }
 
-/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`).
+/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`, `.hea`).
 ///
 /// When `opts.annotations` is not given, a sibling `<stem>.annotations.csv` (as written by
 /// `beatfold synth`) is attached if it exists.
@@ -44,13 +45,47 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         .unwrap_or_default();
     let mut loaded = match ext.as_str() {
         "csv" | "tsv" | "txt" => csv::read_record(path, opts.fs_hz)?,
-        other => return Err(Error::input(
-            path,
-            "file name",
-            format!(
+        "hea" => {
+            // For a PhysioNet-format record, `annotations` may name an annotation file or just
+            // its extension (default `atr`).
+            let ext_given = opts
+                .annotations
+                .as_ref()
+                .filter(|p| !p.exists() && p.components().count() == 1)
+                .map(|p| p.to_string_lossy().into_owned());
+            let file_given = opts.annotations.as_ref().filter(|p| p.exists());
+            let ann_ext = match (&ext_given, file_given) {
+                (Some(e), _) => Some(e.as_str()),
+                (None, Some(_)) => None,
+                (None, None) => Some("atr"),
+            };
+            let (mut record, mut warnings) = physionet::read_record(path, ann_ext)?;
+            if ext_given.is_none() && file_given.is_none() {
+                // The default annotation file is optional.
+                warnings.retain(|w| !w.contains("no annotation file"));
+            }
+            if let Some(f) = file_given {
+                let is_csv = f.extension().is_some_and(|e| e.eq_ignore_ascii_case("csv"));
+                if is_csv {
+                    record.annotations = annotations::read(f, record.fs_hz)?;
+                } else {
+                    let bytes = std::fs::read(f).map_err(|e| Error::io(f, e))?;
+                    let anns = physionet::parse_annotations(f, &bytes)?;
+                    record.annotations =
+                        physionet::to_annotations(&anns, record.fs_hz, record.n_samples());
+                }
+            }
+            return Ok(Loaded { record, warnings });
+        }
+        other => {
+            return Err(Error::input(
+                path,
+                "file name",
+                format!(
                 "unsupported extension `.{other}`; beatfold reads .csv, .tsv and .txt recordings"
             ),
-        )),
+            ))
+        }
     };
     let ann_path = match &opts.annotations {
         Some(p) => Some(p.clone()),

@@ -1,0 +1,1011 @@
+//! PhysioNet-format records: the text header (`.hea`), signal files in formats 16 and 212, and
+//! MIT-format annotation files (e.g. `.atr`).
+//!
+//! Layouts follow the PhysioNet WFDB documentation of the header, signal and annotation files
+//! (Moody, "WFDB Programmer's Guide"; see also `docs/formats.md`):
+//! - header line 1: `name nsig fs nsamp [time [date]]`; one line per signal: `file format
+//!   gain(baseline)/units adcres adczero initval checksum blocksize description`. Multi-segment
+//!   records (`name/nseg`) are refused.
+//! - format 16: little-endian 16-bit two's complement; format 212: pairs of 12-bit two's
+//!   complement samples packed in 3 bytes.
+//! - physical value = (adu − baseline) / gain.
+//! - annotations: 16-bit little-endian words, 6-bit code and 10-bit time increment, with the
+//!   pseudo-codes SKIP (59), NUM (60), SUB (61), CHN (62) and AUX (63).
+//!
+//! On reading, each signal's initial value and 16-bit checksum are verified against the samples;
+//! a mismatch is an error naming the file and signal.
+
+use crate::error::{Error, Result};
+use crate::record::{Annotations, BeatAnnotation, Lead, Record, RhythmInterval};
+use std::collections::BTreeMap;
+use std::path::Path;
+
+/// One signal line of a header.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SignalSpec {
+    /// Signal file name (relative to the header).
+    pub file: String,
+    /// Storage format (16 or 212 are supported).
+    pub format: u32,
+    /// ADC units per physical unit.
+    pub gain: f64,
+    /// ADC value of physical zero.
+    pub baseline: i32,
+    /// Physical unit.
+    pub units: String,
+    /// ADC resolution in bits.
+    pub adc_res: u32,
+    /// ADC zero.
+    pub adc_zero: i32,
+    /// First sample value (ADC units), if given.
+    pub init_value: Option<i32>,
+    /// 16-bit checksum of all samples, if given.
+    pub checksum: Option<i16>,
+    /// Description (lead name).
+    pub description: String,
+}
+
+/// A parsed header.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Header {
+    /// Record name.
+    pub name: String,
+    /// Sampling frequency, Hz.
+    pub fs_hz: f64,
+    /// Samples per signal, if given.
+    pub n_samples: Option<usize>,
+    /// Base time and date as written, if given.
+    pub start_time: Option<String>,
+    /// Signal lines.
+    pub signals: Vec<SignalSpec>,
+    /// Comment lines (without `#`).
+    pub comments: Vec<String>,
+}
+
+/// Largest sample count accepted from a header (24 h at 2 kHz); larger values are refused
+/// before any allocation.
+pub const MAX_SAMPLES: usize = 24 * 3600 * 2000;
+
+fn field<'a>(
+    path: &Path,
+    line_no: usize,
+    toks: &[&'a str],
+    i: usize,
+    what: &str,
+) -> Result<&'a str> {
+    toks.get(i)
+        .copied()
+        .ok_or_else(|| Error::input(path, format!("line {line_no}, field {what}"), "missing"))
+}
+
+/// Parse header text. `path` is used in error messages only.
+pub fn parse_header(path: &Path, text: &str) -> Result<Header> {
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l.trim_end_matches('\r')));
+    let mut comments = Vec::new();
+    let (ln, rec_line) = loop {
+        match lines.next() {
+            Some((_, l)) if l.trim_start().starts_with('#') => {
+                comments.push(l.trim_start()[1..].trim().to_string())
+            }
+            Some((_, l)) if l.trim().is_empty() => {}
+            Some(x) => break x,
+            None => return Err(Error::input(path, "line 1", "no record line")),
+        }
+    };
+    let toks: Vec<&str> = rec_line.split_whitespace().collect();
+    let name_tok = field(path, ln, &toks, 0, "record name")?;
+    if name_tok.contains('/') {
+        return Err(Error::input(
+            path,
+            format!("line {ln}, field record name"),
+            format!("`{name_tok}` is a multi-segment record; beatfold reads single-segment records only (read each segment's header instead)"),
+        ));
+    }
+    let nsig: usize = field(path, ln, &toks, 1, "number of signals")?
+        .parse()
+        .map_err(|_| {
+            Error::input(
+                path,
+                format!("line {ln}, field number of signals"),
+                "not a whole number",
+            )
+        })?;
+    if nsig > 256 {
+        return Err(Error::input(
+            path,
+            format!("line {ln}, field number of signals"),
+            format!("{nsig} signals is more than beatfold accepts (256)"),
+        ));
+    }
+    let fs_hz = match toks.get(2) {
+        Some(t) => {
+            let f = t.split(['/', '(']).next().unwrap_or("");
+            let v: f64 = f.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field sampling frequency"),
+                    format!("`{t}` is not a number"),
+                )
+            })?;
+            if !(v.is_finite() && v > 0.0 && v <= 1.0e6) {
+                return Err(Error::input(
+                    path,
+                    format!("line {ln}, field sampling frequency"),
+                    format!("{v} Hz is outside 0 < fs ≤ 1e6"),
+                ));
+            }
+            v
+        }
+        None => 250.0, // the documented default of the format
+    };
+    let n_samples = match toks.get(3) {
+        Some(t) => {
+            let n: usize = t.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field number of samples"),
+                    format!("`{t}` is not a whole number"),
+                )
+            })?;
+            if n > MAX_SAMPLES {
+                return Err(Error::input(
+                    path,
+                    format!("line {ln}, field number of samples"),
+                    format!("{n} samples per signal exceeds the limit of {MAX_SAMPLES}"),
+                ));
+            }
+            Some(n)
+        }
+        None => None,
+    };
+    let start_time = (toks.len() > 4).then(|| toks[4..].join(" "));
+    let mut signals = Vec::with_capacity(nsig);
+    while signals.len() < nsig {
+        let Some((ln, l)) = lines.next() else {
+            return Err(Error::input(
+                path,
+                "end of header",
+                format!("{nsig} signal lines promised, {} found", signals.len()),
+            ));
+        };
+        let lt = l.trim();
+        if lt.is_empty() {
+            continue;
+        }
+        if let Some(c) = lt.strip_prefix('#') {
+            comments.push(c.trim().to_string());
+            continue;
+        }
+        let t: Vec<&str> = lt.split_whitespace().collect();
+        let file = field(path, ln, &t, 0, "file name")?.to_string();
+        let fmt_tok = field(path, ln, &t, 1, "format")?;
+        let fmt_digits: String = fmt_tok.chars().take_while(|c| c.is_ascii_digit()).collect();
+        if fmt_digits.len() != fmt_tok.len() {
+            return Err(Error::input(
+                path,
+                format!("line {ln}, field format"),
+                format!("`{fmt_tok}`: sample multiplicity, skew and byte offset are not supported"),
+            ));
+        }
+        let format: u32 = fmt_digits.parse().map_err(|_| {
+            Error::input(
+                path,
+                format!("line {ln}, field format"),
+                format!("`{fmt_tok}` is not a format number"),
+            )
+        })?;
+        let adc_zero: i32 = match t.get(4) {
+            Some(s) => s.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field ADC zero"),
+                    format!("`{s}` is not an integer"),
+                )
+            })?,
+            None => 0,
+        };
+        let (mut gain, mut baseline, mut units) = (200.0, adc_zero, String::from("mV"));
+        if let Some(g) = t.get(2) {
+            let (gpart, upart) = match g.split_once('/') {
+                Some((a, b)) => (a, Some(b)),
+                None => (*g, None),
+            };
+            let (gnum, bpart) = match gpart.split_once('(') {
+                Some((a, b)) => (a, Some(b.trim_end_matches(')'))),
+                None => (gpart, None),
+            };
+            let gv: f64 = gnum.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field gain"),
+                    format!("`{g}` is not a gain"),
+                )
+            })?;
+            if !gv.is_finite() {
+                return Err(Error::input(
+                    path,
+                    format!("line {ln}, field gain"),
+                    "not finite",
+                ));
+            }
+            if gv != 0.0 {
+                gain = gv;
+            }
+            if let Some(b) = bpart {
+                baseline = b.parse().map_err(|_| {
+                    Error::input(
+                        path,
+                        format!("line {ln}, field baseline"),
+                        format!("`{b}` is not an integer"),
+                    )
+                })?;
+            }
+            if let Some(u) = upart {
+                units = u.to_string();
+            }
+        }
+        let adc_res: u32 = match t.get(3) {
+            Some(s) => s.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field ADC resolution"),
+                    format!("`{s}` is not a whole number"),
+                )
+            })?,
+            None => 0,
+        };
+        let init_value = match t.get(5) {
+            Some(s) => Some(s.parse().map_err(|_| {
+                Error::input(
+                    path,
+                    format!("line {ln}, field initial value"),
+                    format!("`{s}` is not an integer"),
+                )
+            })?),
+            None => None,
+        };
+        let checksum = match t.get(6) {
+            Some(s) => {
+                let v: i64 = s.parse().map_err(|_| {
+                    Error::input(
+                        path,
+                        format!("line {ln}, field checksum"),
+                        format!("`{s}` is not an integer"),
+                    )
+                })?;
+                Some(v as i16)
+            }
+            None => None,
+        };
+        let description = if t.len() > 8 {
+            t[8..].join(" ")
+        } else {
+            format!("signal{}", signals.len())
+        };
+        signals.push(SignalSpec {
+            file,
+            format,
+            gain,
+            baseline,
+            units,
+            adc_res,
+            adc_zero,
+            init_value,
+            checksum,
+            description,
+        });
+    }
+    for (_, l) in lines {
+        if let Some(c) = l.trim_start().strip_prefix('#') {
+            comments.push(c.trim().to_string());
+        }
+    }
+    Ok(Header {
+        name: name_tok.to_string(),
+        fs_hz,
+        n_samples,
+        start_time,
+        signals,
+        comments,
+    })
+}
+
+/// Decode interleaved samples of `nsig` signals stored in `format` (16 or 212).
+pub fn decode(path: &Path, bytes: &[u8], format: u32, nsig: usize) -> Result<Vec<Vec<i32>>> {
+    if nsig == 0 {
+        return Ok(Vec::new());
+    }
+    let flat: Vec<i32> = match format {
+        16 => bytes
+            .chunks_exact(2)
+            .map(|c| i16::from_le_bytes([c[0], c[1]]) as i32)
+            .collect(),
+        212 => {
+            let mut v = Vec::with_capacity(bytes.len() / 3 * 2 + 1);
+            let sx = |u: i32| if u & 0x800 != 0 { u - 0x1000 } else { u };
+            let mut chunks = bytes.chunks_exact(3);
+            for c in &mut chunks {
+                let (b0, b1, b2) = (c[0] as i32, c[1] as i32, c[2] as i32);
+                v.push(sx(b0 | ((b1 & 0x0f) << 8)));
+                v.push(sx(b2 | ((b1 & 0xf0) << 4)));
+            }
+            let rem = chunks.remainder();
+            if rem.len() == 2 {
+                v.push(sx(rem[0] as i32 | ((rem[1] as i32 & 0x0f) << 8)));
+            }
+            v
+        }
+        other => {
+            return Err(Error::input(
+                path,
+                "format",
+                format!(
+                    "signal format {other} is not supported (beatfold reads formats 16 and 212)"
+                ),
+            ))
+        }
+    };
+    let frames = flat.len() / nsig;
+    let mut out = vec![Vec::with_capacity(frames); nsig];
+    for f in flat.chunks_exact(nsig) {
+        for (s, &v) in f.iter().enumerate() {
+            out[s].push(v);
+        }
+    }
+    Ok(out)
+}
+
+/// Encode interleaved samples of several equally long signals in `format` (16 or 212). Values
+/// outside the format's range are an error.
+pub fn encode(signals: &[Vec<i32>], format: u32) -> Result<Vec<u8>> {
+    let n = signals.first().map_or(0, Vec::len);
+    if signals.iter().any(|s| s.len() != n) {
+        return Err(Error::Analysis(
+            "signals of different lengths cannot share a file".into(),
+        ));
+    }
+    let (lo, hi) = match format {
+        16 => (-32768, 32767),
+        212 => (-2048, 2047),
+        other => {
+            return Err(Error::param(
+                "format",
+                format!("{other}; supported: 16, 212"),
+            ))
+        }
+    };
+    let mut flat = Vec::with_capacity(n * signals.len());
+    for i in 0..n {
+        for s in signals {
+            let v = s[i];
+            if v < lo || v > hi {
+                return Err(Error::Analysis(format!(
+                    "sample {v} does not fit format {format} ({lo}..={hi})"
+                )));
+            }
+            flat.push(v);
+        }
+    }
+    let mut out = Vec::new();
+    if format == 16 {
+        for v in flat {
+            out.extend_from_slice(&(v as i16).to_le_bytes());
+        }
+    } else {
+        for pair in flat.chunks(2) {
+            let a = pair[0] & 0xfff;
+            out.push((a & 0xff) as u8);
+            match pair.get(1) {
+                Some(&b) => {
+                    let b = b & 0xfff;
+                    out.push((((a >> 8) & 0x0f) | ((b >> 8) << 4)) as u8);
+                    out.push((b & 0xff) as u8);
+                }
+                None => out.push(((a >> 8) & 0x0f) as u8),
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// 16-bit checksum of samples as defined for the header (sum, wrapping).
+pub fn checksum(samples: &[i32]) -> i16 {
+    samples
+        .iter()
+        .fold(0i16, |acc, &v| acc.wrapping_add(v as i16))
+}
+
+/// Read a record from its header path (`.hea`); signal files are looked up beside it. The
+/// annotation file `<record>.<ann_ext>` is attached when `ann_ext` is given and exists.
+pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<String>)> {
+    let text = super::read_text(hea)?;
+    let h = parse_header(hea, &text)?;
+    if h.signals.is_empty() {
+        return Err(Error::input(hea, "line 1", "record has no signals"));
+    }
+    let dir = hea.parent().unwrap_or_else(|| Path::new("."));
+    // Group signals by file, in header order.
+    let mut groups: BTreeMap<String, Vec<usize>> = BTreeMap::new();
+    for (i, s) in h.signals.iter().enumerate() {
+        groups.entry(s.file.clone()).or_default().push(i);
+    }
+    let mut adu: Vec<Vec<i32>> = vec![Vec::new(); h.signals.len()];
+    for (file, idx) in &groups {
+        let fmt = h.signals[idx[0]].format;
+        if idx.iter().any(|&i| h.signals[i].format != fmt) {
+            return Err(Error::input(
+                hea,
+                format!("signals in `{file}`"),
+                "signals sharing a file must share a format",
+            ));
+        }
+        if file.contains("..") || file.starts_with('/') || file == "-" {
+            return Err(Error::input(
+                hea,
+                format!("signal file `{file}`"),
+                "signal file must be a plain name beside the header",
+            ));
+        }
+        let fpath = dir.join(file);
+        if let Some(n) = h.n_samples {
+            let need = match fmt {
+                16 => n * idx.len() * 2,
+                212 => (n * idx.len() * 3).div_ceil(2),
+                _ => 0,
+            };
+            let have = std::fs::metadata(&fpath)
+                .map_err(|e| Error::io(&fpath, e))?
+                .len() as usize;
+            if need > 0 && have < need {
+                return Err(Error::input(&fpath, format!("byte {have}"), format!("file ends early: the header promises {n} samples per signal ({need} bytes), the file has {have} bytes")));
+            }
+        }
+        let bytes = std::fs::read(&fpath).map_err(|e| Error::io(&fpath, e))?;
+        let dec = decode(&fpath, &bytes, fmt, idx.len())?;
+        for (k, &i) in idx.iter().enumerate() {
+            adu[i] = dec[k].clone();
+        }
+    }
+    let n = h
+        .n_samples
+        .unwrap_or_else(|| adu.iter().map(Vec::len).min().unwrap_or(0));
+    let mut warnings = Vec::new();
+    let mut leads = Vec::with_capacity(h.signals.len());
+    for (i, s) in h.signals.iter().enumerate() {
+        let a = &mut adu[i];
+        a.truncate(n);
+        if a.len() < n {
+            return Err(Error::input(
+                hea,
+                format!("signal {i} ({})", s.description),
+                format!("{} samples found, {n} expected", a.len()),
+            ));
+        }
+        if let (Some(iv), Some(&first)) = (s.init_value, a.first()) {
+            if iv != first {
+                return Err(Error::input(
+                    hea,
+                    format!("signal {i} ({}), initial value", s.description),
+                    format!("header says {iv}, signal file starts with {first}"),
+                ));
+            }
+        }
+        if let Some(cs) = s.checksum {
+            let got = checksum(a);
+            if got != cs {
+                return Err(Error::input(hea, format!("signal {i} ({}), checksum", s.description), format!("header says {cs}, samples sum to {got}: the signal file does not match its header")));
+            }
+        }
+        if s.gain <= 0.0 {
+            warnings.push(format!(
+                "{}: signal {i}: gain {} is not positive",
+                hea.display(),
+                s.gain
+            ));
+        }
+        let base = s.baseline as f64;
+        let g = s.gain;
+        let samples = a
+            .iter()
+            .map(|&v| {
+                // WFDB marks invalid samples with the format's most negative value.
+                if (s.format == 212 && v == -2048) || (s.format == 16 && v == -32768) {
+                    f64::NAN
+                } else {
+                    (v as f64 - base) / g
+                }
+            })
+            .collect();
+        leads.push(Lead {
+            name: s.description.clone(),
+            unit: s.units.clone(),
+            samples,
+        });
+    }
+    let mut rec = Record {
+        name: h.name.clone(),
+        fs_hz: h.fs_hz,
+        leads,
+        start_time: h.start_time.clone(),
+        annotations: Annotations::default(),
+    };
+    if let Some(ext) = ann_ext {
+        let ap = dir.join(format!("{}.{ext}", h.name));
+        if ap.exists() {
+            let bytes = std::fs::read(&ap).map_err(|e| Error::io(&ap, e))?;
+            let anns = parse_annotations(&ap, &bytes)?;
+            rec.annotations = to_annotations(&anns, h.fs_hz, n);
+        } else {
+            warnings.push(format!(
+                "{}: no annotation file `{}`",
+                hea.display(),
+                ap.display()
+            ));
+        }
+    }
+    Ok((rec, warnings))
+}
+
+/// One decoded annotation of an MIT-format annotation file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MitAnnotation {
+    /// Sample index.
+    pub sample: u64,
+    /// Annotation code (1..=49).
+    pub code: u8,
+    /// Subtype.
+    pub subtype: i32,
+    /// Channel.
+    pub chan: i32,
+    /// Number field.
+    pub num: i32,
+    /// Auxiliary text (e.g. a rhythm label such as `(AFIB`), if any.
+    pub aux: Option<String>,
+}
+
+/// Mnemonic of an MIT annotation code (the standard code table of the annotation format; codes
+/// not in the table map to `?`).
+pub fn code_mnemonic(code: u8) -> char {
+    // Index = code; codes 0 (not a QRS), 15 and 17 (unused) are spaces. Common practice: the
+    // code table of the MIT annotation format, recalled from memory and checked against the
+    // beat and PVC counts of the open annotated records (scripts/validate-mitdb).
+    const TABLE: &[u8; 42] = b" NLRaVFJASEj/Q~ | sT*D\"=pB^t+u?![]en@xf()r";
+    TABLE.get(code as usize).map_or('?', |&b| b as char)
+}
+
+/// True for the codes counted as beats (N L R B A a J S V r F e j n E / f Q ?).
+pub fn is_beat(mnemonic: char) -> bool {
+    "NLRBAaJSVrFejnE/fQ?".contains(mnemonic)
+}
+
+/// Parse an MIT-format annotation file.
+pub fn parse_annotations(path: &Path, bytes: &[u8]) -> Result<Vec<MitAnnotation>> {
+    let mut out: Vec<MitAnnotation> = Vec::new();
+    let mut t: i64 = 0;
+    let mut i = 0usize;
+    let word = |i: usize| -> Option<u16> {
+        bytes
+            .get(i..i + 2)
+            .map(|b| u16::from_le_bytes([b[0], b[1]]))
+    };
+    let (mut sub, mut chan, mut num) = (0i32, 0i32, 0i32);
+    loop {
+        let off = i;
+        let Some(w) = word(i) else {
+            return Err(Error::input(
+                path,
+                format!("byte offset {off}"),
+                "file ends without the end-of-annotations word (truncated?)",
+            ));
+        };
+        i += 2;
+        if w == 0 {
+            break;
+        }
+        let code = (w >> 10) as u8;
+        let val = (w & 0x3ff) as i64;
+        match code {
+            59 => {
+                let (Some(hi), Some(lo)) = (word(i), word(i + 2)) else {
+                    return Err(Error::input(
+                        path,
+                        format!("byte offset {off}"),
+                        "SKIP word without its 32-bit interval (file truncated)",
+                    ));
+                };
+                i += 4;
+                t += (((hi as u32) << 16) | lo as u32) as i32 as i64;
+            }
+            60 => num = val as i32,
+            61 => sub = val as i32,
+            62 => chan = val as i32,
+            63 => {
+                let len = val as usize;
+                let Some(b) = bytes.get(i..i + len) else {
+                    return Err(Error::input(
+                        path,
+                        format!("byte offset {off}"),
+                        format!("AUX string of {len} bytes runs past the end of the file"),
+                    ));
+                };
+                let s: String = String::from_utf8_lossy(b)
+                    .trim_end_matches('\0')
+                    .to_string();
+                i += len + (len & 1);
+                match out.last_mut() {
+                    Some(last) => last.aux = Some(s),
+                    None => {
+                        return Err(Error::input(
+                            path,
+                            format!("byte offset {off}"),
+                            "AUX string before any annotation",
+                        ))
+                    }
+                }
+            }
+            c => {
+                t += val;
+                if t < 0 {
+                    return Err(Error::input(
+                        path,
+                        format!("byte offset {off}"),
+                        "annotation time before the record start",
+                    ));
+                }
+                // NUM, SUB and CHN apply to this annotation and then persist (num, chan) or reset
+                // (subtype), as in the format's definition.
+                out.push(MitAnnotation {
+                    sample: t as u64,
+                    code: c,
+                    subtype: sub,
+                    chan,
+                    num,
+                    aux: None,
+                });
+                sub = 0;
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Encode annotations in MIT format (times must not decrease). Used for round-trip tests and
+/// for writing excerpts.
+pub fn encode_annotations(anns: &[MitAnnotation]) -> Result<Vec<u8>> {
+    let mut out = Vec::new();
+    let mut t: u64 = 0;
+    let push = |out: &mut Vec<u8>, w: u16| out.extend_from_slice(&w.to_le_bytes());
+    for a in anns {
+        if a.sample < t {
+            return Err(Error::Analysis("annotations out of time order".into()));
+        }
+        let mut d = a.sample - t;
+        if d > 1023 {
+            let d32 = i32::try_from(d)
+                .map_err(|_| Error::Analysis("annotation interval too large".into()))?
+                as u32;
+            push(&mut out, 59 << 10);
+            push(&mut out, (d32 >> 16) as u16);
+            push(&mut out, (d32 & 0xffff) as u16);
+            d = 0;
+        }
+        if a.subtype != 0 {
+            push(&mut out, (61 << 10) | (a.subtype as u16 & 0x3ff));
+        }
+        push(&mut out, ((a.code as u16) << 10) | d as u16);
+        if let Some(s) = &a.aux {
+            let b = s.as_bytes();
+            push(&mut out, (63 << 10) | (b.len() as u16 & 0x3ff));
+            out.extend_from_slice(b);
+            if b.len() % 2 == 1 {
+                out.push(0);
+            }
+        }
+        t = a.sample;
+    }
+    push(&mut out, 0);
+    Ok(out)
+}
+
+/// Convert MIT annotations to beatfold's: beats (beat codes only) and rhythm intervals from
+/// rhythm-change annotations (`+` with an AUX label such as `(AFIB`), each running to the next
+/// rhythm change or the end of the record (`n_samples`).
+pub fn to_annotations(anns: &[MitAnnotation], fs_hz: f64, n_samples: usize) -> Annotations {
+    let mut out = Annotations::default();
+    let mut open: Option<(f64, String)> = None;
+    for a in anns {
+        let m = code_mnemonic(a.code);
+        if is_beat(m) {
+            out.beats.push(BeatAnnotation {
+                sample: a.sample as usize,
+                code: m,
+            });
+        } else if m == '+' {
+            if let Some(label) = a.aux.as_deref().and_then(|s| s.strip_prefix('(')) {
+                let ts = a.sample as f64 / fs_hz;
+                if let Some((s0, l0)) = open.take() {
+                    out.rhythms.push(RhythmInterval {
+                        start_s: s0,
+                        end_s: ts,
+                        label: l0,
+                    });
+                }
+                open = Some((ts, label.to_string()));
+            }
+        }
+    }
+    if let Some((s0, l0)) = open {
+        out.rhythms.push(RhythmInterval {
+            start_s: s0,
+            end_s: n_samples as f64 / fs_hz,
+            label: l0,
+        });
+    }
+    out
+}
+
+/// Write a record in PhysioNet format (header plus one signal file in `format` 16 or 212),
+/// quantising each lead with `gain` ADC units per physical unit and zero baseline.
+pub fn write_record(rec: &Record, dir: &Path, format: u32, gain: f64) -> Result<()> {
+    let adu: Vec<Vec<i32>> = rec
+        .leads
+        .iter()
+        .map(|l| {
+            l.samples
+                .iter()
+                .map(|v| (v * gain).round() as i32)
+                .collect()
+        })
+        .collect();
+    let bytes = encode(&adu, format)?;
+    let dat = format!("{}.dat", rec.name);
+    let mut hea = format!(
+        "{} {} {} {}\n",
+        rec.name,
+        rec.leads.len(),
+        rec.fs_hz,
+        rec.n_samples()
+    );
+    let res = if format == 212 { 12 } else { 16 };
+    for (l, a) in rec.leads.iter().zip(&adu) {
+        hea.push_str(&format!(
+            "{dat} {format} {gain}(0)/{} {res} 0 {} {} 0 {}\n",
+            l.unit,
+            a.first().copied().unwrap_or(0),
+            checksum(a),
+            l.name
+        ));
+    }
+    super::write_atomic(&dir.join(&dat), &bytes)?;
+    super::write_atomic(&dir.join(format!("{}.hea", rec.name)), hea.as_bytes())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn format_212_packs_the_reference_pairs() {
+        // Source: REFERENCES.md §10 [C] and the format 212 definition in data/mitdb/SOURCE.md:
+        // (995, 1011) → e3 33 f3; (−1, 1000) → ff 3f e8.
+        assert_eq!(
+            encode(&[vec![995], vec![1011]], 212).unwrap(),
+            vec![0xe3, 0x33, 0xf3]
+        );
+        assert_eq!(
+            encode(&[vec![-1], vec![1000]], 212).unwrap(),
+            vec![0xff, 0x3f, 0xe8]
+        );
+        let d = decode(Path::new("x"), &[0xff, 0x3f, 0xe8], 212, 2).unwrap();
+        assert_eq!(d, vec![vec![-1], vec![1000]]);
+    }
+
+    #[test]
+    fn header_fields_and_multisegment_refusal() {
+        let h = parse_header(Path::new("100.hea"), "100 2 360 650000\r\n100.dat 212 200 11 1024 995 -22131 0 MLII\r\n100.dat 212 200 11 1024 1011 20052 0 V5\r\n# 69 M\r\n").unwrap();
+        assert_eq!(h.signals.len(), 2);
+        assert_eq!(h.signals[1].description, "V5");
+        assert_eq!(h.signals[0].baseline, 1024);
+        assert_eq!(h.signals[0].checksum, Some(-22131));
+        assert_eq!(h.n_samples, Some(650000));
+        assert_eq!(h.comments, vec!["69 M".to_string()]);
+        let err = parse_header(Path::new("m.hea"), "m/3 2 360 100\n")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("multi-segment"), "{err}");
+        let err = parse_header(Path::new("b.hea"), "b 2 360 100\nb.dat 212 200 11 1024\n")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("2 signal lines promised, 1 found"), "{err}");
+        let err = parse_header(Path::new("c.hea"), "c 1 abc 100\n")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("sampling frequency"), "{err}");
+        let err = parse_header(Path::new("d.hea"), "d 1 360 99999999999999\n")
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("number of samples"), "{err}");
+    }
+
+    #[test]
+    fn round_trip_through_both_formats() {
+        let rec = Record {
+            name: "rt".into(),
+            fs_hz: 360.0,
+            leads: vec![
+                Lead {
+                    name: "a".into(),
+                    unit: "mV".into(),
+                    samples: (0..1001).map(|i| ((i as f64) * 0.05).sin() * 2.0).collect(),
+                },
+                Lead {
+                    name: "b".into(),
+                    unit: "mV".into(),
+                    samples: (0..1001).map(|i| ((i as f64) * 0.03).cos()).collect(),
+                },
+            ],
+            start_time: None,
+            annotations: Annotations::default(),
+        };
+        for fmt in [16u32, 212] {
+            let dir = tempfile::tempdir().unwrap();
+            write_record(&rec, dir.path(), fmt, 200.0).unwrap();
+            let (back, _) = read_record(&dir.path().join("rt.hea"), None).unwrap();
+            assert_eq!(back.n_samples(), 1001);
+            for (l0, l1) in rec.leads.iter().zip(&back.leads) {
+                for (a, b) in l0.samples.iter().zip(&l1.samples) {
+                    // Quantisation at 200 ADC units per mV: error ≤ half a unit.
+                    assert!((a - b).abs() <= 0.5 / 200.0 + 1e-12);
+                    assert_eq!((b * 200.0).round(), (a * 200.0).round());
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn corrupted_signal_file_fails_its_checksum() {
+        let rec = Record {
+            name: "cs".into(),
+            fs_hz: 100.0,
+            leads: vec![Lead {
+                name: "a".into(),
+                unit: "mV".into(),
+                samples: vec![0.1, 0.2, 0.3, 0.4],
+            }],
+            start_time: None,
+            annotations: Annotations::default(),
+        };
+        let dir = tempfile::tempdir().unwrap();
+        write_record(&rec, dir.path(), 16, 200.0).unwrap();
+        let dat = dir.path().join("cs.dat");
+        let mut b = std::fs::read(&dat).unwrap();
+        b[4] ^= 0x01;
+        std::fs::write(&dat, &b).unwrap();
+        let err = read_record(&dir.path().join("cs.hea"), None)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("checksum"), "{err}");
+        std::fs::write(&dat, &b[..5]).unwrap();
+        let err = read_record(&dir.path().join("cs.hea"), None)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("ends early"), "{err}");
+    }
+
+    #[test]
+    fn annotations_round_trip_with_skip_and_aux() {
+        let anns = vec![
+            MitAnnotation {
+                sample: 18,
+                code: 28,
+                subtype: 0,
+                chan: 0,
+                num: 0,
+                aux: Some("(N".into()),
+            },
+            MitAnnotation {
+                sample: 77,
+                code: 1,
+                subtype: 0,
+                chan: 0,
+                num: 0,
+                aux: None,
+            },
+            MitAnnotation {
+                sample: 5000,
+                code: 5,
+                subtype: 0,
+                chan: 0,
+                num: 0,
+                aux: None,
+            },
+            MitAnnotation {
+                sample: 5100,
+                code: 28,
+                subtype: 0,
+                chan: 0,
+                num: 0,
+                aux: Some("(AFIB".into()),
+            },
+            MitAnnotation {
+                sample: 5400,
+                code: 1,
+                subtype: 0,
+                chan: 0,
+                num: 0,
+                aux: None,
+            },
+        ];
+        let bytes = encode_annotations(&anns).unwrap();
+        let back = parse_annotations(Path::new("x.atr"), &bytes).unwrap();
+        assert_eq!(back, anns);
+        let a = to_annotations(&back, 100.0, 6000);
+        let codes: String = a.beats.iter().map(|b| b.code).collect();
+        assert_eq!(codes, "NVN");
+        assert_eq!(a.rhythms.len(), 2);
+        assert_eq!(a.rhythms[1].label, "AFIB");
+        assert!(
+            (a.rhythms[1].start_s - 51.0).abs() < 1e-12
+                && (a.rhythms[1].end_s - 60.0).abs() < 1e-12
+        );
+        // Truncated AUX is an error naming the byte offset, not a panic.
+        for cut in [5, 7, bytes.len() - 2] {
+            let err = parse_annotations(Path::new("x.atr"), &bytes[..cut])
+                .unwrap_err()
+                .to_string();
+            assert!(err.contains("byte offset"), "{err}");
+        }
+    }
+
+    fn excerpt(name: &str) -> std::path::PathBuf {
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("tests/data/mitdb-excerpt")
+            .join(name)
+    }
+
+    #[test]
+    fn open_record_excerpt_decodes_with_its_annotations() {
+        // Source: MIT-BIH Arrhythmia Database record 100 (PhysioNet, ODC-By 1.0), first 10 s, cut
+        // by scripts/make_mitdb_excerpt.py. The initial values 995 and 1011 are the release
+        // header's; gain 200 and ADC zero 1024 give (995 − 1024)/200 = −0.145 mV.
+        let (rec, warnings) = read_record(&excerpt("100x.hea"), Some("atr")).unwrap();
+        assert!(warnings.is_empty(), "{warnings:?}");
+        assert_eq!(rec.fs_hz, 360.0);
+        assert_eq!(rec.n_samples(), 3600);
+        let names: Vec<&str> = rec.leads.iter().map(|l| l.name.as_str()).collect();
+        assert_eq!(names, ["MLII", "V5"]);
+        assert!((rec.leads[0].samples[0] - (-0.145)).abs() < 1e-12);
+        assert!((rec.leads[1].samples[0] - (-0.065)).abs() < 1e-12);
+        // The release's annotations for these 10 s: 13 beats, the eighth an atrial premature
+        // beat (code A), the first at sample 77, under a normal-rhythm label from sample 18.
+        let codes: String = rec.annotations.beats.iter().map(|b| b.code).collect();
+        assert_eq!(codes, "NNNNNNNANNNNN");
+        assert_eq!(rec.annotations.beats[0].sample, 77);
+        assert_eq!(rec.annotations.rhythms.len(), 1);
+        assert_eq!(rec.annotations.rhythms[0].label, "N");
+        assert!((rec.annotations.rhythms[0].start_s - 18.0 / 360.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn open_record_excerpt_matches_an_independent_decoding() {
+        // Source: scipy.misc.electrocardiogram() of SciPy 1.11.4 (general-purpose reference
+        // library), documented as record 208 signal 0 from 19:34.5 in (adu − 1024)/200 mV; fixture
+        // written by scripts/make_mitdb_excerpt.py. Both are exact multiples of 1/200 mV.
+        let (rec, _) = read_record(&excerpt("208x.hea"), None).unwrap();
+        let text = std::fs::read_to_string(excerpt("scipy_ecg_208.json")).unwrap();
+        let j: serde_json::Value = serde_json::from_str(&text).unwrap();
+        let reference: Vec<f64> = j["mv"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
+        assert_eq!(reference.len(), 3600);
+        for (i, (a, b)) in rec.leads[0].samples.iter().zip(&reference).enumerate() {
+            assert!((a - b).abs() < 1e-9, "sample {i}: {a} vs {b}");
+        }
+    }
+}
