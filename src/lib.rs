@@ -9,6 +9,9 @@
 //! [`embed`] / [`dimension`] / [`rhythm`] → [`report`]; [`synth`] makes records with ground truth.
 //! Only `io` and `report` touch files; [`pipeline`] runs the chain.
 
+// `!(x > 0.0)` is used on purpose: unlike `x <= 0.0` it also rejects NaN.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 pub mod beats;
 pub mod dimension;
 pub mod embed;

@@ -1,6 +1,13 @@
-//! Rhythm: time-domain variability of the RR series (Task Force of ESC/NASPE 1996).
+//! Rhythm: time-domain variability of the RR series (Task Force of ESC/NASPE 1996), entropies
+//! and Poincaré descriptors ([`entropy`]), a windowed irregular-rhythm research screen
+//! ([`screen`]) and recurrence quantification of a beat trajectory ([`recurrence`]).
 //!
-//! In: RR intervals in seconds. Out: [`Variability`].
+//! In: RR intervals in seconds (and, for recurrence, one point per beat). Out: [`Variability`],
+//! [`screen::Screen`], [`recurrence::RqaWindow`]s.
+
+pub mod entropy;
+pub mod recurrence;
+pub mod screen;
 
 use serde::{Deserialize, Serialize};
 
