@@ -7,6 +7,7 @@
 
 pub mod annotations;
 pub mod csv;
+pub mod edf;
 pub mod physionet;
 
 use crate::error::{Error, Result};
@@ -33,7 +34,7 @@ pub struct Loaded {
     pub warnings: Vec<String>,
 }
 
-/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`, `.hea`).
+/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`, `.edf`, `.hea`).
 ///
 /// When `opts.annotations` is not given, a sibling `<stem>.annotations.csv` (as written by
 /// `beatfold synth`) is attached if it exists.
@@ -45,6 +46,7 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         .unwrap_or_default();
     let mut loaded = match ext.as_str() {
         "csv" | "tsv" | "txt" => csv::read_record(path, opts.fs_hz)?,
+        "edf" => edf::read_record(path)?,
         "hea" => {
             // For a PhysioNet-format record, `annotations` may name an annotation file or just
             // its extension (default `atr`).
@@ -111,7 +113,7 @@ pub fn read_points(path: &Path) -> Result<Points> {
         }
         let mut row = Vec::new();
         for (col, field) in line
-            .split(|c: char| c == ',' || c == '\t' || c == ';' || c == ' ')
+            .split([',', '\t', ';', ' '])
             .filter(|f| !f.is_empty())
             .enumerate()
         {
