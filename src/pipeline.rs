@@ -54,6 +54,8 @@ pub struct Analysis {
     pub score: Option<Score>,
     /// All parameters used, as JSON (for provenance).
     pub parameters: serde_json::Value,
+    /// What could not be computed, and why (shown in the report).
+    pub notes: Vec<String>,
     /// Wall time of the analysis, seconds.
     pub elapsed_s: f64,
 }

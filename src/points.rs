@@ -18,7 +18,7 @@ pub struct Points {
 impl Points {
     /// Wrap row-major data, checking its length and that every value is finite.
     pub fn new(n: usize, dim: usize, data: Vec<f64>) -> Result<Self> {
-        if data.len() != n.checked_mul(dim).unwrap_or(usize::MAX) {
+        if data.len() != n.saturating_mul(dim) {
             return Err(Error::Analysis(format!(
                 "point matrix has {} values, expected {n} x {dim}",
                 data.len()

@@ -1,0 +1,621 @@
+//! Command implementations: read, call the library, print. No analysis happens here.
+
+use super::{Cli, Command, InputArgs};
+use anyhow::{bail, Context, Result};
+use beatfold::io::{self, ReadOptions};
+use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
+use beatfold::record::Record;
+use beatfold::{report, synth, NOTICE};
+use serde_json::json;
+use std::io::IsTerminal;
+use std::path::{Path, PathBuf};
+
+/// The bundled demo recording (made by `beatfold synth`, see demo-data/README.md).
+const DEMO_CSV: &str = include_str!("../../demo-data/telemetry-night.csv");
+/// Its exact ground truth.
+const DEMO_ANN: &str = include_str!("../../demo-data/telemetry-night.annotations.csv");
+
+struct Out {
+    quiet: bool,
+}
+
+impl Out {
+    fn line(&self, s: impl AsRef<str>) {
+        if !self.quiet {
+            println!("{}", s.as_ref());
+        }
+    }
+    fn notice(&self) {
+        self.line(format!("NOTICE: {NOTICE}"));
+    }
+    fn warn(&self, warnings: &[String]) {
+        if !self.quiet {
+            for w in warnings {
+                eprintln!("warning: {w}");
+            }
+        }
+    }
+}
+
+/// Run the parsed command line.
+pub fn run(cli: Cli) -> Result<()> {
+    let quiet = cli.quiet;
+    match cli.command {
+        Command::Demo {
+            out,
+            seed,
+            minutes,
+            json,
+        } => demo(&out, seed, minutes, json, quiet || json),
+        Command::Synth {
+            out,
+            minutes,
+            fs_hz,
+            scenario,
+            seed,
+            leads,
+            mean_hr_bpm,
+        } => synth_cmd(
+            &out,
+            minutes,
+            fs_hz,
+            &scenario,
+            seed,
+            leads,
+            mean_hr_bpm,
+            quiet,
+        ),
+        Command::Analyze { input, out, json } => {
+            let out = out.unwrap_or_else(|| default_out(&input.input));
+            let o = Out {
+                quiet: quiet || json,
+            };
+            let (rec, params, info) = load(&input, &o)?;
+            analyze_and_write(&rec, &info, &params, &out, json, &o)
+        }
+        Command::Beats { input, out, json } => beats_cmd(&input, out.as_deref(), json, quiet),
+        Command::Score {
+            inputs,
+            reference,
+            fs_hz,
+            lead,
+            json,
+        } => score_cmd(&inputs, reference, fs_hz, lead, json, quiet),
+        Command::Embed {
+            input,
+            out,
+            components,
+            alpha,
+            t,
+            epsilon,
+            json,
+        } => embed_cmd(
+            &input,
+            out.as_deref(),
+            components,
+            alpha,
+            t,
+            epsilon,
+            json,
+            quiet,
+        ),
+        Command::Dimension {
+            input,
+            method,
+            seed,
+            json,
+        } => dimension_cmd(&input, &method, seed, json, quiet),
+        Command::Rhythm { input, json } => rhythm_cmd(&input, json, quiet),
+    }
+}
+
+fn default_out(input: &Path) -> PathBuf {
+    let stem = input
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "record".into());
+    PathBuf::from(format!("{stem}-beatfold"))
+}
+
+fn params_from(input: &InputArgs) -> Result<AnalyzeParams> {
+    let mut p = match &input.config {
+        Some(c) => AnalyzeParams::from_json_file(c)?,
+        None => AnalyzeParams::default(),
+    };
+    if input.lead.is_some() {
+        p.lead = input.lead.clone();
+    }
+    p.check()?;
+    Ok(p)
+}
+
+fn load(input: &InputArgs, o: &Out) -> Result<(Record, AnalyzeParams, InputInfo)> {
+    let params = params_from(input)?;
+    let loaded = io::read_record(
+        &input.input,
+        &ReadOptions {
+            fs_hz: input.fs_hz,
+            annotations: input.reference.clone(),
+        },
+    )?;
+    o.warn(&loaded.warnings);
+    let info = InputInfo {
+        name: input.input.display().to_string(),
+        sha256: Some(io::sha256_file(&input.input)?),
+    };
+    Ok((loaded.record, params, info))
+}
+
+fn progress_bar(quiet: bool) -> Option<indicatif::ProgressBar> {
+    if quiet || !std::io::stderr().is_terminal() {
+        return None;
+    }
+    let pb = indicatif::ProgressBar::new(pipeline::STAGES.len() as u64);
+    if let Ok(style) = indicatif::ProgressStyle::with_template("{bar:30} {pos}/{len} {msg}") {
+        pb.set_style(style);
+    }
+    Some(pb)
+}
+
+fn analyze_and_write(
+    rec: &Record,
+    info: &InputInfo,
+    params: &AnalyzeParams,
+    out: &Path,
+    json: bool,
+    o: &Out,
+) -> Result<()> {
+    let pb = progress_bar(o.quiet);
+    let mut cb = |i: usize, stage: &str| {
+        if let Some(pb) = &pb {
+            pb.set_position(i as u64);
+            pb.set_message(stage.to_string());
+        }
+    };
+    let a = pipeline::analyze(rec, info, params, &mut cb)?;
+    if let Some(pb) = &pb {
+        pb.set_message("writing report");
+    }
+    let written = report::write_all(&a, out, &report::ReportOptions::default())?;
+    if let Some(pb) = pb {
+        pb.finish_and_clear();
+    }
+    if json {
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&report::summary_json(&a))?
+        );
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "record {}: {:.1} s at {} Hz, lead {}",
+        a.record_name, a.duration_s, a.fs_hz, a.raw.name
+    ));
+    o.line(format!(
+        "beats: {}   mean HR {:.1} bpm   SDNN {:.1} ms   RMSSD {:.1} ms   pNN50 {:.3}",
+        a.beat_samples.len(),
+        a.variability.mean_hr_bpm,
+        a.variability.sdnn_ms,
+        a.variability.rmssd_ms,
+        a.variability.pnn50
+    ));
+    if let Some(s) = &a.score {
+        o.line(format!(
+            "against reference: TP {} FP {} FN {}   Se {:.2} %   +P {:.2} %",
+            s.tp,
+            s.fp,
+            s.fn_,
+            100.0 * s.se,
+            100.0 * s.ppv
+        ));
+    }
+    if a.embedding.n > 0 {
+        let ev: Vec<String> = a
+            .embedding
+            .eigenvalues
+            .iter()
+            .take(5)
+            .map(|v| format!("{v:.4}"))
+            .collect();
+        o.line(format!(
+            "diffusion map: {} beats, epsilon {:.4}, eigenvalues {}",
+            a.embedding.n,
+            a.embedding.epsilon,
+            ev.join(" ")
+        ));
+        let noise = a
+            .dimension
+            .noise_scale
+            .map_or("not detected".to_string(), |s| format!("{s:.4}"));
+        o.line(format!(
+            "dimension (k-means quantization): d ≈ {:.2}, noise scale {noise}",
+            a.dimension.d
+        ));
+    }
+    for n in &a.notes {
+        o.line(format!("note: {n}"));
+    }
+    o.line(format!(
+        "report: {}",
+        written.dir.join("report.html").display()
+    ));
+    Ok(())
+}
+
+fn demo(out: &Path, seed: Option<u64>, minutes: f64, json: bool, quiet: bool) -> Result<()> {
+    let o = Out { quiet };
+    let input_dir = out.join("input");
+    std::fs::create_dir_all(&input_dir)
+        .with_context(|| format!("{}: cannot create folder", input_dir.display()))?;
+    let rec_path = input_dir.join("telemetry-night.csv");
+    match seed {
+        None => {
+            io::write_atomic(&rec_path, DEMO_CSV.as_bytes())?;
+            io::write_atomic(
+                &io::annotations::sibling_path(&rec_path),
+                DEMO_ANN.as_bytes(),
+            )?;
+            o.line("demo: bundled recording demo-data/telemetry-night.csv (synthetic; exact ground truth)");
+        }
+        Some(seed) => {
+            let scen = synth::Scenario::from_name("telemetry-night")?;
+            let p = synth::SynthParams::for_scenario(scen, minutes, 250.0, seed);
+            let rec = synth::synthesize(&p)?;
+            io::csv::write_record(&rec, &rec_path)?;
+            io::annotations::write(
+                &rec.annotations,
+                rec.fs_hz,
+                &io::annotations::sibling_path(&rec_path),
+            )?;
+            o.line(format!(
+                "demo: synthesised telemetry-night, {minutes} min, seed {seed}"
+            ));
+        }
+    }
+    let input = InputArgs {
+        input: rec_path,
+        fs_hz: None,
+        lead: None,
+        reference: None,
+        config: None,
+    };
+    let (rec, params, info) = load(&input, &o)?;
+    let t0 = std::time::Instant::now();
+    analyze_and_write(&rec, &info, &params, out, json, &o)?;
+    o.line(format!(
+        "demo finished in {:.2} s",
+        t0.elapsed().as_secs_f64()
+    ));
+    Ok(())
+}
+
+#[allow(clippy::too_many_arguments)]
+fn synth_cmd(
+    out: &Path,
+    minutes: f64,
+    fs_hz: f64,
+    scenario: &str,
+    seed: u64,
+    leads: usize,
+    mean_hr_bpm: Option<f64>,
+    quiet: bool,
+) -> Result<()> {
+    let o = Out { quiet };
+    let scen = synth::Scenario::from_name(scenario)?;
+    let mut p = synth::SynthParams::for_scenario(scen, minutes, fs_hz, seed);
+    p.leads = leads;
+    if let Some(hr) = mean_hr_bpm {
+        p.mean_hr_bpm = hr;
+    }
+    p.check()?;
+    let rec = synth::synthesize(&p)?;
+    let ext = out
+        .extension()
+        .and_then(|e| e.to_str())
+        .unwrap_or("")
+        .to_ascii_lowercase();
+    match ext.as_str() {
+        "csv" => io::csv::write_record(&rec, out)?,
+        "edf" => io::edf::write_record(&rec, out)?,
+        "hea" => {
+            let dir = out.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
+            let mut named = rec.clone();
+            named.name = out
+                .file_stem()
+                .map(|s| s.to_string_lossy().into_owned())
+                .unwrap_or_else(|| "synthetic".into());
+            io::physionet::write_record(&named, dir, 212, 200.0)?;
+        }
+        _ => bail!(
+            "{}: unsupported output extension `.{ext}`; synth writes .csv, .edf or .hea (PhysioNet format 212)",
+            out.display()
+        ),
+    }
+    let ann = io::annotations::sibling_path(out);
+    io::annotations::write(&rec.annotations, rec.fs_hz, &ann)?;
+    o.notice();
+    o.line(format!(
+        "wrote {} ({} lead(s), {} samples at {} Hz, scenario {}, seed {seed})",
+        out.display(),
+        rec.leads.len(),
+        rec.n_samples(),
+        rec.fs_hz,
+        scen.name()
+    ));
+    o.line(format!(
+        "wrote {} ({} beats, {} rhythm intervals)",
+        ann.display(),
+        rec.annotations.beats.len(),
+        rec.annotations.rhythms.len()
+    ));
+    Ok(())
+}
+
+fn beats_cmd(input: &InputArgs, out: Option<&Path>, json: bool, quiet: bool) -> Result<()> {
+    let o = Out {
+        quiet: quiet || json,
+    };
+    let (rec, params, _) = load(input, &o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let v = beatfold::rhythm::variability(&b.rr_s);
+    if let Some(path) = out {
+        let mut s = String::from("sample,time_s,rr_s,label\n");
+        for (i, &smp) in b.samples.iter().enumerate() {
+            let rr = if i == 0 {
+                String::new()
+            } else {
+                format!("{:.6}", b.rr_s[i - 1])
+            };
+            s.push_str(&format!(
+                "{smp},{:.6},{rr},{}\n",
+                smp as f64 / rec.fs_hz,
+                b.labels[i]
+            ));
+        }
+        io::write_atomic(path, s.as_bytes())?;
+    }
+    if json {
+        let j = json!({
+            "record": rec.name, "fs_hz": rec.fs_hz, "n_beats": b.samples.len(),
+            "mean_hr_bpm": v.mean_hr_bpm, "agreement": serde_json::Value::Null,
+            "notice": NOTICE,
+        });
+        println!("{}", serde_json::to_string_pretty(&j)?);
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "{}: {} beats, mean HR {:.1} bpm",
+        rec.name,
+        b.samples.len(),
+        v.mean_hr_bpm
+    ));
+    if let Some(p) = out {
+        o.line(format!("wrote {}", p.display()));
+    }
+    Ok(())
+}
+
+fn score_cmd(
+    inputs: &[PathBuf],
+    reference: Option<PathBuf>,
+    fs_hz: Option<f64>,
+    lead: Option<String>,
+    json: bool,
+    quiet: bool,
+) -> Result<()> {
+    let o = Out {
+        quiet: quiet || json,
+    };
+    if reference.is_some() && inputs.len() > 1 {
+        bail!("--reference names one file, but {} recordings were given; leave it out to use each recording's `<stem>.annotations.csv`", inputs.len());
+    }
+    let mut rows = Vec::new();
+    let (mut tp, mut fp, mut fn_) = (0usize, 0usize, 0usize);
+    o.notice();
+    o.line(format!(
+        "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8} {:>8}",
+        "record", "ref", "detected", "TP", "FP", "FN", "Se %", "+P %"
+    ));
+    for path in inputs {
+        let input = InputArgs {
+            input: path.clone(),
+            fs_hz,
+            lead: lead.clone(),
+            reference: reference.clone(),
+            config: None,
+        };
+        let (rec, params, _) = load(&input, &o)?;
+        if rec.annotations.beats.is_empty() {
+            bail!(
+                "{}: no reference beats (give --reference ANN or put `{}` beside it)",
+                path.display(),
+                io::annotations::sibling_path(path).display()
+            );
+        }
+        let b = pipeline::detect_beats(&rec, &params)?;
+        let r: Vec<usize> = rec.annotations.beats.iter().map(|x| x.sample).collect();
+        let s = beatfold::beats::score(&r, &b.samples, rec.fs_hz, params.score_window_s);
+        tp += s.tp;
+        fp += s.fp;
+        fn_ += s.fn_;
+        o.line(format!(
+            "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8.2} {:>8.2}",
+            rec.name,
+            s.reference,
+            s.detected,
+            s.tp,
+            s.fp,
+            s.fn_,
+            100.0 * s.se,
+            100.0 * s.ppv
+        ));
+        rows.push(json!({
+            "record": rec.name, "duration_s": rec.duration_s(),
+            "beats": s, "rhythm": serde_json::Value::Null,
+        }));
+    }
+    let gse = if tp + fn_ > 0 {
+        tp as f64 / (tp + fn_) as f64
+    } else {
+        1.0
+    };
+    let gppv = if tp + fp > 0 {
+        tp as f64 / (tp + fp) as f64
+    } else {
+        1.0
+    };
+    if inputs.len() > 1 {
+        o.line(format!(
+            "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8.2} {:>8.2}",
+            "gross",
+            tp + fn_,
+            tp + fp,
+            tp,
+            fp,
+            fn_,
+            100.0 * gse,
+            100.0 * gppv
+        ));
+    }
+    if json {
+        let j = if rows.len() == 1 {
+            rows.remove(0)
+        } else {
+            json!({"records": rows, "gross": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}})
+        };
+        println!("{}", serde_json::to_string_pretty(&j)?);
+    }
+    Ok(())
+}
+
+/// Points from a recording's beat features or from a plain numeric CSV.
+fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::Points> {
+    if io::looks_like_points(&input.input) {
+        return Ok(io::read_points(&input.input)?);
+    }
+    let (rec, params, _) = load(input, o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let f =
+        beatfold::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &params.features)?;
+    Ok(f.points)
+}
+
+#[allow(clippy::too_many_arguments)]
+fn embed_cmd(
+    input: &InputArgs,
+    out: Option<&Path>,
+    components: usize,
+    alpha: f64,
+    t: f64,
+    epsilon: Option<f64>,
+    json: bool,
+    quiet: bool,
+) -> Result<()> {
+    let o = Out {
+        quiet: quiet || json,
+    };
+    let pts = points_of(input, &o)?;
+    let mut p = params_from(input)?.diffusion;
+    p.components = components;
+    p.alpha = alpha;
+    p.t = t;
+    p.epsilon = epsilon;
+    p.check()?;
+    let e = beatfold::embed::diffusion_map(&pts, &p)?;
+    if let Some(path) = out {
+        let mut s = String::new();
+        for row in e.coords.chunks(e.components.max(1)) {
+            let r: Vec<String> = row.iter().map(|v| format!("{v:.8e}")).collect();
+            s.push_str(&r.join(","));
+            s.push('\n');
+        }
+        io::write_atomic(path, s.as_bytes())?;
+    }
+    if json {
+        let j = json!({"n": e.n, "components": e.components, "eigenvalues": e.eigenvalues,
+            "epsilon": e.epsilon, "alpha": e.alpha, "t": e.t, "notice": NOTICE});
+        println!("{}", serde_json::to_string_pretty(&j)?);
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "{} points in {} dimensions → {} diffusion coordinates (epsilon {:.5}, alpha {}, t {})",
+        pts.n, pts.dim, e.components, e.epsilon, e.alpha, e.t
+    ));
+    let ev: Vec<String> = e.eigenvalues.iter().map(|v| format!("{v:.5}")).collect();
+    o.line(format!("eigenvalues: {}", ev.join(" ")));
+    if let Some(p) = out {
+        o.line(format!("wrote {}", p.display()));
+    }
+    Ok(())
+}
+
+fn dimension_cmd(
+    input: &InputArgs,
+    method: &str,
+    seed: u64,
+    json: bool,
+    quiet: bool,
+) -> Result<()> {
+    let o = Out {
+        quiet: quiet || json,
+    };
+    for m in method.split(',') {
+        if m.trim() != "kmeans" {
+            bail!("--method: `{m}` is not available; available: kmeans");
+        }
+    }
+    let pts = points_of(input, &o)?;
+    let mut p = params_from(input)?.dimension;
+    p.seed = seed;
+    let c = beatfold::dimension::kmeans_scaling(&pts, &p)?;
+    if json {
+        let j = json!({
+            "n": pts.n, "ambient_dim": pts.dim,
+            "estimates": {"kmeans": {"d": c.d, "ci95": serde_json::Value::Null}},
+            "scale_curve": c.curve, "noise_scale": c.noise_scale, "notice": NOTICE,
+        });
+        println!("{}", serde_json::to_string_pretty(&j)?);
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!("{} points in {} dimensions", pts.n, pts.dim));
+    o.line(format!("{:>8} {:>14}", "k", "held-out D(k)"));
+    for (k, d) in c.ks.iter().zip(&c.distortion) {
+        o.line(format!("{k:>8} {d:>14.6e}"));
+    }
+    o.line(format!("{:>12} {:>8}", "scale", "local d"));
+    for sp in &c.curve {
+        o.line(format!("{:>12.5} {:>8.2}", sp.scale, sp.d));
+    }
+    o.line(format!(
+        "plateau d ≈ {:.2}; noise scale {}",
+        c.d,
+        c.noise_scale
+            .map_or("not detected".into(), |s| format!("{s:.5}"))
+    ));
+    Ok(())
+}
+
+fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
+    let o = Out {
+        quiet: quiet || json,
+    };
+    let (rec, params, _) = load(input, &o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
+    let v = beatfold::rhythm::variability(&nn);
+    if json {
+        let j = json!({"record": rec.name, "variability": v, "notice": NOTICE});
+        println!("{}", serde_json::to_string_pretty(&j)?);
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "{}: {} NN intervals; mean HR {:.1} bpm, SDNN {:.1} ms, RMSSD {:.1} ms, pNN50 {:.3}",
+        rec.name, v.n_rr, v.mean_hr_bpm, v.sdnn_ms, v.rmssd_ms, v.pnn50
+    ));
+    Ok(())
+}

@@ -1,0 +1,175 @@
+//! The command line: flag definitions (each with unit and default in its help) and the glue that
+//! runs library stages and prints results. Every command prints the research-use notice unless
+//! `--json` (where the notice is a key) or `--quiet` is given.
+
+pub mod commands;
+
+use clap::{Args, Parser, Subcommand};
+use std::path::PathBuf;
+
+/// beatfold — ECG-like recordings to beats, diffusion-map embeddings, scale-resolved dimension
+/// and rhythm measures. Research use only: not a medical device, not for diagnosis.
+#[derive(Debug, Parser)]
+#[command(name = "beatfold", version, about, long_about = None)]
+pub struct Cli {
+    /// Print nothing but errors (and --json output).
+    #[arg(long, short, global = true)]
+    pub quiet: bool,
+    /// The command.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// Reading options shared by commands that take a recording.
+#[derive(Debug, Args, Clone)]
+pub struct InputArgs {
+    /// Recording (.csv/.tsv) or, where accepted, a plain numeric CSV of points.
+    pub input: PathBuf,
+    /// Sampling rate in Hz for files without a time column or rate comment (no default).
+    #[arg(long = "fs", value_name = "HZ")]
+    pub fs_hz: Option<f64>,
+    /// Lead to analyse, by name or zero-based index (default: the first lead).
+    #[arg(long, value_name = "NAME|INDEX")]
+    pub lead: Option<String>,
+    /// Reference annotation file (default: a sibling `<stem>.annotations.csv` if present).
+    #[arg(long, value_name = "ANN")]
+    pub reference: Option<PathBuf>,
+    /// JSON file of analysis parameters (missing keys take defaults; see docs/methods.md).
+    #[arg(long, value_name = "FILE")]
+    pub config: Option<PathBuf>,
+}
+
+/// Commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Analyse the bundled demo recording (or a fresh synthetic one with --seed) end to end.
+    Demo {
+        /// Output folder (default: beatfold-demo).
+        #[arg(long, default_value = "beatfold-demo")]
+        out: PathBuf,
+        /// Synthesise a new demo recording with this seed instead of the bundled one.
+        #[arg(long)]
+        seed: Option<u64>,
+        /// Length of a freshly synthesised demo recording in minutes (default 6; needs --seed).
+        #[arg(long, default_value_t = 6.0)]
+        minutes: f64,
+        /// Print the summary as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write a synthetic recording and its exact ground-truth annotation file.
+    Synth {
+        /// Output recording (.csv, .edf, or .hea for PhysioNet format 212); the exact annotations go
+        /// to `<stem>.annotations.csv` beside it.
+        #[arg(long)]
+        out: PathBuf,
+        /// Length in minutes (default 5).
+        #[arg(long, default_value_t = 5.0)]
+        minutes: f64,
+        /// Sampling rate in Hz (default 250).
+        #[arg(long = "fs", default_value_t = 250.0)]
+        fs_hz: f64,
+        /// Scenario: resting, telemetry-night, ambulatory-noisy (default resting).
+        #[arg(long, default_value = "resting")]
+        scenario: String,
+        /// Random seed (default 0).
+        #[arg(long, default_value_t = 0)]
+        seed: u64,
+        /// Number of leads, 1 or 2 (default 2).
+        #[arg(long, default_value_t = 2)]
+        leads: usize,
+        /// Mean heart rate in beats per minute (default: the scenario's).
+        #[arg(long = "hr", value_name = "BPM")]
+        mean_hr_bpm: Option<f64>,
+    },
+    /// Whole chain on one recording: report.html, summary.json, results.h5, figures/.
+    Analyze {
+        /// Input and reading options.
+        #[command(flatten)]
+        input: InputArgs,
+        /// Output folder (default: `<input stem>-beatfold`).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print the summary as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Detect beats; write sample, time, RR and label per beat.
+    Beats {
+        /// Input and reading options.
+        #[command(flatten)]
+        input: InputArgs,
+        /// Output CSV (default: print a summary only).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print the summary as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Score detected beats against reference beats (ANSI/AAMI EC57 150 ms matching).
+    Score {
+        /// Recordings to score.
+        #[arg(required = true)]
+        inputs: Vec<PathBuf>,
+        /// Reference annotation file (default per recording: `<stem>.annotations.csv`).
+        #[arg(long, value_name = "ANN")]
+        reference: Option<PathBuf>,
+        /// Sampling rate in Hz for files without one.
+        #[arg(long = "fs", value_name = "HZ")]
+        fs_hz: Option<f64>,
+        /// Lead, by name or zero-based index (default: the first).
+        #[arg(long)]
+        lead: Option<String>,
+        /// Print results as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Diffusion-map embedding of a recording's beats or of a numeric CSV point cloud.
+    Embed {
+        /// Input and reading options.
+        #[command(flatten)]
+        input: InputArgs,
+        /// Output CSV of coordinates (one row a point).
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Number of diffusion coordinates (default 10).
+        #[arg(long, default_value_t = 10)]
+        components: usize,
+        /// Density normalisation alpha, 0..1 (default 1).
+        #[arg(long, default_value_t = 1.0)]
+        alpha: f64,
+        /// Diffusion time t (default 1).
+        #[arg(long, default_value_t = 1.0)]
+        t: f64,
+        /// Kernel bandwidth epsilon in squared input units (default: automatic).
+        #[arg(long)]
+        epsilon: Option<f64>,
+        /// Print a summary as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Intrinsic dimension scale by scale (k-means quantization scaling).
+    Dimension {
+        /// Input and reading options.
+        #[command(flatten)]
+        input: InputArgs,
+        /// Estimators, comma separated (available: kmeans).
+        #[arg(long, default_value = "kmeans")]
+        method: String,
+        /// Random seed (default 0).
+        #[arg(long, default_value_t = 0)]
+        seed: u64,
+        /// Print results as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Time-domain variability of the RR series.
+    Rhythm {
+        /// Input and reading options.
+        #[command(flatten)]
+        input: InputArgs,
+        /// Print results as JSON on stdout.
+        #[arg(long)]
+        json: bool,
+    },
+}
