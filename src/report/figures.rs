@@ -31,6 +31,9 @@ const TITLE_PX: u32 = 40;
 const DESC_PX: u32 = 34;
 const LABEL_PX: u32 = 28;
 const NOTICE_PX: u32 = 24;
+/// Width of the legend glyph area; glyphs are drawn within `x .. x + GLYPH_PX`.
+const LEGEND_PX: i32 = 64;
+const GLYPH_PX: i32 = 44;
 
 /// Okabe & Ito (2008) hues used by the figures.
 const OI_BLACK: RGBColor = RGBColor(0, 0, 0);
@@ -210,7 +213,7 @@ fn axis_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
         return None;
     }
     let span = hi - lo;
-    if !(span > 0.0) || !span.is_finite() {
+    if span.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) || !span.is_finite() {
         let w = if lo.abs() > 0.0 { lo.abs() * 0.1 } else { 1.0 };
         return Some((lo - w, hi + w));
     }
@@ -219,7 +222,7 @@ fn axis_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
 
 /// Thin a line series to at most two points (min and max, in order) per bin of `bins`, keeping
 /// extremes visible; non-finite points split nothing and are dropped.
-fn minmax_thin(pts: &[(f64, f64)], bins: usize) -> Vec<(f64, f64)> {
+pub(crate) fn minmax_thin(pts: &[(f64, f64)], bins: usize) -> Vec<(f64, f64)> {
     let pts: Vec<(f64, f64)> = pts
         .iter()
         .copied()
@@ -296,8 +299,20 @@ fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
         .background_style(WHITE.mix(0.85))
         .border_style(GREY)
         .label_font((FONT, LABEL_PX))
+        .legend_area_size(LEGEND_PX)
+        .margin(12)
         .draw()
         .ctx()
+}
+
+/// Tick label of a length scale: plain decimals in 0.01..1000, scientific otherwise.
+fn scale_label(v: f64) -> String {
+    let a = v.abs();
+    if (0.01..1000.0).contains(&a) {
+        format!("{v:.3}")
+    } else {
+        format!("{v:.2e}")
+    }
 }
 
 /// Amplitude axis description from the lead's unit.
@@ -312,7 +327,7 @@ fn amplitude_desc(a: &Analysis, what: &str) -> String {
 fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     let title = "Conditioned lead with detected beats";
     let fs = a.fs_hz;
-    if !(fs > 0.0) || !fs.is_finite() || a.conditioned.is_empty() {
+    if !fs.is_finite() || fs <= 0.0 || a.conditioned.is_empty() {
         return draw_message(area, title, "no signal to show");
     }
     let n_show = ((TRACE_S * fs).ceil() as usize).min(a.conditioned.len());
@@ -345,7 +360,7 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
         .draw_series(LineSeries::new(pts, line_style(OI_BLUE, 2)))
         .ctx()?
         .label("conditioned lead")
-        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_BLUE, 3)));
+        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLUE, 3)));
     let detected: Vec<(f64, f64)> = a
         .beat_samples
         .iter()
@@ -363,7 +378,7 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
         )
         .ctx()?
         .label("detected beat")
-        .legend(|(x, y)| Circle::new((x + 20, y), 9, line_style(OI_VERMILLION, 3)));
+        .legend(|(x, y)| Circle::new((x + GLYPH_PX / 2, y), 9, line_style(OI_VERMILLION, 3)));
     let reference: Vec<(f64, f64)> = a
         .reference
         .beats
@@ -380,7 +395,7 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
             )
             .ctx()?
             .label("reference beat")
-            .legend(|(x, y)| TriangleMarker::new((x + 20, y), 11, OI_ORANGE.filled()));
+            .legend(|(x, y)| TriangleMarker::new((x + GLYPH_PX / 2, y), 11, OI_ORANGE.filled()));
     }
     draw_legend(&mut chart, SeriesLabelPosition::LowerRight)
 }
@@ -472,7 +487,7 @@ fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
         let series = chart.draw_series(LineSeries::new(pts, thin)).ctx()?;
         if k == 0 {
             series.label("beat window").legend(|(x, y)| {
-                PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_SKY, 3))
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_SKY, 3))
             });
         }
     }
@@ -481,7 +496,9 @@ fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
             .draw_series(LineSeries::new(template, line_style(OI_BLACK, 5)))
             .ctx()?
             .label("median template")
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_BLACK, 5)));
+            .legend(|(x, y)| {
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLACK, 5))
+            });
     }
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
@@ -535,10 +552,7 @@ fn draw_embedding<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
     ) else {
         return draw_message(area, title, "embedding holds no finite coordinates");
     };
-    let (c0, c1) = match axis_range(pts.iter().map(|p| p.2)) {
-        Some(r) => r,
-        None => (0.0, 1.0),
-    };
+    let (c0, c1) = axis_range(pts.iter().map(|p| p.2)).unwrap_or((0.0, 1.0));
     let (w, _) = area.dim_in_pixel();
     let (left, right) = area.split_horizontally(w.saturating_sub(300));
     let mut chart = ChartBuilder::on(&left)
@@ -637,7 +651,7 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
                 .draw_series(scaling.iter().map(|&p| Circle::new(p, 8, OI_BLUE.filled())))
                 .ctx()?
                 .label("held-out distortion")
-                .legend(|(x, y)| Circle::new((x + 20, y), 8, OI_BLUE.filled()));
+                .legend(|(x, y)| Circle::new((x + GLYPH_PX / 2, y), 8, OI_BLUE.filled()));
             if d.fit_slope.is_finite() && d.fit_intercept.is_finite() {
                 let line = [x0, x1].map(|x| (x, d.fit_intercept + d.fit_slope * x));
                 chart
@@ -645,7 +659,10 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
                     .ctx()?
                     .label(format!("fit, slope {:.3}", d.fit_slope))
                     .legend(|(x, y)| {
-                        PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_VERMILLION, 3))
+                        PathElement::new(
+                            vec![(x, y), (x + GLYPH_PX, y)],
+                            line_style(OI_VERMILLION, 3),
+                        )
                     });
             }
             draw_legend(&mut chart, SeriesLabelPosition::UpperRight)?;
@@ -653,9 +670,10 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
         _ => draw_message(&left, "Distortion against k", "no distortion values")?,
     }
 
-    // Right panel: local d against scale (log axis), noise regime shaded.
+    // Right panel: local d against scale (log10 axis), noise regime shaded.
+    let curve: Vec<(f64, f64)> = curve.iter().map(|&(s, dd)| (s.log10(), dd)).collect();
     let (Some((s0, s1)), Some((d0, d1))) = (
-        axis_range(curve.iter().map(|p| p.0.ln())),
+        axis_range(curve.iter().map(|p| p.0)),
         axis_range(
             curve
                 .iter()
@@ -665,14 +683,13 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
     ) else {
         return draw_message(&right, "Local dimension against scale", "no curve values");
     };
-    let (s0, s1) = (s0.exp(), s1.exp());
     let d0 = d0.min(0.0);
     let mut chart = ChartBuilder::on(&right)
         .caption("Local dimension against scale", (FONT, TITLE_PX))
         .margin(24)
         .x_label_area_size(90)
         .y_label_area_size(110)
-        .build_cartesian_2d((s0..s1).log_scale(), d0..d1)
+        .build_cartesian_2d(s0..s1, d0..d1)
         .ctx()?;
     chart
         .configure_mesh()
@@ -683,10 +700,15 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
         .light_line_style(RGBColor(235, 235, 235))
         .x_labels(6)
         .y_labels(8)
-        .x_label_formatter(&|v| format!("{v:.3e}"))
+        .x_label_formatter(&|v| scale_label(10f64.powf(*v)))
         .draw()
         .ctx()?;
-    if let Some(ns) = d.noise_scale.filter(|x| x.is_finite() && *x > s0) {
+    if let Some(ns) = d
+        .noise_scale
+        .filter(|x| x.is_finite() && *x > 0.0)
+        .map(f64::log10)
+        .filter(|&x| x > s0)
+    {
         chart
             .draw_series(std::iter::once(Rectangle::new(
                 [(s0, d0), (ns.min(s1), d1)],
@@ -695,7 +717,10 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
             .ctx()?
             .label("noise-dominated scales")
             .legend(|(x, y)| {
-                Rectangle::new([(x, y - 10), (x + 40, y + 10)], OI_ORANGE.mix(0.4).filled())
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_ORANGE.mix(0.4).filled(),
+                )
             });
     }
     if d.d.is_finite() {
@@ -703,13 +728,17 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
             .draw_series(LineSeries::new([(s0, d.d), (s1, d.d)], line_style(GREY, 2)))
             .ctx()?
             .label(format!("plateau d = {:.2}", d.d))
-            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 40, y)], line_style(GREY, 2)));
+            .legend(|(x, y)| {
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(GREY, 2))
+            });
     }
     chart
         .draw_series(LineSeries::new(curve.clone(), line_style(OI_GREEN, 3)))
         .ctx()?
         .label("local dimension")
-        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_GREEN, 3)));
+        .legend(|(x, y)| {
+            PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_GREEN, 3))
+        });
     chart
         .draw_series(curve.iter().map(|&p| Circle::new(p, 7, OI_GREEN.filled())))
         .ctx()?;
@@ -760,7 +789,7 @@ fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
         .draw_series(LineSeries::new(pts.clone(), line_style(OI_BLUE, 2)))
         .ctx()?
         .label("RR interval")
-        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 40, y)], line_style(OI_BLUE, 3)));
+        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLUE, 3)));
     if pts.len() <= 600 {
         chart
             .draw_series(pts.iter().map(|&p| Circle::new(p, 5, OI_BLUE.filled())))

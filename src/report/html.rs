@@ -58,10 +58,10 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
 <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
 <title>beatfold report: {name}</title>\n<style>{STYLE}</style>\n</head>\n<body>\n"
     );
-    let _ = write!(
+    let _ = writeln!(
         o,
         "<div class=\"notice\" role=\"note\"><strong>Research use only &mdash; not for diagnosis.</strong> \
-{}</div>\n",
+{}</div>",
         html_escape(crate::NOTICE)
     );
     let _ = writeln!(o, "<h1>beatfold report: {name}</h1>");

@@ -608,3 +608,19 @@ fn inconsistent_matrix_is_an_error_not_a_panic() {
     let svg = figures::render_svg(figures::Figure::Embedding, &a).unwrap();
     assert!(svg.contains("not enough beats"));
 }
+
+#[test]
+fn line_thinning_keeps_extremes() {
+    // A 100 000-point flat series with one spike up and one down: thinned to at most 2 points
+    // per bin, and both spikes survive (they are the point of a min/max thinning).
+    let mut pts: Vec<(f64, f64)> = (0..100_000).map(|i| (i as f64, 0.0)).collect();
+    pts[31_337].1 = 5.0;
+    pts[77_777].1 = -3.0;
+    pts[500].1 = f64::NAN;
+    let thin = figures::minmax_thin(&pts, 1000);
+    assert!(thin.len() <= 2000, "{}", thin.len());
+    assert!(thin.contains(&(31_337.0, 5.0)));
+    assert!(thin.contains(&(77_777.0, -3.0)));
+    assert!(thin.iter().all(|p| p.1.is_finite()));
+    assert!(thin.windows(2).all(|w| w[0].0 < w[1].0), "order kept");
+}
