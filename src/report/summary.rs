@@ -1,0 +1,87 @@
+//! `summary.json`: the headline numbers of an [`Analysis`] as stable JSON keys.
+//!
+//! Deterministic: no timestamps, keys in a fixed (sorted) order, so the same analysis always gives
+//! the same bytes. Non-finite numbers are written as `null`.
+
+use crate::pipeline::Analysis;
+use serde_json::{json, Value};
+
+/// A finite number as JSON, or `null`.
+fn num(x: f64) -> Value {
+    if x.is_finite() {
+        json!(x)
+    } else {
+        Value::Null
+    }
+}
+
+/// What `summary.json` holds for `a`: notice, version, provenance, beats, variability, detection
+/// score (or `null`), embedding, dimension, parameters and elapsed time.
+///
+/// Keys of `score` match the `"beats"` object of the `score` command's JSON; keys of `embedding`
+/// match the `embed` command's JSON.
+pub fn summary_json(a: &Analysis) -> Value {
+    let v = &a.variability;
+    let score = match &a.score {
+        Some(s) => json!({
+            "reference": s.reference,
+            "detected": s.detected,
+            "tp": s.tp,
+            "fp": s.fp,
+            "fn": s.fn_,
+            "se": num(s.se),
+            "ppv": num(s.ppv),
+            "match_window_ms": num(s.match_window_ms),
+        }),
+        None => Value::Null,
+    };
+    let e = &a.embedding;
+    let d = &a.dimension;
+    let curve: Vec<Value> = d
+        .curve
+        .iter()
+        .map(|p| json!({"scale": num(p.scale), "d": num(p.d)}))
+        .collect();
+    json!({
+        "notice": crate::NOTICE,
+        "beatfold_version": env!("CARGO_PKG_VERSION"),
+        "record": a.record_name,
+        "input_name": a.input_name,
+        "input_sha256": a.input_sha256,
+        "fs_hz": num(a.fs_hz),
+        "duration_s": num(a.duration_s),
+        "beats": {
+            "n_beats": a.beat_samples.len(),
+            "mean_hr_bpm": num(v.mean_hr_bpm),
+            "agreement": a.agreement.map_or(Value::Null, num),
+        },
+        "variability": {
+            "n_rr": v.n_rr,
+            "mean_hr_bpm": num(v.mean_hr_bpm),
+            "mean_rr_ms": num(v.mean_rr_ms),
+            "sdnn_ms": num(v.sdnn_ms),
+            "rmssd_ms": num(v.rmssd_ms),
+            "pnn50": num(v.pnn50),
+        },
+        "score": score,
+        "embedding": {
+            "n": e.n,
+            "components": e.components,
+            "eigenvalues": e.eigenvalues.iter().map(|&x| num(x)).collect::<Vec<_>>(),
+            "epsilon": num(e.epsilon),
+            "alpha": num(e.alpha),
+            "t": num(e.t),
+        },
+        "dimension": {
+            "d": num(d.d),
+            "noise_scale": d.noise_scale.map_or(Value::Null, num),
+            "scale_curve": curve,
+            "ks": d.ks,
+            "distortion": d.distortion.iter().map(|&x| num(x)).collect::<Vec<_>>(),
+            "fit_slope": num(d.fit_slope),
+            "fit_intercept": num(d.fit_intercept),
+        },
+        "parameters": a.parameters,
+        "elapsed_s": num(a.elapsed_s),
+    })
+}
