@@ -13,8 +13,13 @@ pub mod physionet;
 use crate::error::{Error, Result};
 use crate::points::Points;
 use crate::record::Record;
+use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicU64, Ordering};
+
+/// Counter that makes temporary names unique within the process.
+static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
 
 /// Options for reading a recording.
 #[derive(Debug, Clone, Default)]
@@ -192,26 +197,63 @@ pub fn sha256_file(path: &Path) -> Result<String> {
     Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
 
-/// Write `bytes` to `path` atomically: a temporary sibling file is written and fsynced, then
-/// renamed over `path`. On error the temporary file is removed and any existing `path` is intact.
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+/// A fresh temporary sibling of `path`: same folder, hidden name, ending in `suffix`.
+pub fn temp_sibling(path: &Path, suffix: &str) -> Result<PathBuf> {
     let name = path
         .file_name()
-        .ok_or_else(|| Error::output(path, "not a file path"))?
-        .to_string_lossy()
-        .into_owned();
-    let tmp = path.with_file_name(format!(".{name}.{}.tmp", std::process::id()));
-    let result = (|| -> std::io::Result<()> {
-        let mut f = std::fs::File::create(&tmp)?;
-        f.write_all(bytes)?;
-        f.sync_all()?;
-        std::fs::rename(&tmp, path)
+        .ok_or_else(|| Error::output(path, "output path has no file name"))?;
+    let n = TEMP_COUNTER.fetch_add(1, Ordering::Relaxed);
+    let tmp_name = format!(
+        ".{}.tmp-{}-{}{}",
+        name.to_string_lossy(),
+        std::process::id(),
+        n,
+        suffix
+    );
+    Ok(path.with_file_name(tmp_name))
+}
+
+/// Flush a finished temporary file to disk and rename it onto `path`; remove it on failure.
+pub fn commit_temp(tmp: &Path, path: &Path) -> Result<()> {
+    let result = (|| {
+        let f = fs::File::open(tmp).map_err(|e| Error::io(tmp, e))?;
+        f.sync_all().map_err(|e| Error::io(tmp, e))?;
+        drop(f);
+        fs::rename(tmp, path).map_err(|e| Error::io(path, e))?;
+        // Make the rename itself durable where the platform allows syncing a folder.
+        if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
+            if let Ok(d) = fs::File::open(dir) {
+                let _ = d.sync_all();
+            }
+        }
+        Ok(())
     })();
-    if let Err(e) = result {
-        let _ = std::fs::remove_file(&tmp);
-        return Err(Error::output(path, e.to_string()));
+    if result.is_err() {
+        let _ = fs::remove_file(tmp);
     }
-    Ok(())
+    result
+}
+
+/// Write `bytes` to `path` atomically: into a temporary sibling file, `fsync`, then rename over
+/// `path`. On failure the temporary file is removed and any existing file at `path` is left
+/// unchanged.
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    let tmp = temp_sibling(path, "")?;
+    let written = (|| {
+        let mut f = fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&tmp)
+            .map_err(|e| Error::io(&tmp, e))?;
+        f.write_all(bytes).map_err(|e| Error::io(&tmp, e))?;
+        f.sync_all().map_err(|e| Error::io(&tmp, e))?;
+        Ok(())
+    })();
+    if let Err(e) = written {
+        let _ = fs::remove_file(&tmp);
+        return Err(e);
+    }
+    commit_temp(&tmp, path)
 }
 
 #[cfg(test)]

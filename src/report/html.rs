@@ -201,6 +201,14 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
     row(&mut p, "beatfold version", env!("CARGO_PKG_VERSION"));
     row(&mut p, "Analysis time", &format!("{} s", f(a.elapsed_s, 2)));
     let _ = writeln!(o, "<h2>Provenance</h2>\n<table>\n{p}</table>");
+    if !a.notes.is_empty() {
+        let items: String = a
+            .notes
+            .iter()
+            .map(|n| format!("<li>{}</li>", html_escape(n)))
+            .collect();
+        let _ = writeln!(o, "<h2>What could not be computed</h2>\n<ul>{items}</ul>");
+    }
     let _ = write!(
         o,
         "<p class=\"foot\">{}</p>\n</body>\n</html>\n",

@@ -24,9 +24,7 @@ mod tests;
 use crate::error::{Error, Result};
 use crate::pipeline::Analysis;
 use std::fs;
-use std::io::Write;
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicU64, Ordering};
 
 pub use h5::write_results_h5;
 pub use summary::summary_json;
@@ -113,67 +111,8 @@ pub fn write_all(a: &Analysis, out_dir: &Path, opts: &ReportOptions) -> Result<W
     })
 }
 
-/// Counter that keeps temporary names unique within one process.
-static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
-
-/// A fresh temporary sibling of `path`: same folder, hidden name, ending in `suffix`.
-fn temp_sibling(path: &Path, suffix: &str) -> Result<PathBuf> {
-    let name = path
-        .file_name()
-        .ok_or_else(|| Error::output(path, "output path has no file name"))?;
-    let n = TEMP_COUNTER.fetch_add(1, Ordering::Relaxed);
-    let tmp_name = format!(
-        ".{}.tmp-{}-{}{}",
-        name.to_string_lossy(),
-        std::process::id(),
-        n,
-        suffix
-    );
-    Ok(path.with_file_name(tmp_name))
-}
-
-/// Flush a finished temporary file to disk and rename it onto `path`; remove it on failure.
-fn commit_temp(tmp: &Path, path: &Path) -> Result<()> {
-    let result = (|| {
-        let f = fs::File::open(tmp).map_err(|e| Error::io(tmp, e))?;
-        f.sync_all().map_err(|e| Error::io(tmp, e))?;
-        drop(f);
-        fs::rename(tmp, path).map_err(|e| Error::io(path, e))?;
-        // Make the rename itself durable where the platform allows syncing a folder.
-        if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
-            if let Ok(d) = fs::File::open(dir) {
-                let _ = d.sync_all();
-            }
-        }
-        Ok(())
-    })();
-    if result.is_err() {
-        let _ = fs::remove_file(tmp);
-    }
-    result
-}
-
-/// Write `bytes` to `path` atomically: into a temporary sibling file, `fsync`, then rename over
-/// `path`. On failure the temporary file is removed and any existing file at `path` is left
-/// unchanged.
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
-    let tmp = temp_sibling(path, "")?;
-    let written = (|| {
-        let mut f = fs::OpenOptions::new()
-            .write(true)
-            .create_new(true)
-            .open(&tmp)
-            .map_err(|e| Error::io(&tmp, e))?;
-        f.write_all(bytes).map_err(|e| Error::io(&tmp, e))?;
-        f.sync_all().map_err(|e| Error::io(&tmp, e))?;
-        Ok(())
-    })();
-    if let Err(e) = written {
-        let _ = fs::remove_file(&tmp);
-        return Err(e);
-    }
-    commit_temp(&tmp, path)
-}
+pub use crate::io::write_atomic;
+use crate::io::{commit_temp, temp_sibling};
 
 /// Escape text for HTML element content and attribute values: `&`, `<`, `>`, `"` and `'`.
 pub fn html_escape(s: &str) -> String {

@@ -82,6 +82,8 @@ pub fn summary_json(a: &Analysis) -> Value {
             "fit_intercept": num(d.fit_intercept),
         },
         "parameters": a.parameters,
-        "elapsed_s": num(a.elapsed_s),
+        // Wall time is left out so that the same input and seed give a byte-identical file; it is
+        // in the HTML page and the results file.
+        "notes": a.notes,
     })
 }
