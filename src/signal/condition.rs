@@ -1,5 +1,6 @@
 //! The conditioning chain for one lead: fill non-finite samples, zero-phase Butterworth
-//! band-pass, zero-phase mains notch, and baseline removal by a two-stage median filter.
+//! band-pass and mains notch (one cascade of sections, run forward and backward), and baseline
+//! removal by a two-stage median filter.
 //!
 //! In: samples and their rate `fs_hz`, plus [`ConditionParams`]. Out: conditioned samples of the
 //! same length. [`Conditioner`] holds the filters designed for one sampling rate, so a record's
@@ -103,8 +104,8 @@ impl ConditionParams {
 #[derive(Debug, Clone)]
 pub struct Conditioner {
     fs_hz: f64,
-    band: Sos,
-    notch: Option<Sos>,
+    /// Band-pass sections followed by the notch section, applied forward and backward in one go.
+    chain: Sos,
     baseline: Option<Baseline>,
 }
 
@@ -141,9 +142,9 @@ impl Conditioner {
             ));
         }
         let band = Sos::butter_bandpass(p.order, p.band_hz.0, p.band_hz.1, fs_hz)?;
-        let notch = match p.notch_hz {
-            Some(f0) => Some(Sos::notch(f0, p.notch_q, fs_hz)?),
-            None => None,
+        let chain = match p.notch_hz {
+            Some(f0) => band.then(&Sos::notch(f0, p.notch_q, fs_hz)?)?,
+            None => band,
         };
         let baseline = if p.remove_baseline {
             let block = ((fs_hz / BASELINE_RATE_HZ).floor() as usize).max(1);
@@ -158,10 +159,14 @@ impl Conditioner {
         };
         Ok(Conditioner {
             fs_hz,
-            band,
-            notch,
+            chain,
             baseline,
         })
+    }
+
+    /// The band-pass (and notch) cascade applied forward and backward.
+    pub fn filter(&self) -> &Sos {
+        &self.chain
     }
 
     /// Sampling rate the filters were designed for, Hz.
@@ -174,12 +179,11 @@ impl Conditioner {
         if x.is_empty() {
             return Ok(Vec::new());
         }
-        let filled = fill_non_finite(x)?;
-        let mut y = self.band.filtfilt(&filled);
-        drop(filled);
-        if let Some(notch) = &self.notch {
-            y = notch.filtfilt(&y);
-        }
+        let mut y = if x.iter().all(|v| v.is_finite()) {
+            self.chain.filtfilt(x)
+        } else {
+            self.chain.filtfilt(&fill_non_finite(x)?)
+        };
         if let Some(b) = self.baseline {
             subtract_baseline(&mut y, b);
         }

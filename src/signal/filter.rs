@@ -291,32 +291,26 @@ impl Sos {
     /// Causal filtering (zero initial state), direct form II transposed per section.
     pub fn filter(&self, x: &[f64]) -> Vec<f64> {
         let mut y = x.to_vec();
-        self.filter_in_place(&mut y, None);
+        self.filter_in_place(&mut y, None, false);
         y
     }
 
-    /// Filter `y` in place; `init` scales the steady-state state (None: zero state).
-    fn filter_in_place(&self, y: &mut [f64], init: Option<f64>) {
+    /// Filter `y` in place (backwards in time when `reverse`); `init` scales the steady-state
+    /// state (None: zero state).
+    fn filter_in_place(&self, y: &mut [f64], init: Option<f64>, reverse: bool) {
         let mut level = init.unwrap_or(0.0);
+        let mut state = Vec::with_capacity(self.sections.len());
         for s in &self.sections {
-            let [b0, b1, b2] = s.b;
-            let [a1, a2] = s.a;
-            let (mut z0, mut z1) = match init {
+            match init {
                 Some(_) => {
                     let st = s.unit_step_state();
-                    (st[0] * level, st[1] * level)
+                    state.push([st[0] * level, st[1] * level]);
                 }
-                None => (0.0, 0.0),
-            };
-            level *= s.dc_gain();
-            for v in y.iter_mut() {
-                let xin = *v;
-                let out = b0 * xin + z0;
-                z0 = b1 * xin - a1 * out + z1;
-                z1 = b2 * xin - a2 * out;
-                *v = out;
+                None => state.push([0.0; 2]),
             }
+            level *= s.dc_gain();
         }
+        run_sections(&self.sections, &mut state, y, reverse);
     }
 
     /// A zero state for [`Sos::filter_with_state`].
@@ -331,19 +325,26 @@ impl Sos {
         if state.len() != self.sections.len() {
             *state = self.zero_state();
         }
-        for (s, st) in self.sections.iter().zip(state.iter_mut()) {
-            let [b0, b1, b2] = s.b;
-            let [a1, a2] = s.a;
-            let [mut z0, mut z1] = *st;
-            for v in y.iter_mut() {
-                let xin = *v;
-                let out = b0 * xin + z0;
-                z0 = b1 * xin - a1 * out + z1;
-                z1 = b2 * xin - a2 * out;
-                *v = out;
-            }
-            *st = [z0, z1];
+        run_sections(&self.sections, state, y, false);
+    }
+
+    /// A filter that applies `self` and then `other` (same sampling rate required).
+    pub fn then(&self, other: &Sos) -> Result<Sos> {
+        if self.fs_hz != other.fs_hz {
+            return Err(Error::param(
+                "fs_hz",
+                format!(
+                    "cannot chain filters designed for {} Hz and {} Hz",
+                    self.fs_hz, other.fs_hz
+                ),
+            ));
         }
+        let mut sections = self.sections.clone();
+        sections.extend_from_slice(&other.sections);
+        Ok(Sos {
+            sections,
+            fs_hz: self.fs_hz,
+        })
     }
 
     /// Default pad length of [`Sos::filtfilt`]: `3·(2·sections + 1 − min(#b2 = 0, #a2 = 0))`,
@@ -374,14 +375,61 @@ impl Sos {
         ext.extend_from_slice(x);
         ext.extend((1..=pad).map(|k| 2.0 * last - x[n - 1 - k]));
         let x0 = ext[0];
-        self.filter_in_place(&mut ext, Some(x0));
-        ext.reverse();
-        let y0 = ext[0];
-        self.filter_in_place(&mut ext, Some(y0));
-        ext.reverse();
+        self.filter_in_place(&mut ext, Some(x0), false);
+        let y0 = ext[ext.len() - 1];
+        self.filter_in_place(&mut ext, Some(y0), true);
         ext.truncate(pad + n);
         ext.drain(..pad);
         ext
+    }
+}
+
+/// Run the cascade over `y` in place, sections in groups of up to four per pass so that the
+/// sections' recursions overlap in the processor's pipeline.
+fn run_sections(sections: &[Section], state: &mut [[f64; 2]], y: &mut [f64], reverse: bool) {
+    for (secs, st) in sections.chunks(4).zip(state.chunks_mut(4)) {
+        match (secs, st) {
+            ([a], [sa]) => run_group::<1>(&[*a], std::slice::from_mut(sa), y, reverse),
+            ([a, b], st2) => run_group::<2>(&[*a, *b], st2, y, reverse),
+            ([a, b, c], st3) => run_group::<3>(&[*a, *b, *c], st3, y, reverse),
+            ([a, b, c, d], st4) => run_group::<4>(&[*a, *b, *c, *d], st4, y, reverse),
+            _ => {}
+        }
+    }
+}
+
+fn run_group<const K: usize>(
+    secs: &[Section; K],
+    st: &mut [[f64; 2]],
+    y: &mut [f64],
+    reverse: bool,
+) {
+    let mut z = [[0.0f64; 2]; K];
+    for (zk, sk) in z.iter_mut().zip(st.iter()) {
+        *zk = *sk;
+    }
+    let step = |v: &mut f64, z: &mut [[f64; 2]; K]| {
+        let mut u = *v;
+        for k in 0..K {
+            let s = &secs[k];
+            let out = s.b[0] * u + z[k][0];
+            z[k][0] = s.b[1] * u - s.a[0] * out + z[k][1];
+            z[k][1] = s.b[2] * u - s.a[1] * out;
+            u = out;
+        }
+        *v = u;
+    };
+    if reverse {
+        for v in y.iter_mut().rev() {
+            step(v, &mut z);
+        }
+    } else {
+        for v in y.iter_mut() {
+            step(v, &mut z);
+        }
+    }
+    for (sk, zk) in st.iter_mut().zip(z.iter()) {
+        *sk = *zk;
     }
 }
 
