@@ -200,24 +200,32 @@ fn subtract_baseline(y: &mut [f64], b: Baseline) {
         .collect();
     let stage1 = sliding_median(&means, b.window1);
     let base = sliding_median(&stage1, b.window2);
-    // Block j is centred at j·k + (k − 1)/2 (the last block may be shorter; its centre is taken
-    // the same way, which is within k/2 samples).
-    let centre = |j: usize| j as f64 * k as f64 + 0.5 * (k as f64 - 1.0);
-    let m = base.len();
-    for (i, v) in y.iter_mut().enumerate().take(n) {
-        let pos = (i as f64 - 0.5 * (k as f64 - 1.0)) / k as f64;
-        let bl = if pos <= 0.0 || m < 2 {
-            base.first().copied().unwrap_or(0.0)
-        } else {
-            let j = pos.floor() as usize;
-            if j + 1 >= m {
-                base[m - 1]
-            } else {
-                let t = (i as f64 - centre(j)) / k as f64;
-                base[j] * (1.0 - t) + base[j + 1] * t
-            }
-        };
-        *v -= bl;
+    // Block j is centred at c_j = j·k + (k − 1)/2; interpolate linearly between centres and
+    // hold the end values outside the first and last centre.
+    let kf = k as f64;
+    let c0 = 0.5 * (kf - 1.0);
+    let (first, last) = match (base.first(), base.last()) {
+        (Some(&f), Some(&l)) => (f, l),
+        _ => return,
+    };
+    let mut i = 0usize;
+    while i < n && (i as f64) <= c0 {
+        y[i] -= first;
+        i += 1;
+    }
+    for (j, pair) in base.windows(2).enumerate() {
+        let (b0, b1) = (pair[0], pair[1]);
+        let cj = j as f64 * kf + c0;
+        let slope = (b1 - b0) / kf;
+        let end = (cj + kf).floor() as usize;
+        while i < n && i <= end {
+            y[i] -= b0 + slope * (i as f64 - cj);
+            i += 1;
+        }
+    }
+    while i < n {
+        y[i] -= last;
+        i += 1;
     }
 }
 
@@ -246,9 +254,9 @@ pub fn fill_non_finite(x: &[f64]) -> Result<Vec<f64>> {
                 let a = y[last_good];
                 let b = y[i];
                 let span = (i - last_good) as f64;
-                for j in last_good + 1..i {
-                    let t = (j - last_good) as f64 / span;
-                    y[j] = a + (b - a) * t;
+                for (step, v) in y[last_good + 1..i].iter_mut().enumerate() {
+                    let t = (step + 1) as f64 / span;
+                    *v = a + (b - a) * t;
                 }
             }
             last_good = i;

@@ -149,17 +149,16 @@ impl Sos {
             |s: Complex64| (Complex64::new(fs2, 0.0) + s) / (Complex64::new(fs2, 0.0) - s);
         // Analogue poles after the frequency transform, then digital poles.
         let mut analog = Vec::with_capacity(2 * order);
-        let reference_hz;
-        match kind {
+        let reference_hz = match kind {
             Kind::Low => {
                 let wc = prewarp(low_hz, fs_hz);
                 analog.extend(proto.iter().map(|p| p * wc));
-                reference_hz = 0.0;
+                0.0
             }
             Kind::High => {
                 let wc = prewarp(low_hz, fs_hz);
                 analog.extend(proto.iter().map(|p| Complex64::new(wc, 0.0) / p));
-                reference_hz = 0.5 * fs_hz;
+                0.5 * fs_hz
             }
             Kind::Band => {
                 let w1 = prewarp(low_hz, fs_hz);
@@ -175,9 +174,9 @@ impl Sos {
                 }
                 // The analogue band-pass has unit gain at w0; the bilinear map sends w0 to this
                 // digital frequency.
-                reference_hz = fs_hz / std::f64::consts::PI * (w0 / fs2).atan();
+                fs_hz / std::f64::consts::PI * (w0 / fs2).atan()
             }
-        }
+        };
         let digital: Vec<Complex64> = analog.into_iter().map(bilinear).collect();
         let mut poles = pole_sections(&digital);
         // Poles nearest the unit circle last (smaller intermediate gains).

@@ -23,13 +23,17 @@ pub fn sliding_median(x: &[f64], window: usize) -> Vec<f64> {
     for i in 0..n {
         out.push(middle(&sorted));
         // Move to i + 1: add x[i + 1 + half], drop x[i - half].
-        if let Some(&v) = x.get(i + 1 + half) {
-            insert(&mut sorted, v);
-        }
-        if i >= half {
-            if let Some(&v) = x.get(i - half) {
-                remove(&mut sorted, v);
-            }
+        let incoming = x.get(i + 1 + half).copied();
+        let outgoing = if i >= half {
+            x.get(i - half).copied()
+        } else {
+            None
+        };
+        match (incoming, outgoing) {
+            (Some(v), Some(old)) => replace(&mut sorted, old, v),
+            (Some(v), None) => insert(&mut sorted, v),
+            (None, Some(old)) => remove(&mut sorted, old),
+            (None, None) => {}
         }
     }
     out
@@ -38,6 +42,24 @@ pub fn sliding_median(x: &[f64], window: usize) -> Vec<f64> {
 fn insert(sorted: &mut Vec<f64>, v: f64) {
     let pos = sorted.partition_point(|a| a.total_cmp(&v).is_lt());
     sorted.insert(pos, v);
+}
+
+/// Replace one occurrence of `old` by `new` and restore the order by moving `new` into place
+/// (an insertion-sort step; moves only the elements between the two positions).
+fn replace(sorted: &mut [f64], old: f64, new: f64) {
+    let mut pos = sorted.partition_point(|a| a.total_cmp(&old).is_lt());
+    if pos >= sorted.len() {
+        return;
+    }
+    sorted[pos] = new;
+    while pos > 0 && sorted[pos - 1].total_cmp(&new).is_gt() {
+        sorted.swap(pos - 1, pos);
+        pos -= 1;
+    }
+    while pos + 1 < sorted.len() && sorted[pos + 1].total_cmp(&new).is_lt() {
+        sorted.swap(pos, pos + 1);
+        pos += 1;
+    }
 }
 
 fn remove(sorted: &mut Vec<f64>, v: f64) {
