@@ -2,8 +2,22 @@
 //!
 //! In: a lead (raw samples) and its rate. Out: R-peak sample indices, RR intervals, and, when a
 //! reference is given, a [`Score`] by the ANSI/AAMI EC57 matching rule.
+//!
+//! Submodules: [`pan_tompkins`] (the detector of Pan & Tompkins 1985 with its checked
+//! [`DetectParams`]; [`PanTompkins`] is designed once per sampling rate and run on many leads),
+//! [`elgendi`] (an independent second detector, Elgendi et al. 2013) and [`scoring`] (EC57 beat matching, RR intervals, beat agreement of Li, Mark & Clifford 2008).
 
 use serde::{Deserialize, Serialize};
+
+pub mod elgendi;
+pub mod pan_tompkins;
+pub mod scoring;
+#[cfg(test)]
+mod testsig;
+
+pub use elgendi::{elgendi, ElgendiParams};
+pub use pan_tompkins::{pan_tompkins, DetectParams, Detection, PanTompkins};
+pub use scoring::{agreement, agreement_windows, rr_intervals_s, score, score_between};
 
 /// Beat-by-beat comparison of detected beats against reference beats.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]

@@ -3,8 +3,22 @@
 //!
 //! In: one lead's samples and its sampling rate in Hz. Out: the conditioned samples (same length)
 //! and [`QualitySegment`]s.
+//!
+//! Submodules: [`filter`] (Butterworth and notch designs as second-order sections, causal and
+//! zero-phase application), [`median`] (sliding-window median), [`condition`] (the conditioning
+//! chain with its checked [`ConditionParams`]), [`quality`] (per-segment flags).
+//! Filters are designed once per sampling rate ([`Conditioner::new`]) and applied to many leads.
 
 use serde::{Deserialize, Serialize};
+
+pub mod condition;
+pub mod filter;
+pub mod median;
+pub mod quality;
+
+pub use condition::{condition, fill_non_finite, ConditionParams, Conditioner};
+pub use filter::{Section, Sos};
+pub use quality::quality;
 
 /// Quality flags of one segment of a lead.
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
