@@ -10,12 +10,14 @@
 use serde::{Deserialize, Serialize};
 
 pub mod elgendi;
+pub mod labels;
 pub mod pan_tompkins;
 pub mod scoring;
 #[cfg(test)]
 mod testsig;
 
 pub use elgendi::{elgendi, ElgendiParams};
+pub use labels::label_beats;
 pub use pan_tompkins::{pan_tompkins, DetectParams, Detection, PanTompkins};
 pub use scoring::{agreement, agreement_windows, rr_intervals_s, score, score_between};
 
