@@ -33,3 +33,9 @@ pub struct ScalingCurve {
     /// Scale below which d climbs steeply (noise-dominated regime), if detected.
     pub noise_scale: Option<f64>,
 }
+
+mod kmeans;
+mod scaling;
+
+pub use kmeans::{distortion, kmeans, KmeansFit};
+pub use scaling::{kmeans_scaling, KmeansScalingParams};

@@ -318,10 +318,23 @@ mod tests {
         // Windows never fit: 0.7 s at 250 Hz is 175 samples, record 100 samples.
         assert!(beat_features(&x[..100], 250.0, &[40, 60], &p).is_err());
         for bad in [
-            FeatureParams { pre_s: -0.1, ..p.clone() },
-            FeatureParams { pre_s: 0.0, post_s: 0.0, ..p.clone() },
-            FeatureParams { decimate_to_hz: 0.0, ..p.clone() },
-            FeatureParams { rr_weight: f64::NAN, ..p.clone() },
+            FeatureParams {
+                pre_s: -0.1,
+                ..p.clone()
+            },
+            FeatureParams {
+                pre_s: 0.0,
+                post_s: 0.0,
+                ..p.clone()
+            },
+            FeatureParams {
+                decimate_to_hz: 0.0,
+                ..p.clone()
+            },
+            FeatureParams {
+                rr_weight: f64::NAN,
+                ..p.clone()
+            },
         ] {
             assert!(matches!(bad.check(), Err(Error::Param { .. })));
         }
