@@ -39,3 +39,9 @@ mod scaling;
 
 pub use kmeans::{distortion, kmeans, KmeansFit};
 pub use scaling::{kmeans_scaling, KmeansScalingParams};
+
+mod knn;
+mod nn_estimators;
+
+pub use knn::knn_distances;
+pub use nn_estimators::{mle, twonn};
