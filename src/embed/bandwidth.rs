@@ -18,6 +18,8 @@ use rayon::prelude::*;
 const MAX_SUBSAMPLE: usize = 1000;
 /// Grid points per factor 2 of ε.
 const STEPS_PER_OCTAVE: usize = 4;
+/// Cap on the number of grid points.
+const MAX_STEPS: usize = 400;
 
 /// The kernel-sum curve: `(ε, S(ε))` on a log grid spanning the pairwise squared distances of
 /// a seeded subsample (at most 1000 points) of `points`.
@@ -56,10 +58,13 @@ pub fn kernel_sum_curve(points: &Points, seed: u64) -> Result<Vec<(f64, f64)>> {
     // From well below the smallest to well above the largest squared distance.
     let e_lo = lo / 16.0;
     let e_hi = hi * 16.0;
-    let steps = ((e_hi / e_lo).log2() * STEPS_PER_OCTAVE as f64).ceil() as usize + 1;
+    // At most MAX_STEPS grid points: coarser steps when the distances span a huge range.
+    let octaves = (e_hi / e_lo).log2();
+    let steps = ((octaves * STEPS_PER_OCTAVE as f64).ceil() as usize + 1).min(MAX_STEPS);
+    let step = octaves / (steps - 1) as f64;
     let curve = (0..steps)
         .map(|s| {
-            let eps = e_lo * 2f64.powf(s as f64 / STEPS_PER_OCTAVE as f64);
+            let eps = e_lo * 2f64.powf(s as f64 * step);
             let off: f64 = d2.par_iter().map(|&v| (-v / eps).exp()).sum();
             (eps, n as f64 + 2.0 * off)
         })

@@ -6,7 +6,8 @@
 //! Method: diffusion maps (Coifman & Lafon 2006, Appl. Comput. Harmon. Anal. 21:5–30). On the fit
 //! set (all points, or a seeded random subset of `max_fit_points` landmarks):
 //! K_ij = exp(−‖x_i−x_j‖²/ε); q_i = Σ_j K_ij; K^α_ij = K_ij/(q_i^α q_j^α); d_i = Σ_j K^α_ij;
-//! the symmetric S = D^{−½} K^α D^{−½} is eigen-decomposed densely (faer); ψ_l = v_l·√(Σd/d),
+//! the top eigenpairs of the symmetric S = D^{−½} K^α D^{−½} are found with faer (thick-restart
+//! Lanczos on the dense matrix, dense decomposition as fallback); ψ_l = v_l·√(Σd/d),
 //! so the top, trivial ψ_0 = 1 and the ψ_l are orthonormal under the stationary measure d/Σd.
 //! Coordinates are ψ_l·λ_l^t for l = 1..components. Points outside the fit set are placed by
 //! the Nyström extension ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j) with the same α normalisation
@@ -21,9 +22,13 @@ use super::bandwidth::auto_epsilon;
 use super::Embedding;
 use crate::error::{Error, Result};
 use crate::points::Points;
-use faer::{Mat, Side};
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::matrix_free::eigen::{
+    partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,
+};
+use faer::{Col, Mat, Side};
 use rand::seq::index::sample;
-use rand::SeedableRng;
+use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -189,22 +194,15 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     let sd: Vec<f64> = d.iter().map(|v| v.sqrt()).collect();
     let s = Mat::<f64>::from_fn(m, m, |i, j| k[i * m + j] / (sd[i] * sd[j]));
     drop(k);
-    let eig = s
-        .self_adjoint_eigen(Side::Lower)
-        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    let (vals, u) = top_eigen(&s, c + 1, p.seed)?;
     drop(s);
-    let vals = eig.S().column_vector();
-    let u = eig.U();
     let sum_d: f64 = d.iter().sum();
     let mut psi = vec![0.0; m * c];
     let mut eigenvalues = Vec::with_capacity(c);
     for l in 1..=c {
-        // Eigenvalues come in non-decreasing order: the top one (l = 0) is the trivial one.
-        let col = m - 1 - l;
-        eigenvalues.push(vals[col]);
-        let mut v: Vec<f64> = (0..m)
-            .map(|i| u[(i, col)] * (sum_d / d[i]).sqrt())
-            .collect();
+        // Eigenpairs come in non-increasing order: the top one (l = 0) is the trivial one.
+        eigenvalues.push(vals[l]);
+        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_d / d[i]).sqrt()).collect();
         let mut big = 0.0f64;
         for &x in &v {
             if x.abs() > big.abs() {
@@ -228,6 +226,56 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
         alpha: p.alpha,
         t: p.t,
     })
+}
+
+/// The `nev` largest eigenpairs of the symmetric positive semi-definite `s`, eigenvalues in
+/// non-increasing order, eigenvectors as columns. Thick-restart Lanczos
+/// (`faer::matrix_free::eigen::partial_self_adjoint_eigen`, started from a seeded random
+/// vector); when the matrix is small or not every pair converges, a dense symmetric
+/// eigendecomposition instead.
+fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)> {
+    let m = s.nrows();
+    if m > 4 * nev.max(32) {
+        let par = faer::get_global_parallelism();
+        let params = PartialEigenParams::default();
+        let mut mem = MemBuffer::new(partial_self_adjoint_eigen_scratch(s, nev, par, params));
+        let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5eed_1a2c);
+        let v0 = Col::<f64>::from_fn(m, |_| rng.gen::<f64>() - 0.5);
+        let mut vecs = Mat::<f64>::zeros(m, nev);
+        let mut vals = vec![0.0; nev];
+        let info = partial_self_adjoint_eigen(
+            vecs.as_mut(),
+            &mut vals,
+            s,
+            v0.as_ref(),
+            1e-11,
+            par,
+            MemStack::new(&mut mem),
+            params,
+        );
+        if info.n_converged_eigen >= nev && vals.iter().all(|v| v.is_finite()) {
+            let mut order: Vec<usize> = (0..nev).collect();
+            order.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]).then(a.cmp(&b)));
+            let sorted = order.iter().map(|&i| vals[i]).collect();
+            let u = Mat::<f64>::from_fn(m, nev, |i, j| vecs[(i, order[j])]);
+            return Ok((sorted, u));
+        }
+    }
+    dense_top_eigen(s, nev)
+}
+
+/// The `nev` largest eigenpairs by a dense symmetric eigendecomposition (non-increasing order).
+fn dense_top_eigen(s: &Mat<f64>, nev: usize) -> Result<(Vec<f64>, Mat<f64>)> {
+    let m = s.nrows();
+    let eig = s
+        .self_adjoint_eigen(Side::Lower)
+        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    let vals = eig.S().column_vector();
+    let u = eig.U();
+    // Dense eigenvalues come in non-decreasing order.
+    let sorted = (0..nev).map(|l| vals[m - 1 - l]).collect();
+    let top = Mat::<f64>::from_fn(m, nev, |i, j| u[(i, m - 1 - j)]);
+    Ok((sorted, top))
 }
 
 impl DiffusionModel {
@@ -344,7 +392,6 @@ pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use rand::Rng;
     use std::f64::consts::PI;
 
     /// `n` seeded uniform angles and the points (cos θ, sin θ) on the unit circle.
@@ -554,6 +601,22 @@ mod tests {
         let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
         let rc = r2(&cos, &col(&emb.coords, 2, 0), &col(&emb.coords, 2, 1));
         assert!(rc > 0.98, "R2 {rc}");
+    }
+
+    #[test]
+    fn lanczos_agrees_with_dense() {
+        // Same top eigenpairs from both solver paths on a 400-point Gaussian kernel matrix.
+        let (_, pts) = swiss_roll(400, 1);
+        let s = Mat::<f64>::from_fn(400, 400, |i, j| {
+            (-Points::dist2(pts.row(i), pts.row(j)) / 20.0).exp() / 400.0
+        });
+        let (a, ua) = top_eigen(&s, 6, 0).unwrap();
+        let (b, ub) = dense_top_eigen(&s, 6).unwrap();
+        for l in 0..6 {
+            assert!((a[l] - b[l]).abs() < 1e-9, "{a:?} vs {b:?}");
+            let dot: f64 = (0..400).map(|i| ua[(i, l)] * ub[(i, l)]).sum();
+            assert!((dot.abs() - 1.0).abs() < 1e-6, "vector {l}: |dot| {dot}");
+        }
     }
 
     #[test]
