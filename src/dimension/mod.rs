@@ -33,3 +33,15 @@ pub struct ScalingCurve {
     /// Scale below which d climbs steeply (noise-dominated regime), if detected.
     pub noise_scale: Option<f64>,
 }
+
+mod kmeans;
+mod scaling;
+
+pub use kmeans::{distortion, kmeans, KmeansFit};
+pub use scaling::{kmeans_scaling, KmeansScalingParams};
+
+mod knn;
+mod nn_estimators;
+
+pub use knn::knn_distances;
+pub use nn_estimators::{mle, twonn};

@@ -23,3 +23,9 @@ pub struct Embedding {
     /// Diffusion time t.
     pub t: f64,
 }
+
+mod bandwidth;
+mod diffusion;
+
+pub use bandwidth::{auto_epsilon, kernel_sum_curve};
+pub use diffusion::{diffusion_map, fit, DiffusionModel, DiffusionParams};

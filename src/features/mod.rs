@@ -15,3 +15,7 @@ pub struct Features {
     /// For each row, the index of its beat in the detection list.
     pub beat_index: Vec<usize>,
 }
+
+mod window;
+
+pub use window::{beat_features, beat_features_scaled, FeatureParams};

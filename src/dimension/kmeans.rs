@@ -1,0 +1,269 @@
+//! k-means clustering: k-means++ seeding and Lloyd iterations, best of several restarts.
+//!
+//! In: [`Points`], the number of centres k, restarts, an iteration cap and a seed. Out: a
+//! [`KmeansFit`] (centres, inertia, labels).
+//! Methods: k-means++ seeding (Arthur & Vassilvitskii 2007): the first centre uniformly at
+//! random, each next one drawn with probability proportional to the squared distance to the
+//! nearest centre chosen so far; then Lloyd's iterations (Lloyd 1982): assign every point to its
+//! nearest centre (in parallel), move each centre to the mean of its points, until no
+//! assignment changes or `max_iter` is reached. An emptied cluster is re-seeded at the point
+//! farthest from its centre. Sums are accumulated in fixed chunks and added in order, so results
+//! do not depend on the thread count.
+
+use crate::error::{Error, Result};
+use crate::points::Points;
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+/// Points per chunk for the parallel centre sums (fixed, so sums are reproducible).
+const CHUNK: usize = 2048;
+
+/// A k-means solution.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct KmeansFit {
+    /// The k centres, one per row.
+    pub centres: Points,
+    /// Sum over points of the squared distance to the nearest centre.
+    pub inertia: f64,
+    /// Index of the nearest centre of every input point.
+    pub labels: Vec<usize>,
+    /// Lloyd iterations run in the chosen restart.
+    pub iterations: usize,
+}
+
+/// Index of the nearest centre and the squared distance to it.
+fn nearest(x: &[f64], centres: &Points) -> (usize, f64) {
+    let mut best = (0, f64::INFINITY);
+    for (c, row) in centres.rows().enumerate() {
+        let d = Points::dist2(x, row);
+        if d < best.1 {
+            best = (c, d);
+        }
+    }
+    best
+}
+
+/// Mean squared distance from each point to its nearest centre (the distortion D).
+///
+/// Errors: no points, no centres, or different dimensions.
+pub fn distortion(points: &Points, centres: &Points) -> Result<f64> {
+    if points.n == 0 || centres.n == 0 || points.dim != centres.dim {
+        return Err(Error::Analysis(format!(
+            "distortion needs points and centres of one dimension, got {} × {} and {} × {}",
+            points.n, points.dim, centres.n, centres.dim
+        )));
+    }
+    let parts: Vec<f64> = points
+        .data
+        .par_chunks(CHUNK * points.dim)
+        .map(|chunk| {
+            chunk
+                .chunks_exact(points.dim)
+                .map(|x| nearest(x, centres).1)
+                .sum()
+        })
+        .collect();
+    Ok(parts.iter().sum::<f64>() / points.n as f64)
+}
+
+/// k-means++ seeding.
+fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
+    let dim = points.dim;
+    let mut data = Vec::with_capacity(k * dim);
+    let first = rng.gen_range(0..points.n);
+    data.extend_from_slice(points.row(first));
+    let mut d2: Vec<f64> = points
+        .data
+        .par_chunks_exact(dim)
+        .map(|x| Points::dist2(x, points.row(first)))
+        .collect();
+    for _ in 1..k {
+        let total: f64 = d2.iter().sum();
+        let pick = if total > 0.0 {
+            let target = rng.gen::<f64>() * total;
+            let mut acc = 0.0;
+            let mut pick = points.n - 1;
+            for (i, &v) in d2.iter().enumerate() {
+                acc += v;
+                if acc > target && v > 0.0 {
+                    pick = i;
+                    break;
+                }
+            }
+            pick
+        } else {
+            // Fewer distinct points than centres: duplicates are unavoidable.
+            rng.gen_range(0..points.n)
+        };
+        let c = points.row(pick).to_vec();
+        d2.par_iter_mut()
+            .zip(points.data.par_chunks_exact(dim))
+            .for_each(|(v, x)| *v = v.min(Points::dist2(x, &c)));
+        data.extend_from_slice(&c);
+    }
+    Points { n: k, dim, data }
+}
+
+/// One k-means++ + Lloyd run.
+fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> KmeansFit {
+    let dim = points.dim;
+    let mut centres = seed_centres(points, k, rng);
+    let mut labels = vec![usize::MAX; points.n];
+    let mut iterations = 0;
+    loop {
+        let assign: Vec<(usize, f64)> = points
+            .data
+            .par_chunks_exact(dim)
+            .map(|x| nearest(x, &centres))
+            .collect();
+        let changed = assign.iter().zip(&labels).any(|(a, &l)| a.0 != l);
+        for (l, a) in labels.iter_mut().zip(&assign) {
+            *l = a.0;
+        }
+        if !changed || iterations >= max_iter {
+            let inertia = assign.iter().map(|a| a.1).sum();
+            return KmeansFit {
+                centres,
+                inertia,
+                labels,
+                iterations,
+            };
+        }
+        iterations += 1;
+        // Centre sums per fixed chunk, then added in chunk order.
+        let parts: Vec<(Vec<f64>, Vec<usize>)> = points
+            .data
+            .par_chunks(CHUNK * dim)
+            .zip(labels.par_chunks(CHUNK))
+            .map(|(xs, ls)| {
+                let mut s = vec![0.0; k * dim];
+                let mut cnt = vec![0usize; k];
+                for (x, &l) in xs.chunks_exact(dim).zip(ls) {
+                    cnt[l] += 1;
+                    for (a, b) in s[l * dim..(l + 1) * dim].iter_mut().zip(x) {
+                        *a += b;
+                    }
+                }
+                (s, cnt)
+            })
+            .collect();
+        let mut sums = vec![0.0; k * dim];
+        let mut counts = vec![0usize; k];
+        for (s, c) in parts {
+            for (a, b) in sums.iter_mut().zip(s) {
+                *a += b;
+            }
+            for (a, b) in counts.iter_mut().zip(c) {
+                *a += b;
+            }
+        }
+        // Points ordered by distance to their centre, farthest first, for re-seeding.
+        let mut far: Vec<usize> = Vec::new();
+        let mut far_next = 0;
+        for c in 0..k {
+            let row = &mut centres.data[c * dim..(c + 1) * dim];
+            if counts[c] > 0 {
+                for (r, s) in row.iter_mut().zip(&sums[c * dim..(c + 1) * dim]) {
+                    *r = s / counts[c] as f64;
+                }
+            } else {
+                if far.is_empty() {
+                    far = (0..points.n).collect();
+                    far.sort_by(|&a, &b| assign[b].1.total_cmp(&assign[a].1).then(a.cmp(&b)));
+                }
+                let pick = far.get(far_next).copied().unwrap_or(0);
+                far_next += 1;
+                row.copy_from_slice(points.row(pick));
+            }
+        }
+    }
+}
+
+/// k-means with k-means++ seeding and Lloyd iterations; the best (lowest inertia) of
+/// `restarts` runs. Restart r draws from `ChaCha8Rng::seed_from_u64(seed)` after the draws of
+/// restarts 0..r, so the result depends only on the inputs and `seed`.
+///
+/// Errors: k outside 1..=n, restarts outside 1..=1000, max_iter outside 1..=1 000 000, points
+/// with no coordinates.
+pub fn kmeans(
+    points: &Points,
+    k: usize,
+    restarts: usize,
+    max_iter: usize,
+    seed: u64,
+) -> Result<KmeansFit> {
+    if points.dim == 0 || points.n == 0 {
+        return Err(Error::Analysis(format!(
+            "k-means needs points with coordinates, got {} × {}",
+            points.n, points.dim
+        )));
+    }
+    if k == 0 || k > points.n {
+        return Err(Error::param(
+            "k",
+            format!(
+                "{k} centres; allowed 1 to the number of points ({})",
+                points.n
+            ),
+        ));
+    }
+    if !(1..=1000).contains(&restarts) {
+        return Err(Error::param(
+            "restarts",
+            format!("{restarts}; allowed 1 to 1000 runs"),
+        ));
+    }
+    if !(1..=1_000_000).contains(&max_iter) {
+        return Err(Error::param(
+            "max_iter",
+            format!("{max_iter}; allowed 1 to 1000000 iterations"),
+        ));
+    }
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let mut best: Option<KmeansFit> = None;
+    for _ in 0..restarts {
+        let fit = lloyd(points, k, max_iter, &mut rng);
+        if best.as_ref().is_none_or(|b| fit.inertia < b.inertia) {
+            best = Some(fit);
+        }
+    }
+    best.ok_or_else(|| Error::Analysis("k-means ran no restart".to_string()))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn separated_blobs_are_found() {
+        // Three tight clusters far apart: every restart finds them (common practice).
+        let mut rng = ChaCha8Rng::seed_from_u64(1);
+        let centres = [[0.0, 0.0], [10.0, 0.0], [0.0, 10.0]];
+        let mut data = Vec::new();
+        for i in 0..300 {
+            let c = centres[i % 3];
+            data.push(c[0] + rng.gen::<f64>() - 0.5);
+            data.push(c[1] + rng.gen::<f64>() - 0.5);
+        }
+        let pts = Points::new(300, 2, data).unwrap();
+        let fit = kmeans(&pts, 3, 2, 100, 4).unwrap();
+        // Within-cluster variance of a unit uniform square is 1/6 per point.
+        let per_point = fit.inertia / 300.0;
+        assert!((per_point - 1.0 / 6.0).abs() < 0.03, "{per_point}");
+        for i in 0..300 {
+            assert_eq!(fit.labels[i], fit.labels[i % 3]);
+        }
+        assert_eq!(fit, kmeans(&pts, 3, 2, 100, 4).unwrap());
+        assert!((distortion(&pts, &fit.centres).unwrap() - per_point).abs() < 1e-12);
+        assert!(kmeans(&pts, 0, 1, 10, 0).is_err());
+        assert!(kmeans(&pts, 301, 1, 10, 0).is_err());
+        assert!(kmeans(&pts, 3, 0, 10, 0).is_err());
+        assert!(kmeans(&pts, 3, 1, 0, 0).is_err());
+        // More centres than distinct points still works (duplicates).
+        let dup = Points::new(4, 1, vec![1.0, 1.0, 2.0, 2.0]).unwrap();
+        let f = kmeans(&dup, 3, 1, 10, 0).unwrap();
+        assert_eq!(f.inertia, 0.0);
+    }
+}

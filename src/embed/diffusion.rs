@@ -1,0 +1,672 @@
+//! Dense diffusion map with Nyström extension.
+//!
+//! In: [`Points`] and [`DiffusionParams`]. Out: an [`Embedding`] (via [`diffusion_map`]) or a
+//! [`DiffusionModel`] (via [`fit`]) that can place new points.
+//!
+//! Method: diffusion maps (Coifman & Lafon 2006, Appl. Comput. Harmon. Anal. 21:5–30). On the fit
+//! set (all points, or a seeded random subset of `max_fit_points` landmarks):
+//! K_ij = exp(−‖x_i−x_j‖²/ε); q_i = Σ_j K_ij; K^α_ij = K_ij/(q_i^α q_j^α); d_i = Σ_j K^α_ij;
+//! the top eigenpairs of the symmetric S = D^{−½} K^α D^{−½} are found with faer (thick-restart
+//! Lanczos on the dense matrix, dense decomposition as fallback); ψ_l = v_l·√(Σd/d),
+//! so the top, trivial ψ_0 = 1 and the ψ_l are orthonormal under the stationary measure d/Σd.
+//! Coordinates are ψ_l·λ_l^t for l = 1..components. Points outside the fit set are placed by
+//! the Nyström extension ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j) with the same α normalisation
+//! (Coifman & Lafon 2006, §3.3 of their companion papers on geometric harmonics).
+//!
+//! Memory is O(m²) for the m ≤ 5000 fit points and O(m) per thread for the extension.
+//! Each eigenvector's sign is fixed so that its entry of largest magnitude is positive.
+//! Eigenvalues are clamped at 0 before raising to the power t (S is positive semi-definite; tiny
+//! negative values are rounding).
+
+use super::bandwidth::auto_epsilon;
+use super::Embedding;
+use crate::error::{Error, Result};
+use crate::points::Points;
+use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::matrix_free::eigen::{
+    partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,
+};
+use faer::{Col, Mat, Side};
+use rand::seq::index::sample;
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+/// Largest fit set allowed (dense m × m kernel).
+pub const MAX_FIT_POINTS: usize = 5000;
+
+/// Parameters of [`diffusion_map`] and [`fit`].
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default)]
+pub struct DiffusionParams {
+    /// Number of non-trivial diffusion coordinates (default 10; at least 1).
+    pub components: usize,
+    /// Density normalisation exponent α in [0, 1] (default 1: Laplace–Beltrami, density-free).
+    pub alpha: f64,
+    /// Diffusion time t ≥ 0 (default 1).
+    pub t: f64,
+    /// Kernel bandwidth ε in squared feature units; `None` (default) picks it by
+    /// [`auto_epsilon`].
+    pub epsilon: Option<f64>,
+    /// Largest fit set (default 3000, at most 5000). Above it the map is fitted on a seeded
+    /// random subset and every other point is placed by Nyström extension.
+    pub max_fit_points: usize,
+    /// Seed for the subset and the bandwidth subsample (default 0).
+    pub seed: u64,
+}
+
+impl Default for DiffusionParams {
+    fn default() -> Self {
+        DiffusionParams {
+            components: 10,
+            alpha: 1.0,
+            t: 1.0,
+            epsilon: None,
+            max_fit_points: 3000,
+            seed: 0,
+        }
+    }
+}
+
+impl DiffusionParams {
+    /// Validate: `components` in 1..=1000; `alpha` in [0, 1]; `t` in [0, 1e6]; `epsilon`, when
+    /// given, finite and above 0; `max_fit_points` in (components + 1)..=5000.
+    pub fn check(&self) -> Result<&Self> {
+        if !(1..=1000).contains(&self.components) {
+            return Err(Error::param(
+                "components",
+                format!("{}; allowed 1 to 1000 coordinates", self.components),
+            ));
+        }
+        if !(self.alpha.is_finite() && (0.0..=1.0).contains(&self.alpha)) {
+            return Err(Error::param(
+                "alpha",
+                format!("{}; allowed 0 to 1 (dimensionless)", self.alpha),
+            ));
+        }
+        if !(self.t.is_finite() && (0.0..=1e6).contains(&self.t)) {
+            return Err(Error::param(
+                "t",
+                format!("{}; allowed 0 to 1e6 diffusion steps", self.t),
+            ));
+        }
+        if let Some(e) = self.epsilon {
+            if !(e.is_finite() && e > 0.0) {
+                return Err(Error::param(
+                    "epsilon",
+                    format!("{e}; must be finite and above 0 (squared feature units)"),
+                ));
+            }
+        }
+        if self.max_fit_points < self.components + 2 || self.max_fit_points > MAX_FIT_POINTS {
+            return Err(Error::param(
+                "max_fit_points",
+                format!(
+                    "{}; allowed components + 2 = {} to {MAX_FIT_POINTS} points",
+                    self.max_fit_points,
+                    self.components + 2
+                ),
+            ));
+        }
+        Ok(self)
+    }
+}
+
+/// A fitted diffusion map: what is needed to place new points by Nyström extension.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct DiffusionModel {
+    /// The fit (landmark) points.
+    pub landmarks: Points,
+    /// Row of each landmark in the input of [`fit`].
+    pub landmark_index: Vec<usize>,
+    /// Kernel row sums q_j = Σ_i exp(−‖x_j−x_i‖²/ε) over the landmarks.
+    pub q: Vec<f64>,
+    /// Row-major `m × components` eigenfunctions ψ_1..ψ_c at the landmarks (ψ_0 = 1 dropped).
+    pub psi: Vec<f64>,
+    /// Non-trivial eigenvalues λ_1 ≥ λ_2 ≥ … of the Markov matrix.
+    pub eigenvalues: Vec<f64>,
+    /// Bandwidth ε.
+    pub epsilon: f64,
+    /// Density normalisation exponent α.
+    pub alpha: f64,
+    /// Diffusion time t.
+    pub t: f64,
+}
+
+/// λ^t with λ clamped at 0.
+fn power(lambda: f64, t: f64) -> f64 {
+    lambda.max(0.0).powf(t)
+}
+
+/// Fit a diffusion map (see the module notes) on all points, or on a seeded random subset of
+/// `p.max_fit_points` of them when there are more.
+///
+/// Errors: bad parameters; fewer than `components + 2` points; a bandwidth that cannot be found;
+/// the eigensolver failing to converge.
+pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+    p.check()?;
+    let c = p.components;
+    if points.n < c + 2 || points.dim == 0 {
+        return Err(Error::Analysis(format!(
+            "diffusion map with {c} components needs at least {} points with at least one \
+             coordinate, got {} points in {} dimensions",
+            c + 2,
+            points.n,
+            points.dim
+        )));
+    }
+    let landmark_index: Vec<usize> = if points.n > p.max_fit_points {
+        let mut rng = ChaCha8Rng::seed_from_u64(p.seed);
+        let mut idx = sample(&mut rng, points.n, p.max_fit_points).into_vec();
+        idx.sort_unstable();
+        idx
+    } else {
+        (0..points.n).collect()
+    };
+    let lm = if landmark_index.len() == points.n {
+        points.clone()
+    } else {
+        points.select(&landmark_index)
+    };
+    let eps = match p.epsilon {
+        Some(e) => e,
+        None => auto_epsilon(&lm, p.seed)?,
+    };
+    let m = lm.n;
+
+    // Kernel, one row per task.
+    let mut k = vec![0.0; m * m];
+    k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
+        let xi = lm.row(i);
+        for (j, v) in row.iter_mut().enumerate() {
+            *v = (-Points::dist2(xi, lm.row(j)) / eps).exp();
+        }
+    });
+    let q: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
+    let qa: Vec<f64> = q.iter().map(|&v| v.powf(p.alpha)).collect();
+    k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
+        for (j, v) in row.iter_mut().enumerate() {
+            *v /= qa[i] * qa[j];
+        }
+    });
+    let d: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
+    let sd: Vec<f64> = d.iter().map(|v| v.sqrt()).collect();
+    let s = Mat::<f64>::from_fn(m, m, |i, j| k[i * m + j] / (sd[i] * sd[j]));
+    drop(k);
+    let (vals, u) = top_eigen(&s, c + 1, p.seed)?;
+    drop(s);
+    let sum_d: f64 = d.iter().sum();
+    let mut psi = vec![0.0; m * c];
+    let mut eigenvalues = Vec::with_capacity(c);
+    for l in 1..=c {
+        // Eigenpairs come in non-increasing order: the top one (l = 0) is the trivial one.
+        eigenvalues.push(vals[l]);
+        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_d / d[i]).sqrt()).collect();
+        let mut big = 0.0f64;
+        for &x in &v {
+            if x.abs() > big.abs() {
+                big = x;
+            }
+        }
+        if big < 0.0 {
+            v.iter_mut().for_each(|x| *x = -*x);
+        }
+        for (i, x) in v.into_iter().enumerate() {
+            psi[i * c + (l - 1)] = x;
+        }
+    }
+    Ok(DiffusionModel {
+        landmarks: lm,
+        landmark_index,
+        q,
+        psi,
+        eigenvalues,
+        epsilon: eps,
+        alpha: p.alpha,
+        t: p.t,
+    })
+}
+
+/// The `nev` largest eigenpairs of the symmetric positive semi-definite `s`, eigenvalues in
+/// non-increasing order, eigenvectors as columns. Thick-restart Lanczos
+/// (`faer::matrix_free::eigen::partial_self_adjoint_eigen`, started from a seeded random
+/// vector); when the matrix is small or not every pair converges, a dense symmetric
+/// eigendecomposition instead.
+fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)> {
+    let m = s.nrows();
+    if m > 4 * nev.max(32) {
+        let par = faer::get_global_parallelism();
+        let params = PartialEigenParams::default();
+        let mut mem = MemBuffer::new(partial_self_adjoint_eigen_scratch(s, nev, par, params));
+        let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5eed_1a2c);
+        let v0 = Col::<f64>::from_fn(m, |_| rng.gen::<f64>() - 0.5);
+        let mut vecs = Mat::<f64>::zeros(m, nev);
+        let mut vals = vec![0.0; nev];
+        let info = partial_self_adjoint_eigen(
+            vecs.as_mut(),
+            &mut vals,
+            s,
+            v0.as_ref(),
+            1e-11,
+            par,
+            MemStack::new(&mut mem),
+            params,
+        );
+        if info.n_converged_eigen >= nev && vals.iter().all(|v| v.is_finite()) {
+            let mut order: Vec<usize> = (0..nev).collect();
+            order.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]).then(a.cmp(&b)));
+            let sorted = order.iter().map(|&i| vals[i]).collect();
+            let u = Mat::<f64>::from_fn(m, nev, |i, j| vecs[(i, order[j])]);
+            return Ok((sorted, u));
+        }
+    }
+    dense_top_eigen(s, nev)
+}
+
+/// The `nev` largest eigenpairs by a dense symmetric eigendecomposition (non-increasing order).
+fn dense_top_eigen(s: &Mat<f64>, nev: usize) -> Result<(Vec<f64>, Mat<f64>)> {
+    let m = s.nrows();
+    let eig = s
+        .self_adjoint_eigen(Side::Lower)
+        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    let vals = eig.S().column_vector();
+    let u = eig.U();
+    // Dense eigenvalues come in non-decreasing order.
+    let sorted = (0..nev).map(|l| vals[m - 1 - l]).collect();
+    let top = Mat::<f64>::from_fn(m, nev, |i, j| u[(i, m - 1 - j)]);
+    Ok((sorted, top))
+}
+
+impl DiffusionModel {
+    /// Number of diffusion coordinates.
+    pub fn components(&self) -> usize {
+        self.eigenvalues.len()
+    }
+
+    /// Nyström extension of new points: row-major `new.n × components` coordinates ψ_l(x)·λ_l^t
+    /// with ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j), p(x,·) ∝ k(x,x_j)/(q(x)^α q_j^α) normalised
+    /// to sum 1 (q(x)^α cancels in the normalisation). For a landmark itself this returns its
+    /// fitted coordinates. Kernel weights are computed relative to the nearest landmark, so a
+    /// point far from all landmarks takes the (λ-scaled) values of its nearest ones instead of
+    /// underflowing. A component with λ_l ≤ 0 gets 0.
+    ///
+    /// Errors: `new` has a different dimension from the landmarks.
+    pub fn extend(&self, new: &Points) -> Result<Vec<f64>> {
+        if new.dim != self.landmarks.dim {
+            return Err(Error::Analysis(format!(
+                "Nyström extension: new points have {} coordinates, the model was fitted on {}",
+                new.dim, self.landmarks.dim
+            )));
+        }
+        let c = self.components();
+        let m = self.landmarks.n;
+        let qa: Vec<f64> = self.q.iter().map(|&v| v.powf(self.alpha)).collect();
+        let factor: Vec<f64> = self
+            .eigenvalues
+            .iter()
+            .map(|&l| if l > 0.0 { l.powf(self.t - 1.0) } else { 0.0 })
+            .collect();
+        let mut out = vec![0.0; new.n * c];
+        out.par_chunks_mut(c.max(1)).enumerate().for_each_init(
+            || vec![0.0; m],
+            |w, (r, orow)| {
+                let x = new.row(r);
+                for (j, wj) in w.iter_mut().enumerate() {
+                    *wj = Points::dist2(x, self.landmarks.row(j));
+                }
+                let dmin = w.iter().copied().fold(f64::INFINITY, f64::min);
+                let mut total = 0.0;
+                for (j, wj) in w.iter_mut().enumerate() {
+                    *wj = (-(*wj - dmin) / self.epsilon).exp() / qa[j];
+                    total += *wj;
+                }
+                orow.iter_mut().for_each(|v| *v = 0.0);
+                for (j, &wj) in w.iter().enumerate() {
+                    let pj = wj / total;
+                    let prow = &self.psi[j * c..(j + 1) * c];
+                    for (o, &ps) in orow.iter_mut().zip(prow) {
+                        *o += pj * ps;
+                    }
+                }
+                for (o, &f) in orow.iter_mut().zip(&factor) {
+                    *o *= f;
+                }
+            },
+        );
+        Ok(out)
+    }
+
+    /// Row-major `m × components` coordinates ψ_l·λ_l^t of the fit (landmark) points.
+    pub fn coords_of_fit(&self) -> Vec<f64> {
+        let c = self.components();
+        let pw: Vec<f64> = self.eigenvalues.iter().map(|&l| power(l, self.t)).collect();
+        self.psi
+            .chunks_exact(c.max(1))
+            .flat_map(|row| row.iter().zip(&pw).map(|(a, b)| a * b))
+            .collect()
+    }
+
+    /// The embedding of the fit (landmark) points, in landmark order.
+    pub fn embedding_of_fit(&self) -> Embedding {
+        Embedding {
+            n: self.landmarks.n,
+            components: self.components(),
+            coords: self.coords_of_fit(),
+            eigenvalues: self.eigenvalues.clone(),
+            epsilon: self.epsilon,
+            alpha: self.alpha,
+            t: self.t,
+        }
+    }
+}
+
+/// Diffusion map of every input row: fitted directly when `points.n ≤ max_fit_points`,
+/// otherwise fitted on a seeded subset with all other rows placed by Nyström extension.
+/// Row i of the result belongs to row i of `points`.
+pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> {
+    let model = fit(points, p)?;
+    let mut emb = model.embedding_of_fit();
+    if model.landmarks.n == points.n {
+        return Ok(emb);
+    }
+    let c = model.components();
+    let mut is_landmark = vec![false; points.n];
+    for &i in &model.landmark_index {
+        is_landmark[i] = true;
+    }
+    let others: Vec<usize> = (0..points.n).filter(|&i| !is_landmark[i]).collect();
+    let ext = model.extend(&points.select(&others))?;
+    let mut coords = vec![0.0; points.n * c];
+    for (r, &i) in model.landmark_index.iter().enumerate() {
+        coords[i * c..(i + 1) * c].copy_from_slice(&emb.coords[r * c..(r + 1) * c]);
+    }
+    for (r, &i) in others.iter().enumerate() {
+        coords[i * c..(i + 1) * c].copy_from_slice(&ext[r * c..(r + 1) * c]);
+    }
+    emb.n = points.n;
+    emb.coords = coords;
+    Ok(emb)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::f64::consts::PI;
+
+    /// `n` seeded uniform angles and the points (cos θ, sin θ) on the unit circle.
+    fn circle(n: usize, seed: u64) -> (Vec<f64>, Points) {
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        let th: Vec<f64> = (0..n).map(|_| rng.gen::<f64>() * 2.0 * PI).collect();
+        let data = th.iter().flat_map(|t| [t.cos(), t.sin()]).collect();
+        (th, Points::new(n, 2, data).unwrap())
+    }
+
+    /// Swiss roll: angle θ = 1.5π(1 + 2u), height h ∈ [0, 21]; (θ cos θ, h, θ sin θ).
+    fn swiss_roll(n: usize, seed: u64) -> (Vec<f64>, Points) {
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        let mut th = Vec::with_capacity(n);
+        let mut data = Vec::with_capacity(3 * n);
+        for _ in 0..n {
+            let t = 1.5 * PI * (1.0 + 2.0 * rng.gen::<f64>());
+            let h = 21.0 * rng.gen::<f64>();
+            th.push(t);
+            data.extend_from_slice(&[t * t.cos(), h, t * t.sin()]);
+        }
+        (th, Points::new(n, 3, data).unwrap())
+    }
+
+    /// Column `j` of a row-major matrix with `c` columns.
+    fn col(m: &[f64], c: usize, j: usize) -> Vec<f64> {
+        m.chunks_exact(c).map(|r| r[j]).collect()
+    }
+
+    /// Solve the 3×3 normal equations of y ≈ b0 + b1 a + b2 b; return R².
+    fn r2(y: &[f64], a: &[f64], b: &[f64]) -> f64 {
+        let n = y.len() as f64;
+        let mean = |v: &[f64]| v.iter().sum::<f64>() / n;
+        let (my, ma, mb) = (mean(y), mean(a), mean(b));
+        let (mut saa, mut sab, mut sbb, mut say, mut sby, mut syy) = (0.0, 0.0, 0.0, 0.0, 0.0, 0.0);
+        for i in 0..y.len() {
+            let (da, db, dy) = (a[i] - ma, b[i] - mb, y[i] - my);
+            saa += da * da;
+            sab += da * db;
+            sbb += db * db;
+            say += da * dy;
+            sby += db * dy;
+            syy += dy * dy;
+        }
+        let det = saa * sbb - sab * sab;
+        let b1 = (say * sbb - sby * sab) / det;
+        let b2 = (sby * saa - say * sab) / det;
+        (b1 * say + b2 * sby) / syy
+    }
+
+    fn ranks(v: &[f64]) -> Vec<f64> {
+        let mut idx: Vec<usize> = (0..v.len()).collect();
+        idx.sort_by(|&a, &b| v[a].total_cmp(&v[b]));
+        let mut r = vec![0.0; v.len()];
+        for (k, &i) in idx.iter().enumerate() {
+            r[i] = k as f64;
+        }
+        r
+    }
+
+    fn spearman(a: &[f64], b: &[f64]) -> f64 {
+        let (ra, rb) = (ranks(a), ranks(b));
+        let n = a.len() as f64;
+        let m = (n - 1.0) / 2.0;
+        let (mut sab, mut saa, mut sbb) = (0.0, 0.0, 0.0);
+        for i in 0..a.len() {
+            sab += (ra[i] - m) * (rb[i] - m);
+            saa += (ra[i] - m) * (ra[i] - m);
+            sbb += (rb[i] - m) * (rb[i] - m);
+        }
+        sab / (saa * sbb).sqrt()
+    }
+
+    fn params(eps: f64, components: usize) -> DiffusionParams {
+        DiffusionParams {
+            components,
+            alpha: 1.0,
+            t: 1.0,
+            epsilon: Some(eps),
+            max_fit_points: 3000,
+            seed: 7,
+        }
+    }
+
+    #[test]
+    fn circle_eigenvalues_and_coordinates() {
+        let (th, pts) = circle(1500, 11);
+        let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
+        let sin: Vec<f64> = th.iter().map(|t| t.sin()).collect();
+        // Source: REFERENCES.md §5 [C]: on the uniform unit circle λ_k = I_k(2/ε)/I_0(2/ε),
+        // each k ≥ 1 twice (cos kθ, sin kθ). ε = 0.1: 0.97467051, 0.90253295.
+        // Tolerance: §5 gives ±0.003 for N = 2000 random points; the sampling error scales like
+        // N^{-1/2}, so ±0.003·√(2000/1500) ≈ ±0.0035 for N = 1500; we allow ±0.005.
+        let emb = diffusion_map(&pts, &params(0.1, 4)).unwrap();
+        eprintln!("circle eps 0.1 eigenvalues {:?}", emb.eigenvalues);
+        let want = [0.97467051, 0.97467051, 0.90253295, 0.90253295];
+        for (got, w) in emb.eigenvalues.iter().zip(want) {
+            assert!((got - w).abs() < 0.005, "{:?}", emb.eigenvalues);
+        }
+        // Source: Coifman & Lafon (2006): the first eigenfunctions of the circle are cos θ,
+        // sin θ, so (ψ1, ψ2) spans them up to a rotation. R² of a linear fit > 0.98 (exact
+        // eigenfunctions give 1; sampling noise takes off well under 1 %).
+        let (p1, p2) = (col(&emb.coords, 4, 0), col(&emb.coords, 4, 1));
+        let (rc, rs) = (r2(&cos, &p1, &p2), r2(&sin, &p1, &p2));
+        eprintln!("circle R2 cos {rc} sin {rs}");
+        assert!(rc > 0.98 && rs > 0.98);
+
+        // Source: REFERENCES.md §5 [C]: ε = 1: λ = 0.69777466 (twice), 0.30222534 (twice).
+        let emb = diffusion_map(&pts, &params(1.0, 4)).unwrap();
+        eprintln!("circle eps 1 eigenvalues {:?}", emb.eigenvalues);
+        // With this wide kernel the random angles split each degenerate pair at first order
+        // by about λ·|ĉ₂|, ĉ₂ the empirical second Fourier coefficient of the angles
+        // (SD ≈ 1/√(2N) = 0.018), while the pair's mean moves only at second order. So: each
+        // pair mean within ±0.005, each member within ±0.03.
+        let e = &emb.eigenvalues;
+        for (pair, w) in [(0, 0.69777466), (2, 0.30222534)] {
+            assert!(((e[pair] + e[pair + 1]) / 2.0 - w).abs() < 0.005, "{e:?}");
+            assert!(
+                (e[pair] - w).abs() < 0.03 && (e[pair + 1] - w).abs() < 0.03,
+                "{e:?}"
+            );
+        }
+    }
+
+    #[test]
+    fn swiss_roll_first_coordinate_follows_the_roll() {
+        let (th, pts) = swiss_roll(1500, 5);
+        let emb = diffusion_map(&pts, &params(SWISS_EPS, 2)).unwrap();
+        let rho = spearman(&col(&emb.coords, 2, 0), &th);
+        eprintln!(
+            "swiss roll eigenvalues {:?} spearman {rho}",
+            emb.eigenvalues
+        );
+        // Source: Coifman & Lafon (2006); the Swiss roll is the common-practice benchmark: the
+        // slowest diffusion mode runs along the roll, so ψ1 is monotone in the roll angle.
+        assert!(rho.abs() > 0.95, "spearman {rho}");
+    }
+
+    /// ε for the Swiss roll of height 21 and angles 1.5π..4.5π: the gap between turns is 2π,
+    /// so the kernel scale √ε must stay well below it; √6 ≈ 2.4 still links about ten
+    /// neighbours at 1500 points over its ≈ 1850-unit² area.
+    const SWISS_EPS: f64 = 6.0;
+
+    #[test]
+    fn nystrom_matches_full_fit() {
+        let (_, pts) = circle(1500, 11);
+        let full = diffusion_map(&pts, &params(0.1, 2)).unwrap();
+        let fit_idx: Vec<usize> = (0..750).collect();
+        let new_idx: Vec<usize> = (750..1500).collect();
+        let model = fit(&pts.select(&fit_idx), &params(0.1, 2)).unwrap();
+        // A landmark extended is its own fitted coordinate (P ψ = λ ψ on the fit set).
+        let again = model.extend(&model.landmarks).unwrap();
+        let own = model.coords_of_fit();
+        assert!(again.iter().zip(&own).all(|(a, b)| (a - b).abs() < 1e-9));
+        let ext = model.extend(&pts.select(&new_idx)).unwrap();
+        // The circle's (ψ1, ψ2) pair is degenerate, so the two fits may differ by a rotation
+        // within it, not only by sign: align with the least-squares 2×2 map fitted on the fit
+        // half only, then compare on the extended half.
+        let a: Vec<[f64; 2]> = own.chunks_exact(2).map(|r| [r[0], r[1]]).collect();
+        let b: Vec<[f64; 2]> = full.coords[..1500]
+            .chunks_exact(2)
+            .map(|r| [r[0], r[1]])
+            .collect();
+        let (mut aa, mut ab) = ([[0.0; 2]; 2], [[0.0; 2]; 2]);
+        for (x, y) in a.iter().zip(&b) {
+            for r in 0..2 {
+                for s in 0..2 {
+                    aa[r][s] += x[r] * x[s];
+                    ab[r][s] += x[r] * y[s];
+                }
+            }
+        }
+        let det = aa[0][0] * aa[1][1] - aa[0][1] * aa[1][0];
+        let inv = [
+            [aa[1][1] / det, -aa[0][1] / det],
+            [-aa[1][0] / det, aa[0][0] / det],
+        ];
+        let mut map = [[0.0; 2]; 2];
+        for r in 0..2 {
+            for s in 0..2 {
+                map[r][s] = inv[r][0] * ab[0][s] + inv[r][1] * ab[1][s];
+            }
+        }
+        let mut worst = 0.0f64;
+        for (s, (m0, m1)) in [(map[0][0], map[1][0]), (map[0][1], map[1][1])]
+            .into_iter()
+            .enumerate()
+        {
+            let fc = col(&full.coords, 2, s);
+            let range = fc.iter().copied().fold(f64::MIN, f64::max)
+                - fc.iter().copied().fold(f64::MAX, f64::min);
+            for (r, &i) in new_idx.iter().enumerate() {
+                let z = ext[2 * r] * m0 + ext[2 * r + 1] * m1;
+                worst = worst.max((z - full.coords[2 * i + s]).abs() / range);
+            }
+        }
+        eprintln!("nystrom worst relative error {worst}");
+        // Source: issue criterion (2 % of the coordinate range); Coifman & Lafon (2006) Nyström.
+        assert!(worst < 0.02, "worst {worst}");
+
+        // Subset fit inside diffusion_map: every row gets coordinates that still follow θ.
+        let (th, _) = circle(1500, 11);
+        let mut p = params(0.1, 2);
+        p.max_fit_points = 600;
+        let emb = diffusion_map(&pts, &p).unwrap();
+        assert_eq!(emb.n, 1500);
+        let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
+        let rc = r2(&cos, &col(&emb.coords, 2, 0), &col(&emb.coords, 2, 1));
+        assert!(rc > 0.98, "R2 {rc}");
+    }
+
+    #[test]
+    fn lanczos_agrees_with_dense() {
+        // Same top eigenpairs from both solver paths on a 400-point Gaussian kernel matrix.
+        let (_, pts) = swiss_roll(400, 1);
+        let s = Mat::<f64>::from_fn(400, 400, |i, j| {
+            (-Points::dist2(pts.row(i), pts.row(j)) / 20.0).exp() / 400.0
+        });
+        let (a, ua) = top_eigen(&s, 6, 0).unwrap();
+        let (b, ub) = dense_top_eigen(&s, 6).unwrap();
+        for l in 0..6 {
+            assert!((a[l] - b[l]).abs() < 1e-9, "{a:?} vs {b:?}");
+            let dot: f64 = (0..400).map(|i| ua[(i, l)] * ub[(i, l)]).sum();
+            assert!((dot.abs() - 1.0).abs() < 1e-6, "vector {l}: |dot| {dot}");
+        }
+    }
+
+    #[test]
+    fn deterministic_and_parameter_errors() {
+        let (_, pts) = swiss_roll(700, 9);
+        let p = DiffusionParams {
+            components: 3,
+            max_fit_points: 400,
+            seed: 3,
+            ..DiffusionParams::default()
+        };
+        let a = diffusion_map(&pts, &p).unwrap();
+        let b = diffusion_map(&pts, &p).unwrap();
+        assert_eq!(a, b);
+        assert!(a.epsilon > 0.0 && a.eigenvalues.windows(2).all(|w| w[0] >= w[1]));
+        for bad in [
+            DiffusionParams {
+                components: 0,
+                ..p.clone()
+            },
+            DiffusionParams {
+                alpha: 1.5,
+                ..p.clone()
+            },
+            DiffusionParams {
+                t: f64::NAN,
+                ..p.clone()
+            },
+            DiffusionParams {
+                epsilon: Some(0.0),
+                ..p.clone()
+            },
+            DiffusionParams {
+                max_fit_points: 6000,
+                ..p.clone()
+            },
+            DiffusionParams {
+                max_fit_points: 4,
+                ..p.clone()
+            },
+        ] {
+            assert!(matches!(
+                diffusion_map(&pts, &bad),
+                Err(Error::Param { .. })
+            ));
+        }
+        let few = Points::new(4, 3, vec![0.5; 12]).unwrap();
+        assert!(matches!(diffusion_map(&few, &p), Err(Error::Analysis(_))));
+        let model = fit(&pts, &p).unwrap();
+        let wrong = Points::new(1, 2, vec![0.0, 0.0]).unwrap();
+        assert!(model.extend(&wrong).is_err());
+    }
+}
