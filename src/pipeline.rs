@@ -108,7 +108,11 @@ impl Default for AnalyzeParams {
             second_detector: ElgendiParams::default(),
             agreement_window_s: 10.0,
             features: FeatureParams::default(),
-            diffusion: DiffusionParams::default(),
+            // Local scaling (Zelnik-Manor & Perona 2004) keeps rare beat shapes connected.
+            diffusion: DiffusionParams {
+                local_scaling_neighbors: 7,
+                ..DiffusionParams::default()
+            },
             dimension: KmeansScalingParams::default(),
             quality_segment_s: 10.0,
             score_window_s: 0.150,
@@ -203,7 +207,10 @@ pub struct BeatsResult {
 /// Choose the lead to analyse.
 pub fn choose_lead(rec: &Record, lead: Option<&str>) -> Result<usize> {
     if rec.leads.is_empty() {
-        return Err(Error::Analysis(format!("record `{}` has no lead", rec.name)));
+        return Err(Error::Analysis(format!(
+            "record `{}` has no lead",
+            rec.name
+        )));
     }
     match lead {
         None => Ok(0),

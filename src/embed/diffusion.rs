@@ -54,6 +54,12 @@ pub struct DiffusionParams {
     pub max_fit_points: usize,
     /// Seed for the subset and the bandwidth subsample (default 0).
     pub seed: u64,
+    /// When above 0 (and `epsilon` is not given), use the local scaling of Zelnik-Manor &
+    /// Perona (2004) instead of one global ε: k(x, y) = exp(−‖x−y‖²/(σ_x σ_y)) with σ_x the
+    /// distance from x to its `local_scaling_neighbors`-th nearest fit point. Outlying beats
+    /// (ectopic, noisy) then stay connected to their nearest neighbours instead of forming
+    /// components of their own. Default 0 (global ε); `analyze` uses 7, the paper's choice.
+    pub local_scaling_neighbors: usize,
 }
 
 impl Default for DiffusionParams {
@@ -65,6 +71,7 @@ impl Default for DiffusionParams {
             epsilon: None,
             max_fit_points: 3000,
             seed: 0,
+            local_scaling_neighbors: 0,
         }
     }
 }
@@ -132,6 +139,21 @@ pub struct DiffusionModel {
     pub alpha: f64,
     /// Diffusion time t.
     pub t: f64,
+    /// Local scales σ_j of the landmarks (empty for a global ε), and the neighbour rank used.
+    pub sigma: Vec<f64>,
+    /// Neighbour rank for σ of new points (0 for a global ε).
+    pub sigma_rank: usize,
+}
+
+/// Distance from `x` to its `k`-th nearest among `lm` (k ≥ 1); a point of `lm` at distance 0
+/// (x itself, when x is a landmark) is not counted as a neighbour.
+fn kth_distance(x: &[f64], lm: &Points, k: usize, buf: &mut Vec<f64>) -> f64 {
+    buf.clear();
+    buf.extend(lm.rows().map(|r| Points::dist2(x, r)));
+    let is_member = buf.iter().any(|&d| d == 0.0);
+    let rank = if is_member { k } else { k - 1 }.min(buf.len().saturating_sub(1));
+    let (_, v, _) = buf.select_nth_unstable_by(rank, f64::total_cmp);
+    v.sqrt().max(f64::MIN_POSITIVE.sqrt())
 }
 
 /// λ^t with λ clamped at 0.
@@ -169,18 +191,42 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     } else {
         points.select(&landmark_index)
     };
+    let m = lm.n;
+    let rank = if p.epsilon.is_none() {
+        p.local_scaling_neighbors.min(m - 1)
+    } else {
+        0
+    };
+    let sigma: Vec<f64> = if rank > 0 {
+        (0..m)
+            .into_par_iter()
+            .map_init(Vec::new, |buf, i| kth_distance(lm.row(i), &lm, rank, buf))
+            .collect()
+    } else {
+        Vec::new()
+    };
     let eps = match p.epsilon {
         Some(e) => e,
+        None if rank > 0 => {
+            // Reported ε: the median of σ_i², the global bandwidth the local scales stand for.
+            let mut s2: Vec<f64> = sigma.iter().map(|v| v * v).collect();
+            s2.sort_by(f64::total_cmp);
+            s2[s2.len() / 2]
+        }
         None => auto_epsilon(&lm, p.seed)?,
     };
-    let m = lm.n;
 
     // Kernel, one row per task.
     let mut k = vec![0.0; m * m];
     k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
         let xi = lm.row(i);
         for (j, v) in row.iter_mut().enumerate() {
-            *v = (-Points::dist2(xi, lm.row(j)) / eps).exp();
+            let scale = if sigma.is_empty() {
+                eps
+            } else {
+                sigma[i] * sigma[j]
+            };
+            *v = (-Points::dist2(xi, lm.row(j)) / scale).exp();
         }
     });
     let q: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
@@ -225,6 +271,8 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
         epsilon: eps,
         alpha: p.alpha,
         t: p.t,
+        sigma,
+        sigma_rank: rank,
     })
 }
 
@@ -235,9 +283,15 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
 /// eigendecomposition instead.
 fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)> {
     let m = s.nrows();
-    if m > 4 * nev.max(32) {
+    // Dense decomposition is fast and certain for small fits (under a second at m = 2000 in a
+    // release build); above that, Lanczos with a bounded number of restarts, falling back to dense
+    // when it does not converge (the top of a diffusion spectrum can be tightly clustered).
+    if m > 2000 {
         let par = faer::get_global_parallelism();
-        let params = PartialEigenParams::default();
+        let params = PartialEigenParams {
+            max_restarts: 200,
+            ..PartialEigenParams::default()
+        };
         let mut mem = MemBuffer::new(partial_self_adjoint_eigen_scratch(s, nev, par, params));
         let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5eed_1a2c);
         let v0 = Col::<f64>::from_fn(m, |_| rng.gen::<f64>() - 0.5);
@@ -309,16 +363,27 @@ impl DiffusionModel {
             .collect();
         let mut out = vec![0.0; new.n * c];
         out.par_chunks_mut(c.max(1)).enumerate().for_each_init(
-            || vec![0.0; m],
-            |w, (r, orow)| {
+            || (vec![0.0; m], Vec::new()),
+            |(w, buf), (r, orow)| {
                 let x = new.row(r);
+                let sx = if self.sigma_rank > 0 {
+                    kth_distance(x, &self.landmarks, self.sigma_rank, buf)
+                } else {
+                    0.0
+                };
                 for (j, wj) in w.iter_mut().enumerate() {
-                    *wj = Points::dist2(x, self.landmarks.row(j));
+                    let scale = if self.sigma_rank > 0 {
+                        sx * self.sigma[j]
+                    } else {
+                        self.epsilon
+                    };
+                    // Scaled squared distance; the kernel below is exp(−(this − min)).
+                    *wj = Points::dist2(x, self.landmarks.row(j)) / scale;
                 }
                 let dmin = w.iter().copied().fold(f64::INFINITY, f64::min);
                 let mut total = 0.0;
                 for (j, wj) in w.iter_mut().enumerate() {
-                    *wj = (-(*wj - dmin) / self.epsilon).exp() / qa[j];
+                    *wj = (-(*wj - dmin)).exp() / qa[j];
                     total += *wj;
                 }
                 orow.iter_mut().for_each(|v| *v = 0.0);
@@ -473,6 +538,7 @@ mod tests {
             epsilon: Some(eps),
             max_fit_points: 3000,
             seed: 7,
+            local_scaling_neighbors: 0,
         }
     }
 
@@ -668,5 +734,33 @@ mod tests {
         let model = fit(&pts, &p).unwrap();
         let wrong = Points::new(1, 2, vec![0.0, 0.0]).unwrap();
         assert!(model.extend(&wrong).is_err());
+    }
+
+    #[test]
+    fn local_scaling_keeps_an_outlier_connected() {
+        // A circle of 400 points plus one outlier 0.6 from it. With a small global ε the outlier is a
+        // component of its own, which shows as a second eigenvalue equal to 1 (a Markov chain's
+        // eigenvalue 1 has the multiplicity of its connected components: common practice). With
+        // the local scaling of Zelnik-Manor & Perona (2004) the graph stays connected.
+        let (_, circ) = circle(400, 9);
+        let mut data = circ.data.clone();
+        data.extend_from_slice(&[1.6, 0.0]);
+        let pts = Points::new(401, 2, data).unwrap();
+        let global = diffusion_map(&pts, &params(0.01, 2)).unwrap();
+        assert!(
+            global.eigenvalues[0] > 1.0 - 1e-9,
+            "{:?}",
+            global.eigenvalues
+        );
+        let local = diffusion_map(
+            &pts,
+            &DiffusionParams {
+                components: 2,
+                local_scaling_neighbors: 7,
+                ..DiffusionParams::default()
+            },
+        )
+        .unwrap();
+        assert!(local.eigenvalues[0] < 1.0 - 1e-4, "{:?}", local.eigenvalues);
     }
 }

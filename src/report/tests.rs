@@ -372,7 +372,10 @@ fn summary_json_has_keys_and_values() {
         json!({"scale": 0.1, "d": 3.5})
     );
     assert_eq!(s["parameters"]["note"], "a < b & c");
-    assert!(s.get("elapsed_s").is_none(), "wall time would break byte-identical reruns");
+    assert!(
+        s.get("elapsed_s").is_none(),
+        "wall time would break byte-identical reruns"
+    );
     assert_eq!(s["notes"][0], "a note <b>");
 
     // Degenerate: NaN becomes null, missing score is null.
