@@ -84,27 +84,16 @@ fn generate(p: &SynthParams, with_noise: bool) -> Result<Generated> {
 
     // The fibrillatory baseline is cardiac activity, hence part of the noise-free signal; lead 2
     // sees it at 70 % (same atrial source, other projection).
-    let mut fib_rng = rng(p.seed, stream::FIBRILLATION);
-    let mut fib = vec![
-        0.0;
-        if p.irregular_episodes.is_empty() {
-            0
-        } else {
-            n
-        }
-    ];
-    noise::add_fibrillation(
-        &mut fib,
-        fs,
-        &p.irregular_episodes,
-        p.fibrillation_mv,
-        &mut fib_rng,
-    );
+    let fib_rng = rng(p.seed, stream::FIBRILLATION);
     for (l, lead) in leads.iter_mut().enumerate() {
         let g = if l == 0 { 1.0 } else { 0.7 };
-        for (v, f) in lead.iter_mut().zip(&fib) {
-            *v += g * f;
-        }
+        noise::add_fibrillation(
+            lead,
+            fs,
+            &p.irregular_episodes,
+            g * p.fibrillation_mv,
+            &mut fib_rng.clone(),
+        );
     }
 
     if with_noise {

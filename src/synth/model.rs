@@ -20,9 +20,10 @@
 //!   at every scheduled beat time. Those times are the ground truth. At each beat (x, y) is put
 //!   back on θ = 0 (radius kept), so the small phase error of RK4 never accumulates.
 //! - Rate dependence as in the paper (from memory): in an interval of length RR, with
-//!   s = √(60 / (60·RR)) = √(hr/60), all widths are b_i·s, the Q and S angles θ_i·s and the P and T
-//!   angles θ_i·√s. Since ż has no factor ω, a wave's size is ∝ a_i b_i² / ω, which this scaling
-//!   keeps independent of the rate. We apply it per interval rather than with the record's mean
+//!   s = √(1 s / RR) = √(hr/60), all widths are b_i·s, the Q and S angles θ_i·s and the P and T
+//!   angles θ_i·√s. In time, a wave then lasts b_i·s/ω ∝ √RR (QRS and T durations grow with
+//!   √RR). Since ż has no factor ω, a wave's size is ∝ a_i b_i² / ω, which this scaling keeps
+//!   independent of the rate. We apply it per interval rather than with the record's mean
 //!   rate, so premature beats and irregular episodes keep their wave sizes.
 //! - Each interval carries the events of both beats that bound it (the earlier beat's at angle
 //!   θ_i, the later beat's at 2π + θ_i), each beat with its own waveform (normal, without P, or
