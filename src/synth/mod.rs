@@ -5,8 +5,9 @@
 //! intervals covering the whole record (`regular` / `irregular`).
 //!
 //! The waveform is the dynamical ECG model of McSharry, Clifford, Tarassenko & Smith (2003), IEEE
-//! Trans. Biomed. Eng. 50:289–294 (see [`model`](self) internals), driven by their two-band RR
-//! process (LF ≈ 0.1 Hz, HF ≈ 0.25 Hz). On top we add, with our own shapes and constants:
+//! Trans. Biomed. Eng. 50:289–294 (three coupled ODEs, a Gaussian event per P, Q, R, S, T wave,
+//! fixed-step RK4; details in the private `model` module), driven by their two-band RR process
+//! (LF ≈ 0.1 Hz, HF ≈ 0.25 Hz; private `rr` module). On top we add, with our own shapes and constants:
 //! irregular-rhythm episodes (independent gamma RR, no P wave, a 4–9 Hz fibrillatory baseline),
 //! premature ectopic beats (short coupling, wide QRS, inverted T, compensatory pause), baseline
 //! wander, mains hum, muscle noise and electrode-motion bursts. Every random step draws from its
@@ -79,31 +80,20 @@ fn generate(p: &SynthParams, with_noise: bool) -> Result<Generated> {
         &mut rng(p.seed, stream::RR),
     );
     let beats = rr::schedule(p, &tach, duration_s, &mut rng(p.seed, stream::SCHEDULE))?;
-    let mut leads = model::integrate(&beats, fs, n, p.leads, model::gain_mv(p.r_amplitude_mv))?;
+    let mut leads = model::integrate(&beats, fs, n, p.leads, model::gain_mv(p.r_amplitude_mv)?)?;
 
     // The fibrillatory baseline is cardiac activity, hence part of the noise-free signal; lead 2
     // sees it at 70 % (same atrial source, other projection).
-    let mut fib_rng = rng(p.seed, stream::FIBRILLATION);
-    let mut fib = vec![
-        0.0;
-        if p.irregular_episodes.is_empty() {
-            0
-        } else {
-            n
-        }
-    ];
-    noise::add_fibrillation(
-        &mut fib,
-        fs,
-        &p.irregular_episodes,
-        p.fibrillation_mv,
-        &mut fib_rng,
-    );
+    let fib_rng = rng(p.seed, stream::FIBRILLATION);
     for (l, lead) in leads.iter_mut().enumerate() {
         let g = if l == 0 { 1.0 } else { 0.7 };
-        for (v, f) in lead.iter_mut().zip(&fib) {
-            *v += g * f;
-        }
+        noise::add_fibrillation(
+            lead,
+            fs,
+            &p.irregular_episodes,
+            g * p.fibrillation_mv,
+            &mut fib_rng.clone(),
+        );
     }
 
     if with_noise {
@@ -114,7 +104,9 @@ fn generate(p: &SynthParams, with_noise: bool) -> Result<Generated> {
             p.motion_mv,
             &mut rng(p.seed, stream::MOTION),
         );
-        for (l, lead) in leads.iter_mut().enumerate() {
+        // Leads use their own streams, so they can be noised in parallel deterministically.
+        use rayon::prelude::*;
+        leads.par_iter_mut().enumerate().for_each(|(l, lead)| {
             let base = stream::LEAD_BASE * (l as u64 + 1);
             // Lead 2: same breathing, other electrode geometry.
             let g = if l == 0 { 1.0 } else { 0.8 };
@@ -139,7 +131,7 @@ fn generate(p: &SynthParams, with_noise: bool) -> Result<Generated> {
                 &mut rng(p.seed, base + stream::MUSCLE),
             );
             noise::add_motion(lead, fs, &bursts, l);
-        }
+        });
     }
     Ok(Generated {
         leads,

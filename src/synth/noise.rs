@@ -11,7 +11,8 @@
 //!   slow drift sinusoids at 0.005–0.05 Hz (40 %);
 //! - mains hum: a sinusoid at `mains_hz`, left out at or above the Nyquist frequency;
 //! - muscle noise: white Gaussian noise band-passed by the difference of two one-pole low-pass
-//!   filters (≈ 10 Hz to min(150 Hz, 0.45 fs)), scaled to the requested RMS;
+//!   filters (≈ 10 Hz to min(150 Hz, 0.45 fs)), scaled by its exact stationary variance to the
+//!   requested RMS;
 //! - electrode motion: Poisson-timed bursts, each a Hann-windowed 0.5–3 Hz oscillation plus a
 //!   baseline jump that relaxes exponentially.
 
@@ -80,17 +81,26 @@ pub(crate) fn add_fibrillation(
     }
     const N_COMP: usize = 3;
     const RAMP_S: f64 = 0.5;
+    /// One drifting component: slow oscillators for frequency drift and amplitude modulation.
+    struct Comp {
+        f0_hz: f64,
+        phase: f64,
+        rel: f64,
+        drift: Oscillator,
+        am: Oscillator,
+    }
     for &(start_s, end_s) in episodes {
-        let mut comps: Vec<(f64, f64, f64, f64, f64, f64)> = (0..N_COMP)
+        let mut comps: Vec<Comp> = (0..N_COMP)
             .map(|_| {
-                (
-                    uniform(rng, 4.5, 8.5),      // centre frequency, Hz
-                    uniform(rng, 0.05, 0.2),     // drift rate, Hz
-                    uniform(rng, 0.0, 2.0 * PI), // drift phase
-                    uniform(rng, 0.0, 2.0 * PI), // carrier phase
-                    uniform(rng, 0.7, 1.3),      // relative amplitude
-                    uniform(rng, 0.0, 2.0 * PI), // amplitude-modulation phase
-                )
+                let f0_hz = uniform(rng, 4.5, 8.5);
+                let drift_hz = uniform(rng, 0.05, 0.2);
+                Comp {
+                    f0_hz,
+                    phase: uniform(rng, 0.0, 2.0 * PI),
+                    rel: uniform(rng, 0.7, 1.3),
+                    drift: Oscillator::new(drift_hz, fs_hz, uniform(rng, 0.0, 2.0 * PI)),
+                    am: Oscillator::new(0.5 * drift_hz, fs_hz, uniform(rng, 0.0, 2.0 * PI)),
+                }
             })
             .collect();
         let n0 = (start_s * fs_hz).ceil().max(0.0) as usize;
@@ -101,13 +111,14 @@ pub(crate) fn add_fibrillation(
             let edge = ((t - start_s).min(end_s - t) / RAMP_S).clamp(0.0, 1.0);
             let fade = 0.5 - 0.5 * (PI * edge).cos();
             let mut sum = 0.0;
-            for comp in comps.iter_mut() {
-                let (f0, fd, pd, ref mut phase, rel, pa) = *comp;
+            for c in comps.iter_mut() {
                 // Frequency drifts ±0.5 Hz around f0 (stays in 4–9 Hz); amplitude ±30 %.
-                let f = f0 + 0.5 * (2.0 * PI * fd * t + pd).sin();
-                *phase += 2.0 * PI * f / fs_hz;
-                let am = 1.0 + 0.3 * (2.0 * PI * 0.5 * fd * t + pa).sin();
-                sum += rel * am * phase.sin();
+                let f = c.f0_hz + 0.5 * c.drift.next_sin();
+                c.phase += 2.0 * PI * f / fs_hz;
+                if c.phase > 2.0 * PI {
+                    c.phase -= 2.0 * PI;
+                }
+                sum += c.rel * (1.0 + 0.3 * c.am.next_sin()) * c.phase.sin();
             }
             *v += fade * per * sum / 1.3;
         }
@@ -163,26 +174,37 @@ pub(crate) fn add_mains(
 }
 
 /// Add band-limited Gaussian muscle noise with RMS `rms_mv`.
+///
+/// The filter is y = y_hi − y_lo, two one-pole low-passes y_i[n] = p_i y_i[n−1] + k_i w[n]
+/// (k_i = 1 − p_i) of the same white noise w of unit variance, so its stationary variance is
+/// Σ_m (k₁p₁ᵐ − k₂p₂ᵐ)² = k₁²/(1−p₁²) + k₂²/(1−p₂²) − 2k₁k₂/(1−p₁p₂); the output is scaled by
+/// that, in one pass.
 pub(crate) fn add_muscle(lead: &mut [f64], fs_hz: f64, rms_mv: f64, rng: &mut ChaCha8Rng) {
-    if rms_mv <= 0.0 || lead.is_empty() {
+    if rms_mv <= 0.0 {
         return;
     }
-    let pole = |fc: f64| 1.0 - (-2.0 * PI * fc / fs_hz).exp();
-    let (k_hi, k_lo) = (pole((0.45 * fs_hz).min(150.0)), pole(10.0));
-    let (mut y_hi, mut y_lo) = (0.0, 0.0);
-    let mut noise: Vec<f64> = Vec::with_capacity(lead.len());
-    for _ in 0..lead.len() {
-        let w: f64 = StandardNormal.sample(rng);
-        y_hi += k_hi * (w - y_hi);
-        y_lo += k_lo * (w - y_lo);
-        noise.push(y_hi - y_lo);
+    let gain = |fc: f64| 1.0 - (-2.0 * PI * fc / fs_hz).exp();
+    let (k1, k2) = (gain((0.45 * fs_hz).min(150.0)), gain(10.0));
+    let (p1, p2) = (1.0 - k1, 1.0 - k2);
+    let var =
+        k1 * k1 / (1.0 - p1 * p1) + k2 * k2 / (1.0 - p2 * p2) - 2.0 * k1 * k2 / (1.0 - p1 * p2);
+    if var.is_nan() || var <= 0.0 {
+        return;
     }
-    let rms = (noise.iter().map(|v| v * v).sum::<f64>() / noise.len() as f64).sqrt();
-    if rms > 0.0 {
-        let g = rms_mv / rms;
-        for (v, e) in lead.iter_mut().zip(&noise) {
-            *v += g * e;
-        }
+    let g = rms_mv / var.sqrt();
+    // Burn-in of 0.2 s (≥ 12 time constants of the slower 10 Hz pole) so the output is
+    // stationary from the first sample.
+    let (mut y1, mut y2) = (0.0, 0.0);
+    for _ in 0..(0.2 * fs_hz).ceil() as usize {
+        let w: f64 = StandardNormal.sample(rng);
+        y1 = p1 * y1 + k1 * w;
+        y2 = p2 * y2 + k2 * w;
+    }
+    for v in lead.iter_mut() {
+        let w: f64 = StandardNormal.sample(rng);
+        y1 = p1 * y1 + k1 * w;
+        y2 = p2 * y2 + k2 * w;
+        *v += g * (y1 - y2);
     }
 }
 

@@ -35,8 +35,8 @@ pub(crate) const RR_MIN_S: f64 = 0.12;
 pub(crate) const RR_MAX_S: f64 = 6.0;
 /// Range of the coupling interval of a premature ectopic beat, fraction of the current RR.
 pub(crate) const COUPLING_RANGE: (f64, f64) = (0.60, 0.75);
-/// Seconds of beats simulated before t = 0 so the model has forgotten its initial state.
-pub(crate) const WARM_UP_S: f64 = 6.0;
+/// Seconds of beats scheduled before t = 0 (at constant RR) so the model can settle.
+pub(crate) const WARM_UP_S: f64 = super::model::SETTLE_S + 2.0;
 
 /// The kind of a beat, which decides its waveform.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
