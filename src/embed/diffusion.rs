@@ -150,7 +150,7 @@ pub struct DiffusionModel {
 fn kth_distance(x: &[f64], lm: &Points, k: usize, buf: &mut Vec<f64>) -> f64 {
     buf.clear();
     buf.extend(lm.rows().map(|r| Points::dist2(x, r)));
-    let is_member = buf.iter().any(|&d| d == 0.0);
+    let is_member = buf.contains(&0.0);
     let rank = if is_member { k } else { k - 1 }.min(buf.len().saturating_sub(1));
     let (_, v, _) = buf.select_nth_unstable_by(rank, f64::total_cmp);
     v.sqrt().max(f64::MIN_POSITIVE.sqrt())
