@@ -72,7 +72,8 @@ fn main() -> anyhow::Result<()> {
                 .map(|r| r.end_s - r.start_s)
                 .sum()
         };
-        let (af, afl) = (secs("AFIB"), secs("AFL"));
+        // `+ 0.0` turns an empty sum's −0 into 0 for printing.
+        let (af, afl) = (secs("AFIB") + 0.0, secs("AFL") + 0.0);
         let t_nb: usize = f[c_nb].parse()?;
         let t_nv: usize = f[c_nv].parse()?;
         let t_af: f64 = f[c_af].parse()?;

@@ -284,8 +284,23 @@ pub fn analyze(
     progress(1, STAGES[1]);
     let b = detect_beats(rec, p)?;
     progress(2, STAGES[2]);
-    let feats = features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features)?;
     let mut notes = Vec::new();
+    let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
+        Ok(f) => f,
+        Err(Error::Analysis(msg)) => {
+            notes.push(format!("beat features: {msg}"));
+            Features {
+                points: crate::points::Points {
+                    n: 0,
+                    dim: 0,
+                    data: Vec::new(),
+                },
+                names: Vec::new(),
+                beat_index: Vec::new(),
+            }
+        }
+        Err(e) => return Err(e),
+    };
     progress(3, STAGES[3]);
     let (embedding, dim) = if feats.points.n >= MIN_BEATS_FOR_GEOMETRY {
         let e = embed::diffusion_map(&feats.points, &p.diffusion)?;

@@ -335,3 +335,53 @@ fn bad_input_gives_exit_2_and_names_the_file() {
             .unwrap();
     assert!(!s["notes"].as_array().unwrap().is_empty());
 }
+
+#[test]
+fn hdf5_signal_input_and_inspect() {
+    // tests/data/h5/signals.h5 is written by h5py (scripts/make_h5_fixture.py).
+    let tmp = tempfile::tempdir().unwrap();
+    let h5 = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/h5/signals.h5");
+    let h5s = h5.to_str().unwrap();
+    let o = beatfold(
+        &["beats", h5s, "--dataset", "rec/lead", "--json"],
+        tmp.path(),
+    );
+    let j: serde_json::Value = serde_json::from_str(&ok(&o)).unwrap();
+    assert_eq!(j["fs_hz"], 128.0);
+    let o = beatfold(&["beats", h5s], tmp.path());
+    assert_eq!(
+        o.status.code(),
+        Some(2),
+        "ambiguous dataset is a usage error"
+    );
+    ok(&beatfold(
+        &[
+            "synth",
+            "--out",
+            "r.csv",
+            "--minutes",
+            "1",
+            "--seed",
+            "4",
+            "-q",
+        ],
+        tmp.path(),
+    ));
+    ok(&beatfold(
+        &["analyze", "r.csv", "--out", "a", "-q"],
+        tmp.path(),
+    ));
+    let text = ok(&beatfold(&["inspect", "a/results.h5"], tmp.path()));
+    for needle in [
+        "@notice",
+        "@input_sha256",
+        "/beats/sample",
+        "/embedding/coords",
+        "/dimension/",
+    ] {
+        assert!(
+            text.contains(needle),
+            "inspect output lacks {needle}:\n{text}"
+        );
+    }
+}

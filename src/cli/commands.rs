@@ -106,6 +106,14 @@ pub fn run(cli: Cli) -> Result<()> {
             json,
         } => dimension_cmd(&input, &method, seed, json, quiet),
         Command::Rhythm { input, json } => rhythm_cmd(&input, json, quiet),
+        Command::Inspect { file } => {
+            let text = io::hdf5::inspect(&file)?;
+            if !quiet {
+                println!("NOTICE: {NOTICE}");
+            }
+            print!("{text}");
+            Ok(())
+        }
     }
 }
 
@@ -136,6 +144,7 @@ fn load(input: &InputArgs, o: &Out) -> Result<(Record, AnalyzeParams, InputInfo)
         &ReadOptions {
             fs_hz: input.fs_hz,
             annotations: input.reference.clone(),
+            dataset: input.dataset.clone(),
         },
     )?;
     o.warn(&loaded.warnings);
@@ -279,6 +288,7 @@ fn demo(out: &Path, seed: Option<u64>, minutes: f64, json: bool, quiet: bool) ->
         lead: None,
         reference: None,
         config: None,
+        dataset: None,
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
@@ -425,6 +435,7 @@ fn score_cmd(
             lead: lead.clone(),
             reference: reference.clone(),
             config: None,
+            dataset: None,
         };
         let (rec, params, _) = load(&input, &o)?;
         if rec.annotations.beats.is_empty() {

@@ -23,7 +23,7 @@ pub struct Cli {
 /// Reading options shared by commands that take a recording.
 #[derive(Debug, Args, Clone)]
 pub struct InputArgs {
-    /// Recording (.csv/.tsv) or, where accepted, a plain numeric CSV of points.
+    /// Recording (.csv/.tsv, .edf, .hea, .h5) or, where accepted, a plain numeric CSV of points.
     pub input: PathBuf,
     /// Sampling rate in Hz for files without a time column or rate comment (no default).
     #[arg(long = "fs", value_name = "HZ")]
@@ -37,6 +37,9 @@ pub struct InputArgs {
     /// JSON file of analysis parameters (missing keys take defaults; see docs/methods.md).
     #[arg(long, value_name = "FILE")]
     pub config: Option<PathBuf>,
+    /// For HDF5 input: the dataset holding the signal, e.g. /ecg (default: the only dataset).
+    #[arg(long, value_name = "PATH")]
+    pub dataset: Option<String>,
 }
 
 /// Commands.
@@ -162,6 +165,11 @@ pub enum Command {
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,
+    },
+    /// Print a readable summary of an HDF5 file, such as a results file.
+    Inspect {
+        /// The HDF5 file.
+        file: PathBuf,
     },
     /// Time-domain variability of the RR series.
     Rhythm {

@@ -8,6 +8,7 @@
 pub mod annotations;
 pub mod csv;
 pub mod edf;
+pub mod hdf5;
 pub mod physionet;
 
 use crate::error::{Error, Result};
@@ -28,6 +29,8 @@ pub struct ReadOptions {
     pub fs_hz: Option<f64>,
     /// Reference annotation file to attach (beatfold annotation CSV).
     pub annotations: Option<PathBuf>,
+    /// For HDF5 input: the dataset holding the signal.
+    pub dataset: Option<String>,
 }
 
 /// A record with the warnings its reader raised (e.g. missing values).
@@ -39,7 +42,7 @@ pub struct Loaded {
     pub warnings: Vec<String>,
 }
 
-/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`, `.edf`, `.hea`).
+/// Read a recording, choosing the reader by file extension (`.csv`, `.tsv`, `.txt`, `.edf`, `.h5`/`.hdf5`, `.hea`).
 ///
 /// When `opts.annotations` is not given, a sibling `<stem>.annotations.csv` (as written by
 /// `beatfold synth`) is attached if it exists.
@@ -52,6 +55,7 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
     let mut loaded = match ext.as_str() {
         "csv" | "tsv" | "txt" => csv::read_record(path, opts.fs_hz)?,
         "edf" => edf::read_record(path)?,
+        "h5" | "hdf5" => hdf5::read_record(path, opts.dataset.as_deref(), opts.fs_hz)?,
         "hea" => {
             // For a PhysioNet-format record, `annotations` may name an annotation file or just
             // its extension (default `atr`).
