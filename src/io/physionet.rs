@@ -457,13 +457,25 @@ pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<Str
                 _ => 0,
             };
             let have = std::fs::metadata(&fpath)
-                .map_err(|e| Error::io(&fpath, e))?
+                .map_err(|e| {
+                    Error::input(
+                        hea,
+                        format!("signal file `{file}`"),
+                        format!("cannot open {}: {e}", fpath.display()),
+                    )
+                })?
                 .len() as usize;
             if need > 0 && have < need {
                 return Err(Error::input(&fpath, format!("byte {have}"), format!("file ends early: the header promises {n} samples per signal ({need} bytes), the file has {have} bytes")));
             }
         }
-        let bytes = std::fs::read(&fpath).map_err(|e| Error::io(&fpath, e))?;
+        let bytes = std::fs::read(&fpath).map_err(|e| {
+            Error::input(
+                hea,
+                format!("signal file `{file}`"),
+                format!("cannot read {}: {e}", fpath.display()),
+            )
+        })?;
         let dec = decode(&fpath, &bytes, fmt, idx.len())?;
         for (k, &i) in idx.iter().enumerate() {
             adu[i] = dec[k].clone();
