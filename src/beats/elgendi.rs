@@ -98,23 +98,7 @@ impl ElgendiParams {
 /// linear interpolation; a lead without a finite sample is an error.
 pub fn elgendi(x: &[f64], fs_hz: f64, p: &ElgendiParams) -> Result<Vec<usize>> {
     p.check()?;
-    if !(fs_hz.is_finite() && fs_hz > 0.0) {
-        return Err(Error::param(
-            "fs_hz",
-            format!("sampling rate {fs_hz} Hz must be finite and > 0"),
-        ));
-    }
-    if p.band_hz.1 >= 0.5 * fs_hz {
-        return Err(Error::param(
-            "band_hz",
-            format!(
-                "high corner {} Hz must be below the Nyquist frequency {} Hz",
-                p.band_hz.1,
-                0.5 * fs_hz
-            ),
-        ));
-    }
-    let band = Sos::butter_bandpass(p.filter_order, p.band_hz.0, p.band_hz.1, fs_hz)?;
+    let band = Sos::checked_bandpass(p.filter_order, p.band_hz, fs_hz)?;
     let n = x.len();
     if n == 0 {
         return Ok(Vec::new());

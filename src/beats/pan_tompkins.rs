@@ -252,23 +252,7 @@ impl PanTompkins {
     /// Check `p` against `fs_hz` and design the band-pass.
     pub fn new(fs_hz: f64, p: &DetectParams) -> Result<PanTompkins> {
         p.check()?;
-        if !(fs_hz.is_finite() && fs_hz > 0.0) {
-            return Err(Error::param(
-                "fs_hz",
-                format!("sampling rate {fs_hz} Hz must be finite and > 0"),
-            ));
-        }
-        if p.band_hz.1 >= 0.5 * fs_hz {
-            return Err(Error::param(
-                "band_hz",
-                format!(
-                    "high corner {} Hz must be below the Nyquist frequency {} Hz",
-                    p.band_hz.1,
-                    0.5 * fs_hz
-                ),
-            ));
-        }
-        let band = Sos::butter_bandpass(p.filter_order, p.band_hz.0, p.band_hz.1, fs_hz)?;
+        let band = Sos::checked_bandpass(p.filter_order, p.band_hz, fs_hz)?;
         let samples = |s: f64| (s * fs_hz).round().max(0.0) as usize;
         Ok(PanTompkins {
             fs_hz,

@@ -125,23 +125,7 @@ impl Conditioner {
     /// Check `p` against `fs_hz` and design the filters.
     pub fn new(fs_hz: f64, p: &ConditionParams) -> Result<Conditioner> {
         p.check()?;
-        if !(fs_hz.is_finite() && fs_hz > 0.0) {
-            return Err(Error::param(
-                "fs_hz",
-                format!("sampling rate {fs_hz} Hz must be finite and > 0"),
-            ));
-        }
-        if p.band_hz.1 >= 0.5 * fs_hz {
-            return Err(Error::param(
-                "band_hz",
-                format!(
-                    "high corner {} Hz must be below the Nyquist frequency {} Hz of this record",
-                    p.band_hz.1,
-                    0.5 * fs_hz
-                ),
-            ));
-        }
-        let band = Sos::butter_bandpass(p.order, p.band_hz.0, p.band_hz.1, fs_hz)?;
+        let band = Sos::checked_bandpass(p.order, p.band_hz, fs_hz)?;
         let chain = match p.notch_hz {
             Some(f0) => band.then(&Sos::notch(f0, p.notch_q, fs_hz)?)?,
             None => band,

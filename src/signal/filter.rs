@@ -432,6 +432,30 @@ fn run_group<const K: usize>(
     }
 }
 
+impl Sos {
+    /// A Butterworth band-pass for a record at `fs_hz`, after checking the rate is usable and the
+    /// high corner lies below the Nyquist frequency (errors name `fs_hz` or `band_hz`).
+    pub fn checked_bandpass(order: usize, band_hz: (f64, f64), fs_hz: f64) -> Result<Sos> {
+        if !(fs_hz.is_finite() && fs_hz > 0.0) {
+            return Err(Error::param(
+                "fs_hz",
+                format!("sampling rate {fs_hz} Hz must be finite and > 0"),
+            ));
+        }
+        if band_hz.1 >= 0.5 * fs_hz {
+            return Err(Error::param(
+                "band_hz",
+                format!(
+                    "high corner {} Hz must be below the Nyquist frequency {} Hz of this record",
+                    band_hz.1,
+                    0.5 * fs_hz
+                ),
+            ));
+        }
+        Sos::butter_bandpass(order, band_hz.0, band_hz.1, fs_hz)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
