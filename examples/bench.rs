@@ -44,7 +44,7 @@ fn main() -> anyhow::Result<()> {
         beatfold::features::beat_features(&c, rec.fs_hz, &det.samples, &p.features)
     })?;
     println!("feature matrix: {} x {}", f.points.n, f.points.dim);
-    let e = time("diffusion map (fit 3000, Nystrom for the rest)", || {
+    let e = time("diffusion map (fit 2000, Nystrom for the rest)", || {
         beatfold::embed::diffusion_map(&f.points, &p.diffusion)
     })?;
     println!("eigenvalues: {:?}", &e.eigenvalues[..4]);

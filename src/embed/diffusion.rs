@@ -49,7 +49,7 @@ pub struct DiffusionParams {
     /// Kernel bandwidth ε in squared feature units; `None` (default) picks it by
     /// [`auto_epsilon`].
     pub epsilon: Option<f64>,
-    /// Largest fit set (default 3000, at most 5000). Above it the map is fitted on a seeded
+    /// Largest fit set (default 2000, at most 5000). Above it the map is fitted on a seeded
     /// random subset and every other point is placed by Nyström extension.
     pub max_fit_points: usize,
     /// Seed for the subset and the bandwidth subsample (default 0).
@@ -69,7 +69,7 @@ impl Default for DiffusionParams {
             alpha: 1.0,
             t: 1.0,
             epsilon: None,
-            max_fit_points: 3000,
+            max_fit_points: 2000,
             seed: 0,
             local_scaling_neighbors: 0,
         }
