@@ -50,6 +50,10 @@ fn main() -> anyhow::Result<()> {
     let _ = writeln!(md, "|---|---|---|---|---|---|---|---|---|---|---|---|");
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);
     let mut worst: Vec<(String, f64, f64)> = Vec::new();
+    let mut rhythm_md = String::from(
+        "| record | reference AF/AFL s | screened s | overlap s | duration Se % | duration Sp % |\n|---|---|---|---|---|---|\n",
+    );
+    let (mut af_ref, mut af_det, mut af_tp, mut af_total) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
     let t0 = std::time::Instant::now();
     for line in lines {
         let f: Vec<&str> = line.split(',').collect();
@@ -91,6 +95,52 @@ fn main() -> anyhow::Result<()> {
             0.150,
             start,
             rec.n_samples(),
+        );
+        // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
+        let t_end: Vec<f64> = b
+            .samples
+            .iter()
+            .skip(1)
+            .map(|&s| s as f64 / rec.fs_hz)
+            .collect();
+        let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
+        let truth: Vec<(f64, f64)> = rec
+            .annotations
+            .rhythms
+            .iter()
+            .filter(|r| r.label == "AFIB" || r.label == "AFL")
+            .map(|r| (r.start_s, r.end_s))
+            .collect();
+        let found: Vec<(f64, f64)> = sc.episodes.iter().map(|e| (e.start_s, e.end_s)).collect();
+        let dur = rec.duration_s();
+        let (rs, ds, _, _) = beatfold::rhythm::screen::duration_agreement(&truth, &found, dur);
+        let (rs, ds) = (rs + 0.0, ds + 0.0);
+        let overlap: f64 = truth
+            .iter()
+            .flat_map(|&(a, b)| {
+                found
+                    .iter()
+                    .map(move |&(c, d)| (b.min(d) - a.max(c)).max(0.0))
+            })
+            .sum::<f64>()
+            + 0.0;
+        af_ref += rs;
+        af_det += ds;
+        af_tp += overlap;
+        af_total += dur;
+        let _ = writeln!(
+            rhythm_md,
+            "| {rec_name} | {rs:.0} | {ds:.0} | {overlap:.0} | {} | {} |",
+            if rs > 0.0 {
+                format!("{:.1}", 100.0 * overlap / rs)
+            } else {
+                "–".into()
+            },
+            if dur - rs > 0.0 {
+                format!("{:.1}", 100.0 * (dur - rs - ds + overlap) / (dur - rs))
+            } else {
+                "–".into()
+            }
         );
         let paced = PACED.contains(&rec_name);
         if !paced {
@@ -134,14 +184,25 @@ fn main() -> anyhow::Result<()> {
         worst.first().map_or(0.0, |w| 100.0 * w.2),
         t0.elapsed().as_secs_f64()
     );
+    let af_se = af_tp / af_ref.max(1e-9);
+    let af_sp = (af_total - af_ref - af_det + af_tp) / (af_total - af_ref).max(1e-9);
+    let rhythm_summary = format!(
+        "Irregular-rhythm research screen against (AFIB and (AFL labels (all records, by duration): Se {:.2} %, Sp {:.2} % \
+         ({af_ref:.0} s labelled, {af_det:.0} s screened, {af_tp:.0} s overlap).\n",
+        100.0 * af_se,
+        100.0 * af_sp
+    );
     println!("{summary}");
     println!("{md}");
+    println!("{rhythm_summary}");
+    println!("{rhythm_md}");
     if let Some(out) = out {
         let doc = format!(
             "# Validation on open annotated records\n\n\
              Made by `cargo run --release --example validate_mitdb -- {} --out {}` (do not edit by hand).\n\n\
              Data: MIT-BIH Arrhythmia Database 1.0.0 subset (Moody & Mark 2001; Goldberger et al. 2000; PhysioNet, \
-             ODC-By 1.0), 18 records; see the folder's SOURCE.md.\n\n{summary}\n{md}\n\
+             ODC-By 1.0), 18 records; see the folder's SOURCE.md.\n\n## Decoding and beat detection\n\n{summary}\n{md}\n\
+             ## Irregular-rhythm research screen\n\n{rhythm_summary}\n{rhythm_md}\n\
              Research use only: these numbers describe beatfold on this benchmark, not on your data.\n",
             folder.display(),
             out.display()

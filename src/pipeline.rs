@@ -46,8 +46,18 @@ pub struct Analysis {
     pub embedding: Embedding,
     /// Scale-resolved dimension of the feature rows.
     pub dimension: ScalingCurve,
-    /// Time-domain variability of the RR series.
+    /// Time-domain variability of the NN series.
     pub variability: Variability,
+    /// Poincaré SD1 and SD2 of the NN series, milliseconds (Brennan et al. 2001).
+    pub poincare_ms: (f64, f64),
+    /// Sample entropy of the NN series (m = 2, r = 0.2·SD; Richman & Moorman 2000), computed on
+    /// at most the first 5000 intervals; NaN when undefined.
+    pub sample_entropy: f64,
+    /// Irregular-rhythm research screen over the RR series (Dash et al. 2009 statistics).
+    pub screen: crate::rhythm::screen::Screen,
+    /// Recurrence quantification of the beat trajectory in diffusion coordinates, in sliding
+    /// windows (Marwan et al. 2007); window bounds index feature rows.
+    pub recurrence: Vec<crate::rhythm::recurrence::RqaWindow>,
     /// Reference annotations that came with the record (possibly empty).
     pub reference: Annotations,
     /// Detection score against the reference beats, when there are any.
@@ -93,6 +103,12 @@ pub struct AnalyzeParams {
     pub diffusion: DiffusionParams,
     /// k-means quantization scaling.
     pub dimension: KmeansScalingParams,
+    /// Irregular-rhythm screen.
+    pub screen: crate::rhythm::screen::ScreenParams,
+    /// Recurrence quantification of the embedded beat trajectory.
+    pub recurrence: crate::rhythm::recurrence::RqaParams,
+    /// Diffusion coordinates used as the trajectory for recurrence (default 3).
+    pub recurrence_components: usize,
     /// Quality segment length, seconds.
     pub quality_segment_s: f64,
     /// Beat matching window for scoring against reference beats, seconds (EC57: 0.150).
@@ -114,6 +130,9 @@ impl Default for AnalyzeParams {
                 ..DiffusionParams::default()
             },
             dimension: KmeansScalingParams::default(),
+            screen: crate::rhythm::screen::ScreenParams::default(),
+            recurrence: crate::rhythm::recurrence::RqaParams::default(),
+            recurrence_components: 3,
             quality_segment_s: 10.0,
             score_window_s: 0.150,
         }
@@ -135,6 +154,14 @@ impl AnalyzeParams {
         self.features.check()?;
         self.diffusion.check()?;
         self.dimension.check()?;
+        self.screen.check()?;
+        self.recurrence.check()?;
+        if self.recurrence_components == 0 {
+            return Err(Error::param(
+                "recurrence_components",
+                "must be at least 1 diffusion coordinate",
+            ));
+        }
         if !(self.quality_segment_s.is_finite() && self.quality_segment_s >= 1.0) {
             return Err(Error::param(
                 "quality_segment_s",
@@ -317,6 +344,36 @@ pub fn analyze(
     progress(5, STAGES[5]);
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
     let variability = rhythm::variability(&nn);
+    let (sd1, sd2) = rhythm::entropy::poincare(&nn);
+    let head = &nn[..nn.len().min(5000)];
+    let sample_entropy =
+        rhythm::entropy::sample_entropy(head, 2, 0.2 * rhythm::entropy::std_dev(head));
+    let t_end: Vec<f64> = b
+        .samples
+        .iter()
+        .skip(1)
+        .map(|&s| s as f64 / rec.fs_hz)
+        .collect();
+    let screen = rhythm::screen::screen(&b.rr_s, &t_end, &p.screen)?;
+    if screen.windows.is_empty() {
+        notes.push(format!(
+            "irregular-rhythm screen: {} RR intervals, fewer than one window of {}",
+            b.rr_s.len(),
+            p.screen.window_beats
+        ));
+    }
+    let recurrence = if embedding.n >= 8 {
+        let c = p.recurrence_components.min(embedding.components);
+        let traj: Vec<f64> = embedding
+            .coords
+            .chunks(embedding.components.max(1))
+            .flat_map(|r| r[..c].to_vec())
+            .collect();
+        let pts = crate::points::Points::new(embedding.n, c, traj)?;
+        rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?
+    } else {
+        Vec::new()
+    };
     let reference = rec.annotations.clone();
     let score = (!reference.beats.is_empty()).then(|| {
         let r: Vec<usize> = reference.beats.iter().map(|x| x.sample).collect();
@@ -341,6 +398,10 @@ pub fn analyze(
         embedding,
         dimension: dim,
         variability,
+        poincare_ms: (sd1 * 1000.0, sd2 * 1000.0),
+        sample_entropy,
+        screen,
+        recurrence,
         reference,
         score,
         parameters,

@@ -231,6 +231,15 @@ fn json_outputs_have_the_documented_keys() {
         assert!(j["beats"].get(k).is_some(), "score JSON lacks beats.{k}");
     }
     assert_eq!(j["beats"]["match_window_ms"].as_f64().unwrap(), 150.0);
+    // The synthetic reference carries rhythm labels, so the rhythm part is present.
+    for k in [
+        "reference_irregular_s",
+        "detected_irregular_s",
+        "duration_se",
+        "duration_sp",
+    ] {
+        assert!(j["rhythm"].get(k).is_some(), "score JSON lacks rhythm.{k}");
+    }
     let j: serde_json::Value = serde_json::from_str(&ok(&beatfold(
         &["embed", "r.csv", "--json", "--components", "4"],
         tmp.path(),

@@ -462,9 +462,20 @@ fn score_cmd(
             100.0 * s.se,
             100.0 * s.ppv
         ));
+        let rhythm = rhythm_score(&rec, &b, &params)?;
+        if let Some(r) = &rhythm {
+            o.line(format!(
+                "{:<24} irregular-rhythm screen (research): reference {:.0} s, screened {:.0} s, duration Se {:.2} %, Sp {:.2} %",
+                "",
+                r["reference_irregular_s"].as_f64().unwrap_or(0.0),
+                r["detected_irregular_s"].as_f64().unwrap_or(0.0),
+                100.0 * r["duration_se"].as_f64().unwrap_or(f64::NAN),
+                100.0 * r["duration_sp"].as_f64().unwrap_or(f64::NAN)
+            ));
+        }
         rows.push(json!({
             "record": rec.name, "duration_s": rec.duration_s(),
-            "beats": s, "rhythm": serde_json::Value::Null,
+            "beats": s, "rhythm": rhythm.unwrap_or(serde_json::Value::Null),
         }));
     }
     let gse = if tp + fn_ > 0 {
@@ -499,6 +510,51 @@ fn score_cmd(
         println!("{}", serde_json::to_string_pretty(&j)?);
     }
     Ok(())
+}
+
+/// Reference rhythm labels counted as irregular: beatfold's synthetic label and the atrial
+/// fibrillation / flutter labels of open annotated databases.
+const IRREGULAR_LABELS: [&str; 3] = [beatfold::record::RHYTHM_IRREGULAR, "AFIB", "AFL"];
+
+/// Duration agreement of the irregular-rhythm screen with the reference rhythm labels, or None
+/// when the reference has no rhythm labels.
+fn rhythm_score(
+    rec: &Record,
+    b: &pipeline::BeatsResult,
+    params: &AnalyzeParams,
+) -> Result<Option<serde_json::Value>> {
+    if rec.annotations.rhythms.is_empty() {
+        return Ok(None);
+    }
+    let t_end: Vec<f64> = b
+        .samples
+        .iter()
+        .skip(1)
+        .map(|&s| s as f64 / rec.fs_hz)
+        .collect();
+    let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
+    let truth: Vec<(f64, f64)> = rec
+        .annotations
+        .rhythms
+        .iter()
+        .filter(|r| IRREGULAR_LABELS.contains(&r.label.as_str()))
+        .map(|r| (r.start_s, r.end_s))
+        .collect();
+    let found: Vec<(f64, f64)> = sc.episodes.iter().map(|e| (e.start_s, e.end_s)).collect();
+    let (r, d, se, sp) =
+        beatfold::rhythm::screen::duration_agreement(&truth, &found, rec.duration_s());
+    let num = |v: f64| {
+        if v.is_finite() {
+            json!(v)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    Ok(Some(json!({
+        "reference_irregular_s": r, "detected_irregular_s": d,
+        "duration_se": num(se), "duration_sp": num(sp),
+        "reference_episodes": truth.len(), "detected_episodes": found.len(),
+    })))
 }
 
 /// Points from a recording's beat features or from a plain numeric CSV.
@@ -618,8 +674,33 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     let b = pipeline::detect_beats(&rec, &params)?;
     let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
     let v = beatfold::rhythm::variability(&nn);
+    let (sd1, sd2) = beatfold::rhythm::entropy::poincare(&nn);
+    let head = &nn[..nn.len().min(5000)];
+    let sampen = beatfold::rhythm::entropy::sample_entropy(
+        head,
+        2,
+        0.2 * beatfold::rhythm::entropy::std_dev(head),
+    );
+    let t_end: Vec<f64> = b
+        .samples
+        .iter()
+        .skip(1)
+        .map(|&s| s as f64 / rec.fs_hz)
+        .collect();
+    let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
+    let num = |x: f64| {
+        if x.is_finite() {
+            json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
     if json {
-        let j = json!({"record": rec.name, "variability": v, "notice": NOTICE});
+        let j = json!({"record": rec.name, "variability": v,
+            "poincare": {"sd1_ms": num(sd1 * 1000.0), "sd2_ms": num(sd2 * 1000.0)},
+            "sample_entropy": num(sampen),
+            "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
+            "notice": NOTICE});
         println!("{}", serde_json::to_string_pretty(&j)?);
         return Ok(());
     }
@@ -627,6 +708,21 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     o.line(format!(
         "{}: {} NN intervals; mean HR {:.1} bpm, SDNN {:.1} ms, RMSSD {:.1} ms, pNN50 {:.3}",
         rec.name, v.n_rr, v.mean_hr_bpm, v.sdnn_ms, v.rmssd_ms, v.pnn50
+    ));
+    o.line(format!(
+        "Poincaré SD1 {:.1} ms, SD2 {:.1} ms; sample entropy {:.3}",
+        sd1 * 1000.0,
+        sd2 * 1000.0,
+        sampen
+    ));
+    o.line(format!(
+        "irregular-rhythm research screen (not a diagnosis): {} windows, {} episode(s){}",
+        sc.windows.len(),
+        sc.episodes.len(),
+        sc.episodes
+            .iter()
+            .map(|e| format!(" {:.0}–{:.0} s", e.start_s, e.end_s))
+            .collect::<String>()
     ));
     Ok(())
 }

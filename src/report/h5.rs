@@ -212,6 +212,58 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     g.set_attr("sdnn_ms", AttrValue::F64(v.sdnn_ms));
     g.set_attr("rmssd_ms", AttrValue::F64(v.rmssd_ms));
     g.set_attr("pnn50", AttrValue::F64(v.pnn50));
+    g.set_attr("sd1_ms", AttrValue::F64(a.poincare_ms.0));
+    g.set_attr("sd2_ms", AttrValue::F64(a.poincare_ms.1));
+    g.set_attr("sample_entropy", AttrValue::F64(a.sample_entropy));
+    let sw = &a.screen.windows;
+    let col = |f: &dyn Fn(&crate::rhythm::screen::ScreenWindow) -> f64| -> Vec<f64> {
+        sw.iter().map(f).collect()
+    };
+    g.create_dataset("screen_start_rr")
+        .with_u64_data(&sw.iter().map(|w| w.start as u64).collect::<Vec<_>>());
+    g.create_dataset("screen_nrmssd")
+        .with_f64_data(&col(&|w| w.nrmssd));
+    g.create_dataset("screen_entropy")
+        .with_f64_data(&col(&|w| w.entropy));
+    g.create_dataset("screen_tpr")
+        .with_f64_data(&col(&|w| w.tpr));
+    g.create_dataset("screen_irregular")
+        .with_u8_data(&sw.iter().map(|w| u8::from(w.irregular)).collect::<Vec<_>>());
+    let ep: Vec<f64> = a
+        .screen
+        .episodes
+        .iter()
+        .flat_map(|e| [e.start_s, e.end_s])
+        .collect();
+    g.create_dataset("episodes_s")
+        .with_f64_data(&ep)
+        .with_shape(&[a.screen.episodes.len() as u64, 2]);
+    let rq = &a.recurrence;
+    g.create_dataset("rqa_start_beat")
+        .with_u64_data(&rq.iter().map(|w| w.start as u64).collect::<Vec<_>>());
+    let rcols: Vec<f64> = rq
+        .iter()
+        .flat_map(|w| {
+            let q = &w.rqa;
+            [
+                q.rr,
+                q.det,
+                q.l,
+                q.lmax as f64,
+                q.entr,
+                q.lam,
+                q.tt,
+                q.epsilon,
+            ]
+        })
+        .collect();
+    g.create_dataset("rqa")
+        .with_f64_data(&rcols)
+        .with_shape(&[rq.len() as u64, 8]);
+    g.set_attr(
+        "rqa_columns",
+        AttrValue::VarLenString("rr,det,l,lmax,entr,lam,tt,epsilon".into()),
+    );
     b.add_group(g.finish());
 
     b.finish()

@@ -88,6 +88,33 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
     if let Some(ag) = a.agreement {
         row(&mut t, "Detector agreement", &f(ag, 3));
     }
+    row(
+        &mut t,
+        "Poincaré SD1 / SD2",
+        &format!("{} / {} ms", f(a.poincare_ms.0, 1), f(a.poincare_ms.1, 1)),
+    );
+    row(
+        &mut t,
+        "Sample entropy (m 2, r 0.2·SD)",
+        &f(a.sample_entropy, 3),
+    );
+    let eps: Vec<String> = a
+        .screen
+        .episodes
+        .iter()
+        .map(|e| format!("{}–{} s", f(e.start_s, 0), f(e.end_s, 0)))
+        .collect();
+    row(
+        &mut t,
+        "Irregular-rhythm research screen (not a diagnosis)",
+        &if a.screen.windows.is_empty() {
+            "too few RR intervals for a window".to_string()
+        } else if eps.is_empty() {
+            format!("no irregular episode ({} windows)", a.screen.windows.len())
+        } else {
+            format!("{} episode(s): {}", eps.len(), eps.join(", "))
+        },
+    );
     match &a.score {
         Some(s) => row(
             &mut t,

@@ -63,6 +63,17 @@ pub fn summary_json(a: &Analysis) -> Value {
             "rmssd_ms": num(v.rmssd_ms),
             "pnn50": num(v.pnn50),
         },
+        "rhythm": {
+            "sd1_ms": num(a.poincare_ms.0),
+            "sd2_ms": num(a.poincare_ms.1),
+            "sample_entropy": num(a.sample_entropy),
+            "screen_windows": a.screen.windows.len(),
+            "screen_irregular_windows": a.screen.windows.iter().filter(|w| w.irregular).count(),
+            "irregular_episodes": a.screen.episodes.iter().map(|e| serde_json::json!({"start_s": num(e.start_s), "end_s": num(e.end_s)})).collect::<Vec<_>>(),
+            "irregular_s": num(a.screen.episodes.iter().map(|e| e.end_s - e.start_s).sum::<f64>()),
+            "recurrence_windows": a.recurrence.len(),
+            "recurrence_det_median": num(median_of(a.recurrence.iter().map(|w| w.rqa.det))),
+        },
         "score": score,
         "embedding": {
             "n": e.n,
@@ -86,4 +97,19 @@ pub fn summary_json(a: &Analysis) -> Value {
         // in the HTML page and the results file.
         "notes": a.notes,
     })
+}
+
+/// Median of the finite values (NaN when there is none).
+fn median_of(values: impl Iterator<Item = f64>) -> f64 {
+    let mut v: Vec<f64> = values.filter(|x| x.is_finite()).collect();
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    v.sort_by(f64::total_cmp);
+    let m = v.len() / 2;
+    if v.len() % 2 == 1 {
+        v[m]
+    } else {
+        0.5 * (v[m - 1] + v[m])
+    }
 }

@@ -151,6 +151,24 @@ fn sample_analysis() -> Analysis {
             match_window_ms: 150.0,
         }),
         parameters: json!({"band_hz": [5.0, 15.0], "note": "a < b & c"}),
+        poincare_ms: (20.0, 45.0),
+        sample_entropy: 1.2,
+        screen: crate::rhythm::screen::Screen {
+            windows: vec![crate::rhythm::screen::ScreenWindow {
+                start: 0,
+                end: 16,
+                nrmssd: 0.2,
+                entropy: 0.8,
+                tpr: 0.6,
+                irregular: true,
+            }],
+            irregular: vec![true; 21],
+            episodes: vec![crate::rhythm::screen::Episode {
+                start_s: 1.0,
+                end_s: 9.5,
+            }],
+        },
+        recurrence: Vec::new(),
         notes: vec!["a note <b>".into()],
         elapsed_s: 1.25,
     }
