@@ -366,20 +366,31 @@ impl DiffusionModel {
             || (vec![0.0; m], Vec::new()),
             |(w, buf), (r, orow)| {
                 let x = new.row(r);
-                let sx = if self.sigma_rank > 0 {
-                    kth_distance(x, &self.landmarks, self.sigma_rank, buf)
-                } else {
-                    0.0
-                };
                 for (j, wj) in w.iter_mut().enumerate() {
-                    let scale = if self.sigma_rank > 0 {
-                        sx * self.sigma[j]
-                    } else {
-                        self.epsilon
-                    };
-                    // Scaled squared distance; the kernel below is exp(−(this − min)).
-                    *wj = Points::dist2(x, self.landmarks.row(j)) / scale;
+                    *wj = Points::dist2(x, self.landmarks.row(j));
                 }
+                if self.sigma_rank > 0 {
+                    // σ_x from the same distances (x itself, if a landmark, is not a neighbour).
+                    buf.clear();
+                    buf.extend_from_slice(w);
+                    let is_member = buf.contains(&0.0);
+                    let rank = if is_member {
+                        self.sigma_rank
+                    } else {
+                        self.sigma_rank - 1
+                    }
+                    .min(buf.len().saturating_sub(1));
+                    let (_, v, _) = buf.select_nth_unstable_by(rank, f64::total_cmp);
+                    let sx = v.sqrt().max(f64::MIN_POSITIVE.sqrt());
+                    for (j, wj) in w.iter_mut().enumerate() {
+                        *wj /= sx * self.sigma[j];
+                    }
+                } else {
+                    for wj in w.iter_mut() {
+                        *wj /= self.epsilon;
+                    }
+                }
+                // Scaled squared distances; the kernel below is exp(−(this − min)).
                 let dmin = w.iter().copied().fold(f64::INFINITY, f64::min);
                 let mut total = 0.0;
                 for (j, wj) in w.iter_mut().enumerate() {
