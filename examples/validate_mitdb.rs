@@ -97,21 +97,11 @@ fn main() -> anyhow::Result<()> {
             rec.n_samples(),
         );
         // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
-        let t_end: Vec<f64> = b
-            .samples
-            .iter()
-            .skip(1)
-            .map(|&s| s as f64 / rec.fs_hz)
-            .collect();
-        let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
-        let truth: Vec<(f64, f64)> = rec
-            .annotations
-            .rhythms
-            .iter()
-            .filter(|r| r.label == "AFIB" || r.label == "AFL")
-            .map(|r| (r.start_s, r.end_s))
-            .collect();
-        let found: Vec<(f64, f64)> = sc.episodes.iter().map(|e| (e.start_s, e.end_s)).collect();
+        let sc =
+            beatfold::rhythm::screen::screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
+        // AF and flutter only: the open records carry no synthetic labels.
+        let truth = beatfold::rhythm::screen::irregular_reference(&rec.annotations);
+        let found = sc.episode_bounds();
         let dur = rec.duration_s();
         let (rs, ds, _, _) = beatfold::rhythm::screen::duration_agreement(&truth, &found, dur);
         let (rs, ds) = (rs + 0.0, ds + 0.0);

@@ -344,17 +344,8 @@ pub fn analyze(
     progress(5, STAGES[5]);
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
     let variability = rhythm::variability(&nn);
-    let (sd1, sd2) = rhythm::entropy::poincare(&nn);
-    let head = &nn[..nn.len().min(5000)];
-    let sample_entropy =
-        rhythm::entropy::sample_entropy(head, 2, 0.2 * rhythm::entropy::std_dev(head));
-    let t_end: Vec<f64> = b
-        .samples
-        .iter()
-        .skip(1)
-        .map(|&s| s as f64 / rec.fs_hz)
-        .collect();
-    let screen = rhythm::screen::screen(&b.rr_s, &t_end, &p.screen)?;
+    let (sd1_ms, sd2_ms, sample_entropy) = rhythm::entropy::nn_descriptors(&nn);
+    let screen = rhythm::screen::screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &p.screen)?;
     if screen.windows.is_empty() {
         notes.push(format!(
             "irregular-rhythm screen: {} RR intervals, fewer than one window of {}",
@@ -398,7 +389,7 @@ pub fn analyze(
         embedding,
         dimension: dim,
         variability,
-        poincare_ms: (sd1 * 1000.0, sd2 * 1000.0),
+        poincare_ms: (sd1_ms, sd2_ms),
         sample_entropy,
         screen,
         recurrence,

@@ -5,6 +5,7 @@ use anyhow::{bail, Context, Result};
 use beatfold::io::{self, ReadOptions};
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
 use beatfold::record::Record;
+use beatfold::rhythm::screen::{irregular_reference, screen_beats};
 use beatfold::{report, synth, NOTICE};
 use serde_json::json;
 use std::io::IsTerminal;
@@ -512,10 +513,6 @@ fn score_cmd(
     Ok(())
 }
 
-/// Reference rhythm labels counted as irregular: beatfold's synthetic label and the atrial
-/// fibrillation / flutter labels of open annotated databases.
-const IRREGULAR_LABELS: [&str; 3] = [beatfold::record::RHYTHM_IRREGULAR, "AFIB", "AFL"];
-
 /// Duration agreement of the irregular-rhythm screen with the reference rhythm labels, or None
 /// when the reference has no rhythm labels.
 fn rhythm_score(
@@ -526,21 +523,9 @@ fn rhythm_score(
     if rec.annotations.rhythms.is_empty() {
         return Ok(None);
     }
-    let t_end: Vec<f64> = b
-        .samples
-        .iter()
-        .skip(1)
-        .map(|&s| s as f64 / rec.fs_hz)
-        .collect();
-    let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
-    let truth: Vec<(f64, f64)> = rec
-        .annotations
-        .rhythms
-        .iter()
-        .filter(|r| IRREGULAR_LABELS.contains(&r.label.as_str()))
-        .map(|r| (r.start_s, r.end_s))
-        .collect();
-    let found: Vec<(f64, f64)> = sc.episodes.iter().map(|e| (e.start_s, e.end_s)).collect();
+    let sc = screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
+    let truth = irregular_reference(&rec.annotations);
+    let found = sc.episode_bounds();
     let (r, d, se, sp) =
         beatfold::rhythm::screen::duration_agreement(&truth, &found, rec.duration_s());
     let num = |v: f64| {
@@ -674,20 +659,8 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     let b = pipeline::detect_beats(&rec, &params)?;
     let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
     let v = beatfold::rhythm::variability(&nn);
-    let (sd1, sd2) = beatfold::rhythm::entropy::poincare(&nn);
-    let head = &nn[..nn.len().min(5000)];
-    let sampen = beatfold::rhythm::entropy::sample_entropy(
-        head,
-        2,
-        0.2 * beatfold::rhythm::entropy::std_dev(head),
-    );
-    let t_end: Vec<f64> = b
-        .samples
-        .iter()
-        .skip(1)
-        .map(|&s| s as f64 / rec.fs_hz)
-        .collect();
-    let sc = beatfold::rhythm::screen::screen(&b.rr_s, &t_end, &params.screen)?;
+    let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
+    let sc = screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
     let num = |x: f64| {
         if x.is_finite() {
             json!(x)
@@ -697,7 +670,7 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     };
     if json {
         let j = json!({"record": rec.name, "variability": v,
-            "poincare": {"sd1_ms": num(sd1 * 1000.0), "sd2_ms": num(sd2 * 1000.0)},
+            "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
             "sample_entropy": num(sampen),
             "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
             "notice": NOTICE});
@@ -711,9 +684,7 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     ));
     o.line(format!(
         "Poincaré SD1 {:.1} ms, SD2 {:.1} ms; sample entropy {:.3}",
-        sd1 * 1000.0,
-        sd2 * 1000.0,
-        sampen
+        sd1, sd2, sampen
     ));
     o.line(format!(
         "irregular-rhythm research screen (not a diagnosis): {} windows, {} episode(s){}",

@@ -105,6 +105,16 @@ pub fn poincare(rr: &[f64]) -> (f64, f64) {
     (sd1, sd2)
 }
 
+/// Poincaré SD1 and SD2 in milliseconds and the sample entropy (m = 2, r = 0.2·SD) of an NN
+/// series in seconds; the entropy uses at most the first 5000 intervals, since its cost grows
+/// with the square of the length.
+pub fn nn_descriptors(nn_s: &[f64]) -> (f64, f64, f64) {
+    let (sd1, sd2) = poincare(nn_s);
+    let head = &nn_s[..nn_s.len().min(5000)];
+    let sampen = sample_entropy(head, 2, 0.2 * std_dev(head));
+    (sd1 * 1000.0, sd2 * 1000.0, sampen)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -203,6 +203,37 @@ pub fn screen(rr_s: &[f64], t_end_s: &[f64], p: &ScreenParams) -> Result<Screen>
     })
 }
 
+/// Reference rhythm labels counted as irregular: beatfold's synthetic label and the atrial
+/// fibrillation and flutter labels of open annotated databases.
+pub const IRREGULAR_LABELS: [&str; 3] = [crate::record::RHYTHM_IRREGULAR, "AFIB", "AFL"];
+
+/// The reference intervals whose label is in [`IRREGULAR_LABELS`], as `(start_s, end_s)`.
+pub fn irregular_reference(ann: &crate::record::Annotations) -> Vec<(f64, f64)> {
+    ann.rhythms
+        .iter()
+        .filter(|r| IRREGULAR_LABELS.contains(&r.label.as_str()))
+        .map(|r| (r.start_s, r.end_s))
+        .collect()
+}
+
+/// Run the screen on detected beats: `samples` at `fs_hz`, with `rr_s` their RR intervals.
+pub fn screen_beats(
+    samples: &[usize],
+    rr_s: &[f64],
+    fs_hz: f64,
+    p: &ScreenParams,
+) -> Result<Screen> {
+    let t_end: Vec<f64> = samples.iter().skip(1).map(|&s| s as f64 / fs_hz).collect();
+    screen(rr_s, &t_end, p)
+}
+
+impl Screen {
+    /// Episodes as `(start_s, end_s)` pairs.
+    pub fn episode_bounds(&self) -> Vec<(f64, f64)> {
+        self.episodes.iter().map(|e| (e.start_s, e.end_s)).collect()
+    }
+}
+
 /// Duration agreement of detected episodes with reference intervals over `[0, duration_s)`:
 /// (reference irregular seconds, detected irregular seconds, duration Se, duration Sp), where
 /// Se = overlap / reference time and Sp = (time neither) / (time not in the reference).
