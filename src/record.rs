@@ -46,6 +46,20 @@ pub const RHYTHM_REGULAR: &str = "regular";
 /// Rhythm label for irregular-rhythm episodes of synthetic data.
 pub const RHYTHM_IRREGULAR: &str = "irregular";
 
+/// Rhythm intervals from rhythm changes `(time_s, label)` in time order: each label holds from
+/// its change to the next change, the last one to `end_s`.
+pub fn rhythm_intervals(changes: &[(f64, String)], end_s: f64) -> Vec<RhythmInterval> {
+    changes
+        .iter()
+        .enumerate()
+        .map(|(i, (start_s, label))| RhythmInterval {
+            start_s: *start_s,
+            end_s: changes.get(i + 1).map_or(end_s, |next| next.0),
+            label: label.clone(),
+        })
+        .collect()
+}
+
 /// Reference annotations of a record (possibly empty).
 #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct Annotations {

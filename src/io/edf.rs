@@ -16,7 +16,7 @@
 
 use super::Loaded;
 use crate::error::{Error, Result};
-use crate::record::{Annotations, BeatAnnotation, Lead, Record, RhythmInterval};
+use crate::record::{Annotations, BeatAnnotation, Lead, Record};
 use std::path::Path;
 
 /// Upper bound on the samples a header may promise per signal (24 h at 2 kHz); larger values are
@@ -317,37 +317,20 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
         }
     }
     let mut ann = Annotations::default();
-    let mut open: Option<(f64, String)> = None;
+    let mut changes: Vec<(f64, String)> = Vec::new();
     for (t, _dur, text) in &tals {
         let tx = text.trim();
         let mut ch = tx.chars();
         match (ch.next(), ch.next()) {
-            (Some(c), None) if "NLRBAaJSVrFejnE/fQ?".contains(c) => {
-                ann.beats.push(BeatAnnotation {
-                    sample: (t * fs).round().max(0.0) as usize,
-                    code: c,
-                })
-            }
-            (Some('('), _) => {
-                if let Some((s0, l0)) = open.take() {
-                    ann.rhythms.push(RhythmInterval {
-                        start_s: s0,
-                        end_s: *t,
-                        label: l0,
-                    });
-                }
-                open = Some((*t, tx[1..].to_string()));
-            }
+            (Some(c), None) if super::physionet::is_beat(c) => ann.beats.push(BeatAnnotation {
+                sample: (t * fs).round().max(0.0) as usize,
+                code: c,
+            }),
+            (Some('('), _) => changes.push((*t, tx[1..].to_string())),
             _ => {}
         }
     }
-    if let Some((s0, l0)) = open {
-        ann.rhythms.push(RhythmInterval {
-            start_s: s0,
-            end_s: total as f64 / fs,
-            label: l0,
-        });
-    }
+    ann.rhythms = crate::record::rhythm_intervals(&changes, total as f64 / fs);
     ann.beats.sort_by_key(|b| b.sample);
     let name = path
         .file_stem()

@@ -16,7 +16,7 @@
 //! a mismatch is an error naming the file and signal.
 
 use crate::error::{Error, Result};
-use crate::record::{Annotations, BeatAnnotation, Lead, Record, RhythmInterval};
+use crate::record::{Annotations, BeatAnnotation, Lead, Record};
 use std::collections::BTreeMap;
 use std::path::Path;
 
@@ -727,7 +727,7 @@ pub fn encode_annotations(anns: &[MitAnnotation]) -> Result<Vec<u8>> {
 /// rhythm change or the end of the record (`n_samples`).
 pub fn to_annotations(anns: &[MitAnnotation], fs_hz: f64, n_samples: usize) -> Annotations {
     let mut out = Annotations::default();
-    let mut open: Option<(f64, String)> = None;
+    let mut changes: Vec<(f64, String)> = Vec::new();
     for a in anns {
         let m = code_mnemonic(a.code);
         if is_beat(m) {
@@ -737,25 +737,11 @@ pub fn to_annotations(anns: &[MitAnnotation], fs_hz: f64, n_samples: usize) -> A
             });
         } else if m == '+' {
             if let Some(label) = a.aux.as_deref().and_then(|s| s.strip_prefix('(')) {
-                let ts = a.sample as f64 / fs_hz;
-                if let Some((s0, l0)) = open.take() {
-                    out.rhythms.push(RhythmInterval {
-                        start_s: s0,
-                        end_s: ts,
-                        label: l0,
-                    });
-                }
-                open = Some((ts, label.to_string()));
+                changes.push((a.sample as f64 / fs_hz, label.to_string()));
             }
         }
     }
-    if let Some((s0, l0)) = open {
-        out.rhythms.push(RhythmInterval {
-            start_s: s0,
-            end_s: n_samples as f64 / fs_hz,
-            label: l0,
-        });
-    }
+    out.rhythms = crate::record::rhythm_intervals(&changes, n_samples as f64 / fs_hz);
     out
 }
 
