@@ -22,6 +22,11 @@ fn ok(o: &Output) -> String {
     out
 }
 
+/// The `summary.json` in an output folder.
+fn summary(dir: &Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap()
+}
+
 const FIGURES: [&str; 5] = ["trace", "beats", "embedding", "dimension", "rr"];
 
 fn assert_outputs(dir: &Path) {
@@ -65,8 +70,7 @@ fn demo_runs_end_to_end_and_writes_every_promised_file() {
     assert!(out.contains("report: "), "{out}");
     let d = tmp.path().join("d");
     assert_outputs(&d);
-    let s: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(d.join("summary.json")).unwrap()).unwrap();
+    let s = summary(&d);
     assert!(s["notice"].as_str().unwrap().contains("not for diagnosis"));
     let html = std::fs::read_to_string(d.join("report.html")).unwrap();
     assert!(html.contains("Research use only"));
@@ -146,10 +150,7 @@ fn synth_then_analyze_in_every_writable_format() {
             tmp.path(),
         ));
         assert_outputs(&tmp.path().join(&od));
-        let s: serde_json::Value = serde_json::from_str(
-            &std::fs::read_to_string(tmp.path().join(&od).join("summary.json")).unwrap(),
-        )
-        .unwrap();
+        let s = summary(&tmp.path().join(&od));
         assert!(
             s["score"]["se"].as_f64().unwrap() >= 0.99,
             "{name}: {}",
@@ -339,9 +340,7 @@ fn bad_input_gives_exit_2_and_names_the_file() {
         tmp.path(),
     );
     ok(&o);
-    let s: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(tmp.path().join("s/summary.json")).unwrap())
-            .unwrap();
+    let s = summary(&tmp.path().join("s"));
     assert!(!s["notes"].as_array().unwrap().is_empty());
 }
 

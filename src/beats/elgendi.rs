@@ -55,19 +55,7 @@ impl Default for ElgendiParams {
 impl ElgendiParams {
     /// Validate the parameters that do not depend on the sampling rate.
     pub fn check(&self) -> Result<()> {
-        let (lo, hi) = self.band_hz;
-        if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && lo < hi) {
-            return Err(Error::param(
-                "band_hz",
-                format!("pass band ({lo}, {hi}) Hz must satisfy 0 < low < high"),
-            ));
-        }
-        if !(1..=8).contains(&self.filter_order) {
-            return Err(Error::param(
-                "filter_order",
-                format!("{} is outside 1..=8", self.filter_order),
-            ));
-        }
+        crate::signal::filter::check_band(self.band_hz, self.filter_order, "filter_order")?;
         let check = |name: &str, v: f64, lo: f64, hi: f64, unit: &str| -> Result<()> {
             if !(v.is_finite() && (lo..=hi).contains(&v)) {
                 return Err(Error::param(

@@ -119,10 +119,10 @@ pub fn run(cli: Cli) -> Result<()> {
 }
 
 fn default_out(input: &Path) -> PathBuf {
-    let stem = input
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_else(|| "record".into());
+    let stem = match io::file_stem(input) {
+        s if s.is_empty() => "record".to_string(),
+        s => s,
+    };
     PathBuf::from(format!("{stem}-beatfold"))
 }
 
@@ -332,10 +332,10 @@ fn synth_cmd(
         "hea" => {
             let dir = out.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(Path::new("."));
             let mut named = rec.clone();
-            named.name = out
-                .file_stem()
-                .map(|s| s.to_string_lossy().into_owned())
-                .unwrap_or_else(|| "synthetic".into());
+            named.name = match io::file_stem(out) {
+                s if s.is_empty() => "synthetic".to_string(),
+                s => s,
+            };
             io::physionet::write_record(&named, dir, 212, 200.0)?;
         }
         _ => bail!(

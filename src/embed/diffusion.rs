@@ -145,15 +145,20 @@ pub struct DiffusionModel {
     pub sigma_rank: usize,
 }
 
-/// Distance from `x` to its `k`-th nearest among `lm` (k ≥ 1); a point of `lm` at distance 0
-/// (x itself, when x is a landmark) is not counted as a neighbour.
+/// The `k`-th smallest distance given squared distances `d2` (k ≥ 1; reorders `d2`); an entry
+/// of exactly 0 (the point itself, when it is a landmark) is not counted as a neighbour.
+fn kth_from_dist2(d2: &mut [f64], k: usize) -> f64 {
+    let is_member = d2.contains(&0.0);
+    let rank = if is_member { k } else { k - 1 }.min(d2.len().saturating_sub(1));
+    let (_, v, _) = d2.select_nth_unstable_by(rank, f64::total_cmp);
+    v.sqrt().max(f64::MIN_POSITIVE.sqrt())
+}
+
+/// Distance from `x` to its `k`-th nearest among `lm` (see [`kth_from_dist2`]).
 fn kth_distance(x: &[f64], lm: &Points, k: usize, buf: &mut Vec<f64>) -> f64 {
     buf.clear();
     buf.extend(lm.rows().map(|r| Points::dist2(x, r)));
-    let is_member = buf.contains(&0.0);
-    let rank = if is_member { k } else { k - 1 }.min(buf.len().saturating_sub(1));
-    let (_, v, _) = buf.select_nth_unstable_by(rank, f64::total_cmp);
-    v.sqrt().max(f64::MIN_POSITIVE.sqrt())
+    kth_from_dist2(buf, k)
 }
 
 /// λ^t with λ clamped at 0.
@@ -373,15 +378,7 @@ impl DiffusionModel {
                     // σ_x from the same distances (x itself, if a landmark, is not a neighbour).
                     buf.clear();
                     buf.extend_from_slice(w);
-                    let is_member = buf.contains(&0.0);
-                    let rank = if is_member {
-                        self.sigma_rank
-                    } else {
-                        self.sigma_rank - 1
-                    }
-                    .min(buf.len().saturating_sub(1));
-                    let (_, v, _) = buf.select_nth_unstable_by(rank, f64::total_cmp);
-                    let sx = v.sqrt().max(f64::MIN_POSITIVE.sqrt());
+                    let sx = kth_from_dist2(buf, self.sigma_rank);
                     for (j, wj) in w.iter_mut().enumerate() {
                         *wj /= sx * self.sigma[j];
                     }

@@ -13,10 +13,7 @@ use std::path::{Path, PathBuf};
 
 /// The annotation file that `synth` writes beside `recording`.
 pub fn sibling_path(recording: &Path) -> PathBuf {
-    let stem = recording
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_default();
+    let stem = super::file_stem(recording);
     recording.with_file_name(format!("{stem}.annotations.csv"))
 }
 

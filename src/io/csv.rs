@@ -230,10 +230,7 @@ pub fn read_record(path: &Path, fs_hz: Option<f64>) -> Result<Loaded> {
     if leads.is_empty() {
         return Err(Error::input(path, "columns", "no signal column"));
     }
-    let name = path
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_default();
+    let name = super::file_stem(path);
     Ok(Loaded {
         record: Record {
             name,

@@ -332,10 +332,7 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
     }
     ann.rhythms = crate::record::rhythm_intervals(&changes, total as f64 / fs);
     ann.beats.sort_by_key(|b| b.sample);
-    let name = path
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_default();
+    let name = super::file_stem(path);
     Ok(Loaded {
         record: Record {
             name,

@@ -211,10 +211,7 @@ pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Re
             path.display()
         ));
     }
-    let rec_name = path
-        .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
-        .unwrap_or_default();
+    let rec_name = super::file_stem(path);
     Ok(Loaded {
         record: Record {
             name: rec_name,

@@ -180,6 +180,14 @@ pub fn looks_like_points(path: &Path) -> bool {
     }
 }
 
+/// A path's file name without its extension, as text (empty when there is none); the name
+/// records and outputs take from their files.
+pub fn file_stem(path: &Path) -> String {
+    path.file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default()
+}
+
 /// Read a whole file as UTF-8 text with an error naming the file.
 pub fn read_text(path: &Path) -> Result<String> {
     let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;

@@ -54,19 +54,7 @@ impl Default for ConditionParams {
 impl ConditionParams {
     /// Validate the parameters that do not depend on the sampling rate.
     pub fn check(&self) -> Result<()> {
-        let (lo, hi) = self.band_hz;
-        if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && lo < hi) {
-            return Err(Error::param(
-                "band_hz",
-                format!("pass band ({lo}, {hi}) Hz must satisfy 0 < low < high"),
-            ));
-        }
-        if !(1..=8).contains(&self.order) {
-            return Err(Error::param(
-                "order",
-                format!("filter order {} must be in 1..=8", self.order),
-            ));
-        }
+        crate::signal::filter::check_band(self.band_hz, self.order, "order")?;
         if let Some(f0) = self.notch_hz {
             if !(f0.is_finite() && f0 > 0.0) {
                 return Err(Error::param(

@@ -432,6 +432,25 @@ fn run_group<const K: usize>(
     }
 }
 
+/// Check a pass band and a Butterworth order independently of the sampling rate: 0 < low < high
+/// (finite, Hz) and order in 1..=8; `order_key` is the parameter's name in errors.
+pub fn check_band(band_hz: (f64, f64), order: usize, order_key: &str) -> Result<()> {
+    let (lo, hi) = band_hz;
+    if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && lo < hi) {
+        return Err(Error::param(
+            "band_hz",
+            format!("pass band ({lo}, {hi}) Hz must satisfy 0 < low < high"),
+        ));
+    }
+    if !(1..=8).contains(&order) {
+        return Err(Error::param(
+            order_key,
+            format!("filter order {order} is outside 1..=8"),
+        ));
+    }
+    Ok(())
+}
+
 impl Sos {
     /// A Butterworth band-pass for a record at `fs_hz`, after checking the rate is usable and the
     /// high corner lies below the Nyquist frequency (errors name `fs_hz` or `band_hz`).
