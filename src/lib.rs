@@ -24,6 +24,7 @@ pub mod record;
 pub mod report;
 pub mod rhythm;
 pub mod signal;
+pub mod stats;
 pub mod synth;
 
 pub use error::{Error, Result};

@@ -19,19 +19,6 @@ const TEMPLATE_BEATS: usize = 9;
 const RR_MEMORY: usize = 8;
 const HALF_WINDOW_S: f64 = 0.10;
 
-fn median(v: &mut [f64]) -> f64 {
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    v.sort_by(f64::total_cmp);
-    let m = v.len() / 2;
-    if v.len() % 2 == 1 {
-        v[m]
-    } else {
-        0.5 * (v[m - 1] + v[m])
-    }
-}
-
 fn correlation(a: &[f64], b: &[f64]) -> f64 {
     let n = a.len().min(b.len());
     if n < 3 {
@@ -54,13 +41,8 @@ fn correlation(a: &[f64], b: &[f64]) -> f64 {
 
 fn template_of(windows: &[&[f64]]) -> Vec<f64> {
     let len = windows.first().map_or(0, |w| w.len());
-    let mut col = Vec::with_capacity(windows.len());
     (0..len)
-        .map(|j| {
-            col.clear();
-            col.extend(windows.iter().map(|w| w[j]));
-            median(&mut col)
-        })
+        .map(|j| crate::stats::median(windows.iter().map(|w| w[j])))
         .collect()
 }
 
@@ -88,10 +70,7 @@ pub fn label_beats(x: &[f64], fs_hz: f64, peaks: &[usize]) -> Vec<char> {
     for i in 0..n {
         let rr_prev = (i > 0).then(|| (peaks[i] - peaks[i - 1]) as f64);
         let ratio = match rr_prev {
-            Some(rr) if rr_hist.len() >= 3 => {
-                let mut h = rr_hist.clone();
-                rr / median(&mut h)
-            }
+            Some(rr) if rr_hist.len() >= 3 => rr / crate::stats::median(rr_hist.iter().copied()),
             _ => 1.0,
         };
         let corr = window(peaks[i]).map_or(1.0, |w| correlation(w, &template));

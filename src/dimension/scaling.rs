@@ -104,19 +104,6 @@ impl KmeansScalingParams {
     }
 }
 
-fn median(v: &[f64]) -> f64 {
-    let mut s = v.to_vec();
-    s.sort_by(f64::total_cmp);
-    let n = s.len();
-    if n == 0 {
-        f64::NAN
-    } else if n % 2 == 1 {
-        s[n / 2]
-    } else {
-        0.5 * (s[n / 2 - 1] + s[n / 2])
-    }
-}
-
 /// First pair index j ≥ 1 from which all local d exceed `NOISE_FACTOR × plateau`, or `d.len()`.
 fn noise_onset(d: &[f64], plateau: f64) -> usize {
     let thr = NOISE_FACTOR * plateau;
@@ -199,11 +186,11 @@ pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<Scalin
         })
         .collect();
     let local: Vec<f64> = curve.iter().map(|c| c.d).collect();
-    let mut plateau = median(&local[..local.len().div_ceil(2)]);
+    let mut plateau = crate::stats::median(local[..local.len().div_ceil(2)].iter().copied());
     let mut onset = local.len();
     for _ in 0..5 {
         let j = noise_onset(&local, plateau);
-        plateau = median(&local[..j]);
+        plateau = crate::stats::median(local[..j].iter().copied());
         if j == onset {
             break;
         }

@@ -409,21 +409,6 @@ fn window_offset_s(name: &str) -> Option<f64> {
         .filter(|v| v.is_finite())
 }
 
-/// Median of the finite values (display only).
-fn median(mut v: Vec<f64>) -> Option<f64> {
-    v.retain(|x| x.is_finite());
-    if v.is_empty() {
-        return None;
-    }
-    v.sort_by(f64::total_cmp);
-    let m = v.len() / 2;
-    Some(if v.len() % 2 == 1 {
-        v[m]
-    } else {
-        0.5 * (v[m - 1] + v[m])
-    })
-}
-
 fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     let title = "Aligned beat windows";
     let p = &a.features.points;
@@ -446,7 +431,8 @@ fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     let value = |i: usize, j: usize| p.data.get(i * p.dim + j).copied().unwrap_or(f64::NAN);
     let template: Vec<(f64, f64)> = cols
         .iter()
-        .filter_map(|&(j, x)| median((0..p.n).map(|i| value(i, j)).collect()).map(|m| (x, m)))
+        .map(|&(j, x)| (x, crate::stats::median((0..p.n).map(|i| value(i, j)))))
+        .filter(|(_, m)| m.is_finite())
         .collect();
     let Some((x0, x1)) = axis_range(cols.iter().map(|c| c.1)) else {
         return draw_message(area, title, "not enough beats");

@@ -72,7 +72,7 @@ pub fn summary_json(a: &Analysis) -> Value {
             "irregular_episodes": a.screen.episodes.iter().map(|e| serde_json::json!({"start_s": num(e.start_s), "end_s": num(e.end_s)})).collect::<Vec<_>>(),
             "irregular_s": num(a.screen.episodes.iter().map(|e| e.end_s - e.start_s).sum::<f64>()),
             "recurrence_windows": a.recurrence.len(),
-            "recurrence_det_median": num(median_of(a.recurrence.iter().map(|w| w.rqa.det))),
+            "recurrence_det_median": num(crate::stats::median(a.recurrence.iter().map(|w| w.rqa.det))),
         },
         "score": score,
         "embedding": {
@@ -97,19 +97,4 @@ pub fn summary_json(a: &Analysis) -> Value {
         // in the HTML page and the results file.
         "notes": a.notes,
     })
-}
-
-/// Median of the finite values (NaN when there is none).
-fn median_of(values: impl Iterator<Item = f64>) -> f64 {
-    let mut v: Vec<f64> = values.filter(|x| x.is_finite()).collect();
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    v.sort_by(f64::total_cmp);
-    let m = v.len() / 2;
-    if v.len() % 2 == 1 {
-        v[m]
-    } else {
-        0.5 * (v[m - 1] + v[m])
-    }
 }
