@@ -166,11 +166,16 @@ pub fn read_points(path: &Path) -> Result<Points> {
 /// True when a CSV file looks like a plain point cloud (first data line all numbers, no
 /// beatfold recording header) rather than a recording.
 pub fn looks_like_points(path: &Path) -> bool {
-    let Ok(text) = std::fs::read_to_string(path) else {
+    use std::io::BufRead;
+    // Only the first non-empty line is needed; a recording can be gigabytes long.
+    let Ok(file) = std::fs::File::open(path) else {
         return false;
     };
-    let mut lines = text.lines().filter(|l| !l.trim().is_empty());
-    match lines.next() {
+    let first = std::io::BufReader::new(file)
+        .lines()
+        .map_while(|l| l.ok())
+        .find(|l| !l.trim().is_empty());
+    match first.as_deref() {
         Some(first) if first.starts_with('#') => false,
         Some(first) => first
             .split([',', '\t', ';', ' '])
