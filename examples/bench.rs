@@ -34,10 +34,10 @@ fn main() -> anyhow::Result<()> {
         beatfold::signal::condition(x, rec.fs_hz, &p.condition)
     })?;
     let det = time("Pan-Tompkins detection, one lead", || {
-        beatfold::beats::pan_tompkins(x, rec.fs_hz, &p.detect)
+        beatfold::beats::pan_tompkins(x, rec.fs_hz, &p.pan_tompkins)
     })?;
     time("second detector (Elgendi), one lead", || {
-        beatfold::beats::elgendi(x, rec.fs_hz, &p.second_detector)
+        beatfold::beats::elgendi(x, rec.fs_hz, &p.elgendi)
     })?;
     println!("beats: {}", det.samples.len());
     let f = time("beat features", || {

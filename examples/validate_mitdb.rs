@@ -5,7 +5,8 @@
 //! 1. decoding: the header checksums and initial values are verified by the reader, and the
 //!    numbers of beat annotations, of `V` beats and the seconds of `(AFIB`/`(AFL` rhythm are
 //!    compared with the table;
-//! 2. detection: beats are detected on signal 0 and scored against the reference beats with
+//! 2. detection: beats are detected on signal 0 by the pipeline's primary detector (and, for
+//!    comparison, by Pan–Tompkins alone and with both leads fused) and scored against the reference beats with
 //!    the rules of ANSI/AAMI EC57: a 150 ms matching window, the first 5 minutes of each record
 //!    not scored (learning period), and paced records (102, 104, 107, 217) excluded from the
 //!    gross totals. (EC57 itself is not freely available; these rules are from memory of the
@@ -21,6 +22,15 @@ use std::path::PathBuf;
 
 const PACED: [&str; 4] = ["102", "104", "107", "217"];
 const LEARNING_S: f64 = 300.0;
+
+/// Gross "Se / +P" in percent from summed (TP, FP, FN).
+fn pct((tp, fp, fnn): (usize, usize, usize)) -> String {
+    format!(
+        "{:.2} / {:.2}",
+        100.0 * tp as f64 / (tp + fnn).max(1) as f64,
+        100.0 * tp as f64 / (tp + fp).max(1) as f64
+    )
+}
 
 fn main() -> anyhow::Result<()> {
     let args: Vec<String> = std::env::args().skip(1).collect();
@@ -46,8 +56,16 @@ fn main() -> anyhow::Result<()> {
     let params = AnalyzeParams::default();
     let mut md = String::new();
     let mut decode_ok = true;
-    let _ = writeln!(md, "| record | beats (table / read) | V (table / read) | AF s (table / read) | AFL s (table / read) | ref beats scored | TP | FP | FN | Se % | +P % | note |");
-    let _ = writeln!(md, "|---|---|---|---|---|---|---|---|---|---|---|---|");
+    let _ = writeln!(md, "| record | beats (table / read) | V (table / read) | AF s (table / read) | AFL s (table / read) | ref beats scored | TP | FP | FN | Se % | +P % | Pan–Tompkins Se / +P % | two leads Se / +P % | note |");
+    let _ = writeln!(
+        md,
+        "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|"
+    );
+    let fused_params = AnalyzeParams {
+        fuse_leads: true,
+        ..AnalyzeParams::default()
+    };
+    let mut alt = [(0usize, 0usize, 0usize); 2];
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);
     let mut worst: Vec<(String, f64, f64)> = Vec::new();
     let mut rhythm_md = String::from(
@@ -86,16 +104,16 @@ fn main() -> anyhow::Result<()> {
             nb == t_nb && nv == t_nv && (af - t_af).abs() < 0.01 && (afl - t_afl).abs() < 0.01;
         decode_ok &= match_counts;
         let b = pipeline::detect_beats(&rec, &params)?;
+        let fused = pipeline::detect_beats(&rec, &fused_params)?;
         let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
         let start = (LEARNING_S * rec.fs_hz) as usize;
-        let s = beats::score_between(
-            &reference,
-            &b.samples,
-            rec.fs_hz,
-            0.150,
-            start,
-            rec.n_samples(),
-        );
+        let score = |d: &[usize]| {
+            beats::score_between(&reference, d, rec.fs_hz, 0.150, start, rec.n_samples())
+        };
+        let s = score(&b.samples);
+        // With the default primary (Elgendi) the second detector is Pan–Tompkins on the same lead.
+        let s_pt = score(&b.second);
+        let s_fused = score(&fused.samples);
         // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
         let sc =
             beatfold::rhythm::screen::screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
@@ -137,12 +155,18 @@ fn main() -> anyhow::Result<()> {
             tp += s.tp;
             fp += s.fp;
             fnn += s.fn_;
+            for (k, x) in [s_pt, s_fused].iter().enumerate() {
+                alt[k].0 += x.tp;
+                alt[k].1 += x.fp;
+                alt[k].2 += x.fn_;
+            }
             worst.push((rec_name.to_string(), s.se, s.ppv));
         }
         let _ = writeln!(
             md,
-            "| {rec_name} | {t_nb} / {nb} | {t_nv} / {nv} | {t_af:.2} / {af:.2} | {t_afl:.2} / {afl:.2} | {} | {} | {} | {} | {:.2} | {:.2} | {} |",
+            "| {rec_name} | {t_nb} / {nb} | {t_nv} / {nv} | {t_af:.2} / {af:.2} | {t_afl:.2} / {afl:.2} | {} | {} | {} | {} | {:.2} | {:.2} | {:.2} / {:.2} | {:.2} / {:.2} | {} |",
             s.reference, s.tp, s.fp, s.fn_, 100.0 * s.se, 100.0 * s.ppv,
+            100.0 * s_pt.se, 100.0 * s_pt.ppv, 100.0 * s_fused.se, 100.0 * s_fused.ppv,
             if paced { "paced: excluded from gross (EC57)" } else if match_counts { "" } else { "COUNTS DIFFER" }
         );
         eprintln!(
@@ -155,16 +179,20 @@ fn main() -> anyhow::Result<()> {
     let gppv = tp as f64 / (tp + fp).max(1) as f64;
     let _ = writeln!(
         md,
-        "| **gross (non-paced)** | | | | | {} | {tp} | {fp} | {fnn} | **{:.2}** | **{:.2}** | |",
+        "| **gross (non-paced)** | | | | | {} | {tp} | {fp} | {fnn} | **{:.2}** | **{:.2}** | {} | {} | |",
         tp + fnn,
         100.0 * gse,
-        100.0 * gppv
+        100.0 * gppv,
+        pct(alt[0]),
+        pct(alt[1])
     );
     worst.sort_by(|a, b| a.1.min(a.2).total_cmp(&b.1.min(b.2)));
     let summary = format!(
         "Decoding: every header checksum and initial value verified; annotation counts {} records.csv.\n\
-         Detection (EC57 rules: 150 ms window, first 5 min not scored, paced records excluded): gross Se {:.2} %, +P {:.2} % \
-         over {} reference beats; lowest record {} (Se {:.2} %, +P {:.2} %). Run time {:.1} s.\n",
+         Detection (EC57 rules: 150 ms window, first 5 min not scored, paced records excluded), primary detector \
+         (Elgendi et al. 2013, lead 0): gross Se {:.2} %, +P {:.2} % over {} reference beats; lowest record {} \
+         (Se {:.2} %, +P {:.2} %). For comparison, gross Se / +P of Pan & Tompkins (1985) on lead 0: {} %; \
+         of the primary with both leads chosen per 10 s window (`fuse_leads`): {} %. Run time {:.1} s.\n",
         if decode_ok { "all equal to" } else { "NOT all equal to" },
         100.0 * gse,
         100.0 * gppv,
@@ -172,6 +200,8 @@ fn main() -> anyhow::Result<()> {
         worst.first().map_or("-", |w| w.0.as_str()),
         worst.first().map_or(0.0, |w| 100.0 * w.1),
         worst.first().map_or(0.0, |w| 100.0 * w.2),
+        pct(alt[0]),
+        pct(alt[1]),
         t0.elapsed().as_secs_f64()
     );
     let af_se = af_tp / af_ref.max(1e-9);

@@ -69,7 +69,7 @@ pub struct Analysis {
     /// Wall time of the analysis, seconds.
     pub elapsed_s: f64,
 }
-use crate::beats::{self, DetectParams, ElgendiParams};
+use crate::beats::{self, DetectParams, DetectorChoice, ElgendiParams, FusionParams};
 use crate::dimension::{self, KmeansScalingParams};
 use crate::embed::{self, DiffusionParams};
 use crate::error::{Error, Result};
@@ -91,10 +91,20 @@ pub struct AnalyzeParams {
     pub lead: Option<String>,
     /// Conditioning (band-pass, notch, baseline removal).
     pub condition: ConditionParams,
-    /// Beat detection (Pan & Tompkins 1985).
-    pub detect: DetectParams,
-    /// The second, independent detector used for the agreement index (Elgendi et al. 2013).
-    pub second_detector: ElgendiParams,
+    /// Which detector's beats are used (`"elgendi"`, default, or `"pan-tompkins"`); the other
+    /// one gives the agreement index.
+    pub primary_detector: DetectorChoice,
+    /// Pan & Tompkins (1985) detector (older configs: `detect`).
+    #[serde(alias = "detect")]
+    pub pan_tompkins: DetectParams,
+    /// Elgendi et al. (2013) detector (older configs: `second_detector`).
+    #[serde(alias = "second_detector")]
+    pub elgendi: ElgendiParams,
+    /// Use every lead of the record for detection, choosing per agreement window the lead whose
+    /// detectors agree best (see `beats::fusion`). Default false: the analysed lead only.
+    pub fuse_leads: bool,
+    /// bSQI margin by which another lead must beat the analysed one to be used (default 0.2).
+    pub fuse_margin: f64,
     /// Window for the per-window beat agreement, seconds (default 10).
     pub agreement_window_s: f64,
     /// Beat features.
@@ -120,8 +130,11 @@ impl Default for AnalyzeParams {
         AnalyzeParams {
             lead: None,
             condition: ConditionParams::default(),
-            detect: DetectParams::default(),
-            second_detector: ElgendiParams::default(),
+            primary_detector: DetectorChoice::default(),
+            pan_tompkins: DetectParams::default(),
+            elgendi: ElgendiParams::default(),
+            fuse_leads: false,
+            fuse_margin: 0.2,
             agreement_window_s: 10.0,
             features: FeatureParams::default(),
             // Local scaling (Zelnik-Manor & Perona 2004) keeps rare beat shapes connected.
@@ -143,8 +156,14 @@ impl AnalyzeParams {
     /// Validate every stage's parameters before any work starts.
     pub fn check(&self) -> Result<()> {
         self.condition.check()?;
-        self.detect.check()?;
-        self.second_detector.check()?;
+        self.pan_tompkins.check()?;
+        self.elgendi.check()?;
+        if !(0.0..=1.0).contains(&self.fuse_margin) {
+            return Err(Error::param(
+                "fuse_margin",
+                format!("{} is outside [0, 1] (a bSQI difference)", self.fuse_margin),
+            ));
+        }
         if !(self.agreement_window_s.is_finite() && self.agreement_window_s >= 1.0) {
             return Err(Error::param(
                 "agreement_window_s",
@@ -215,10 +234,14 @@ pub struct InputInfo {
 /// detector.
 #[derive(Debug, Clone)]
 pub struct BeatsResult {
-    /// R-peak samples (Pan & Tompkins 1985).
+    /// R-peak samples of the primary detector.
     pub samples: Vec<usize>,
-    /// Beats of the second, independent detector (Elgendi et al. 2013).
+    /// Beats of the second, independent detector.
     pub second: Vec<usize>,
+    /// Which detector is primary.
+    pub primary_detector: DetectorChoice,
+    /// With `fuse_leads`: the record lead index used in each agreement window; else empty.
+    pub lead_per_window: Vec<usize>,
     /// Record-level beat agreement bSQI of the two (Li, Mark & Clifford 2008).
     pub agreement: f64,
     /// Per beat: the bSQI of the agreement window holding it.
@@ -256,37 +279,70 @@ pub fn choose_lead(rec: &Record, lead: Option<&str>) -> Result<usize> {
 pub fn detect_beats(rec: &Record, p: &AnalyzeParams) -> Result<BeatsResult> {
     let li = choose_lead(rec, p.lead.as_deref())?;
     let raw = &rec.leads[li].samples;
-    let conditioned = signal::condition(raw, rec.fs_hz, &p.condition)?;
-    let det = beats::pan_tompkins(raw, rec.fs_hz, &p.detect)?;
-    let second = beats::elgendi(raw, rec.fs_hz, &p.second_detector)?;
-    let w = p.score_window_s;
-    let agreement = beats::agreement(&det.samples, &second, rec.fs_hz, w);
-    let windows = beats::agreement_windows(
-        &det.samples,
-        &second,
-        rec.fs_hz,
-        w,
-        p.agreement_window_s,
-        raw.len(),
+    // The analysed lead first (it is preferred), then the others when fusing.
+    let mut leads: Vec<&[f64]> = vec![raw.as_slice()];
+    if p.fuse_leads {
+        leads.extend(
+            rec.leads
+                .iter()
+                .enumerate()
+                .filter(|(k, l)| *k != li && l.samples.len() == raw.len())
+                .map(|(_, l)| l.samples.as_slice()),
+        );
+    }
+    let fp = FusionParams {
+        pan_tompkins: &p.pan_tompkins,
+        elgendi: &p.elgendi,
+        primary: p.primary_detector,
+        match_window_s: p.score_window_s,
+        window_s: p.agreement_window_s,
+        fuse_margin: p.fuse_margin,
+    };
+    // Conditioning and detection are independent: run them side by side.
+    let (conditioned, det) = rayon::join(
+        || signal::condition(raw, rec.fs_hz, &p.condition),
+        || beats::detect_leads(&leads, rec.fs_hz, &fp),
     );
+    let (conditioned, det) = (conditioned?, det?);
+    let agreement = beats::agreement(&det.primary, &det.second, rec.fs_hz, p.score_window_s);
     let beat_agreement = det
-        .samples
+        .primary
         .iter()
         .map(|&s| {
             let k = (s as f64 / rec.fs_hz / p.agreement_window_s).floor() as usize;
-            windows.get(k).map_or(f64::NAN, |x| x.1)
+            det.windows.get(k).map_or(f64::NAN, |x| x.1)
         })
         .collect();
-    let rr_s = beats::rr_intervals_s(&det.samples, rec.fs_hz);
-    let labels = beats::label_beats(&conditioned, rec.fs_hz, &det.samples);
+    let rr_s = beats::rr_intervals_s(&det.primary, rec.fs_hz);
+    let labels = beats::label_beats(&conditioned, rec.fs_hz, &det.primary);
+    let lead_per_window = if leads.len() > 1 {
+        // Map indices into `leads` back to record lead indices.
+        let others: Vec<usize> = (0..rec.leads.len())
+            .filter(|&k| k != li && rec.leads[k].samples.len() == raw.len())
+            .collect();
+        det.windows
+            .iter()
+            .map(|w| {
+                if w.2 == 0 {
+                    li
+                } else {
+                    others.get(w.2 - 1).copied().unwrap_or(li)
+                }
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
     Ok(BeatsResult {
-        second,
+        second: det.second,
         agreement,
         beat_agreement,
-        samples: det.samples,
+        samples: det.primary,
         rr_s,
         labels,
         conditioned,
+        primary_detector: p.primary_detector,
+        lead_per_window,
     })
 }
 

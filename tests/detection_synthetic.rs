@@ -2,47 +2,63 @@
 //! of McSharry et al. 2003 with noise, ectopic beats and irregular episodes), scored with the
 //! beat-by-beat 150 ms matching window of ANSI/AAMI EC57.
 
-use beatfold::beats::{pan_tompkins, score, DetectParams};
+use beatfold::beats::{pan_tompkins, score, DetectParams, Score};
 use beatfold::pipeline::{detect_beats, AnalyzeParams};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 
-fn run(scenario: Scenario, hr: f64, seed: u64, minutes: f64) -> (beatfold::beats::Score, usize) {
+fn run(scenario: Scenario, hr: f64, seed: u64, minutes: f64) -> (Score, Score) {
     let mut p = SynthParams::for_scenario(scenario, minutes, 250.0, seed);
     p.mean_hr_bpm = hr;
     p.hr_std_bpm = p.hr_std_bpm.min(0.1 * hr);
     let rec = synthesize(&p).unwrap();
-    let det = pan_tompkins(&rec.leads[0].samples, rec.fs_hz, &DetectParams::default()).unwrap();
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
+    // The pipeline's beats (primary detector, Elgendi et al. 2013) and the second detector
+    // (Pan & Tompkins 1985) on its own.
+    let b = detect_beats(&rec, &AnalyzeParams::default()).unwrap();
+    let pt = pan_tompkins(&rec.leads[0].samples, rec.fs_hz, &DetectParams::default()).unwrap();
     (
-        score(&reference, &det.samples, rec.fs_hz, 0.150),
-        det.searchback_count,
+        score(&reference, &b.samples, rec.fs_hz, 0.150),
+        score(&reference, &pt.samples, rec.fs_hz, 0.150),
     )
 }
 
 #[test]
-fn detector_meets_99_percent_across_rates_seeds_and_noise() {
-    // Target from the foundation issue: Se and +P ≥ 99 % on synthetic recordings with noise,
-    // heart rates 40–180 bpm, several seeds. Matching: ANSI/AAMI EC57, 150 ms window.
-    let (mut tp, mut fp, mut fnn) = (0, 0, 0);
-    for (i, &hr) in [40.0, 60.0, 90.0, 120.0, 150.0, 180.0].iter().enumerate() {
+fn both_detectors_meet_99_percent_from_30_to_220_bpm_with_noise_and_ectopy() {
+    // Target of the detection issue: Se and +P ≥ 99 % on synthetic recordings with noise bursts,
+    // ectopic beats and rates from 30 to 220 bpm. Matching: ANSI/AAMI EC57, 150 ms window.
+    // Recordings last long enough for at least ~150 beats, so one error costs < 1 %.
+    let mut gross = [(0usize, 0usize, 0usize); 2];
+    for (i, &hr) in [
+        30.0_f64, 45.0, 60.0, 90.0, 120.0, 150.0, 180.0, 200.0, 220.0,
+    ]
+    .iter()
+    .enumerate()
+    {
+        let minutes = (150.0_f64 / hr).max(1.0);
         for scenario in [Scenario::Resting, Scenario::AmbulatoryNoisy] {
-            let (s, _) = run(scenario, hr, 100 + i as u64, 2.0);
-            tp += s.tp;
-            fp += s.fp;
-            fnn += s.fn_;
-            assert!(
-                s.se >= 0.99 && s.ppv >= 0.99,
-                "{} at {hr} bpm: Se {:.4} +P {:.4} (TP {} FP {} FN {})",
-                scenario.name(),
-                s.se,
-                s.ppv,
-                s.tp,
-                s.fp,
-                s.fn_
-            );
+            let (primary, second) = run(scenario, hr, 100 + i as u64, minutes);
+            for (k, s) in [primary, second].iter().enumerate() {
+                gross[k].0 += s.tp;
+                gross[k].1 += s.fp;
+                gross[k].2 += s.fn_;
+                assert!(
+                    s.se >= 0.99 && s.ppv >= 0.99,
+                    "{} detector, {} at {hr} bpm: Se {:.4} +P {:.4} (TP {} FP {} FN {})",
+                    ["primary", "Pan-Tompkins"][k],
+                    scenario.name(),
+                    s.se,
+                    s.ppv,
+                    s.tp,
+                    s.fp,
+                    s.fn_
+                );
+            }
         }
     }
-    eprintln!("gross: TP {tp} FP {fp} FN {fnn}");
+    eprintln!(
+        "gross (TP, FP, FN): primary {:?}, Pan-Tompkins {:?}",
+        gross[0], gross[1]
+    );
 }
 
 #[test]

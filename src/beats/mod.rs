@@ -5,11 +5,13 @@
 //!
 //! Submodules: [`pan_tompkins`] (the detector of Pan & Tompkins 1985 with its checked
 //! [`DetectParams`]; [`PanTompkins`] is designed once per sampling rate and run on many leads),
-//! [`elgendi`] (an independent second detector, Elgendi et al. 2013) and [`scoring`] (EC57 beat matching, RR intervals, beat agreement of Li, Mark & Clifford 2008).
+//! [`elgendi`] (an independent detector, Elgendi et al. 2013, the default primary), [`fusion`]
+//! (which detector is primary, and a per-window choice between leads) and [`scoring`] (EC57 beat matching, RR intervals, beat agreement of Li, Mark & Clifford 2008).
 
 use serde::{Deserialize, Serialize};
 
 pub mod elgendi;
+pub mod fusion;
 pub mod labels;
 pub mod pan_tompkins;
 pub mod scoring;
@@ -17,6 +19,7 @@ pub mod scoring;
 mod testsig;
 
 pub use elgendi::{elgendi, ElgendiParams};
+pub use fusion::{detect_leads, DetectorChoice, FusionParams, LeadDetection};
 pub use labels::label_beats;
 pub use pan_tompkins::{pan_tompkins, DetectParams, Detection, PanTompkins};
 pub use scoring::{agreement, agreement_windows, rr_intervals_s, score, score_between};

@@ -17,7 +17,7 @@
 //! Irregular-rhythm episodes draw RR independently from a gamma distribution (our choice:
 //! positive, right-skewed, exact coefficient of variation) around a faster mean, with no LF/HF
 //! structure. Premature ectopic beats come after a shortened coupling interval (60–75 % of the
-//! current RR) and are followed by a full compensatory pause, so coupling + pause = 2 RR exactly.
+//! current RR, never under 250 ms) and are followed by a full compensatory pause, so coupling + pause = 2 RR exactly.
 
 use super::params::SynthParams;
 use crate::error::{Error, Result};
@@ -35,6 +35,11 @@ pub(crate) const RR_MIN_S: f64 = 0.12;
 pub(crate) const RR_MAX_S: f64 = 6.0;
 /// Range of the coupling interval of a premature ectopic beat, fraction of the current RR.
 pub(crate) const COUPLING_RANGE: (f64, f64) = (0.60, 0.75);
+/// Shortest coupling interval of a premature ectopic beat, seconds: a ventricular beat cannot
+/// follow the previous one before the ventricles have recovered, about a quarter of a second
+/// (common practice; the exact value is ours). At fast rates, where 60–75 % of the RR would be
+/// shorter, no ectopic beat is placed.
+pub(crate) const MIN_COUPLING_S: f64 = 0.25;
 /// Seconds of beats scheduled before t = 0 (at constant RR) so the model can settle.
 pub(crate) const WARM_UP_S: f64 = super::model::SETTLE_S + 2.0;
 
@@ -228,7 +233,10 @@ pub(crate) fn schedule(
         let t_v = t + coupling * rr;
         // The beat at `t` is never ectopic itself (an ectopic beat is always followed by a normal
         // one), so ectopic beats never come two in a row.
-        let ectopic = draw < q && t_v < duration_s && !in_episode(episodes, t_v);
+        let ectopic = draw < q
+            && coupling * rr >= MIN_COUPLING_S
+            && t_v < duration_s
+            && !in_episode(episodes, t_v);
         if ectopic {
             beats.push(ScheduledBeat {
                 t_s: t_v,
