@@ -39,11 +39,23 @@ fn correlation(a: &[f64], b: &[f64]) -> f64 {
     sab / (saa * sbb).sqrt()
 }
 
-fn template_of(windows: &[&[f64]]) -> Vec<f64> {
+/// Sample-by-sample median of up to [`TEMPLATE_BEATS`] windows of equal length (non-finite
+/// samples ignored), written into `out`.
+fn template_into(windows: &[&[f64]], out: &mut Vec<f64>) {
     let len = windows.first().map_or(0, |w| w.len());
-    (0..len)
-        .map(|j| crate::stats::median(windows.iter().map(|w| w[j])))
-        .collect()
+    out.clear();
+    let mut buf = [0.0f64; TEMPLATE_BEATS];
+    for j in 0..len {
+        let mut m = 0;
+        for w in windows.iter().take(TEMPLATE_BEATS) {
+            let v = w.get(j).copied().unwrap_or(f64::NAN);
+            if v.is_finite() {
+                buf[m] = v;
+                m += 1;
+            }
+        }
+        out.push(crate::stats::median_of_finite(&mut buf[..m]));
+    }
 }
 
 /// Label each beat `N`, `V`, `A` or `Q` (see the module documentation). `x` is the conditioned
@@ -64,13 +76,19 @@ pub fn label_beats(x: &[f64], fs_hz: f64, peaks: &[usize]) -> Vec<char> {
     if first.is_empty() {
         return labels;
     }
-    let mut template = template_of(&first);
+    let mut template = Vec::new();
+    template_into(&first, &mut template);
     let mut recent_normal: Vec<&[f64]> = Vec::with_capacity(TEMPLATE_BEATS);
     let mut rr_hist: Vec<f64> = Vec::with_capacity(RR_MEMORY);
     for i in 0..n {
         let rr_prev = (i > 0).then(|| (peaks[i] - peaks[i - 1]) as f64);
         let ratio = match rr_prev {
-            Some(rr) if rr_hist.len() >= 3 => rr / crate::stats::median(rr_hist.iter().copied()),
+            Some(rr) if rr_hist.len() >= 3 => {
+                let mut buf = [0.0f64; RR_MEMORY];
+                let k = rr_hist.len().min(RR_MEMORY);
+                buf[..k].copy_from_slice(&rr_hist[..k]);
+                rr / crate::stats::median_of_finite(&mut buf[..k])
+            }
             _ => 1.0,
         };
         let corr = window(peaks[i]).map_or(1.0, |w| correlation(w, &template));
@@ -89,7 +107,7 @@ pub fn label_beats(x: &[f64], fs_hz: f64, peaks: &[usize]) -> Vec<char> {
                 }
                 recent_normal.push(w);
                 if recent_normal.len() >= 3 {
-                    template = template_of(&recent_normal);
+                    template_into(&recent_normal, &mut template);
                 }
             }
         }
