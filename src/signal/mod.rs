@@ -6,7 +6,8 @@
 //!
 //! Submodules: [`filter`] (Butterworth and notch designs as second-order sections, causal and
 //! zero-phase application), [`median`] (sliding-window median), [`condition`] (the conditioning
-//! chain with its checked [`ConditionParams`]), [`quality`] (per-segment flags).
+//! chain with its checked [`ConditionParams`]), [`quality`] (per-segment flags), [`resample`]
+//! (integer decimation for detection on records sampled far above 250 Hz).
 //! Filters are designed once per sampling rate ([`Conditioner::new`]) and applied to many leads.
 
 use serde::{Deserialize, Serialize};
@@ -15,6 +16,7 @@ pub mod condition;
 pub mod filter;
 pub mod median;
 pub mod quality;
+pub mod resample;
 
 pub use condition::{condition, fill_non_finite, ConditionParams, Conditioner};
 pub use filter::{Section, Sos};
