@@ -138,9 +138,10 @@ impl Figure {
             if word == "all" {
                 return Ok(Figure::ALL.to_vec());
             }
-            let found = Figure::ALL.iter().enumerate().find(|(i, f)| {
-                f.file_stem() == word || word.parse::<usize>().ok() == Some(i + 1)
-            });
+            let found = Figure::ALL
+                .iter()
+                .enumerate()
+                .find(|(i, f)| f.file_stem() == word || word.parse::<usize>().ok() == Some(i + 1));
             match found {
                 Some((_, &f)) if !out.contains(&f) => out.push(f),
                 Some(_) => {}
@@ -148,7 +149,10 @@ impl Figure {
                     let names: Vec<&str> = Figure::ALL.iter().map(|f| f.file_stem()).collect();
                     return Err(Error::param(
                         "figures",
-                        format!("unknown figure `{word}`; choose from {} or all", names.join(", ")),
+                        format!(
+                            "unknown figure `{word}`; choose from {} or all",
+                            names.join(", ")
+                        ),
                     ));
                 }
             }
@@ -317,7 +321,11 @@ fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<
 }
 
 /// A figure with only a title and a message in the middle.
-pub(super) fn draw_message<DB: DrawingBackend>(area: &Area<DB>, title: &str, msg: &str) -> DrawResult {
+pub(super) fn draw_message<DB: DrawingBackend>(
+    area: &Area<DB>,
+    title: &str,
+    msg: &str,
+) -> DrawResult {
     area.draw(&Text::new(
         title.to_string(),
         (40, 30),
@@ -412,7 +420,10 @@ pub(super) fn configure<DB: DrawingBackend>(
 ) -> DrawResult {
     let xr = chart.x_range();
     let yr = chart.y_range();
-    let (xd, yd) = (tick_decimals(xr.end - xr.start), tick_decimals(yr.end - yr.start));
+    let (xd, yd) = (
+        tick_decimals(xr.end - xr.start),
+        tick_decimals(yr.end - yr.start),
+    );
     let fx = move |v: &f64| tick_label(*v, xd);
     let fy = move |v: &f64| tick_label(*v, yd);
     chart
@@ -441,7 +452,10 @@ fn tick_decimals(span: f64) -> usize {
 /// Tick label with `dec` decimals and no negative zero.
 fn tick_label(v: f64, dec: usize) -> String {
     let s = format!("{v:.dec$}");
-    if s.trim_start_matches('-').chars().all(|c| c == '0' || c == '.') {
+    if s.trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
         s.trim_start_matches('-').to_string()
     } else {
         s
@@ -483,7 +497,6 @@ pub(super) fn amplitude_desc(a: &Analysis, what: &str) -> String {
     }
 }
 
-
 /// Beat classes drawn in their own colour, in legend order.
 pub(super) const CLASSES: [char; 4] = ['N', 'V', 'A', 'Q'];
 
@@ -499,7 +512,14 @@ pub(super) fn class_colour(c: char) -> RGBColor {
 }
 
 /// Colours of categorical labels other than beat classes, in order of first appearance.
-const CATEGORY_COLOURS: [RGBColor; 6] = [OI_BLUE, OI_ORANGE, OI_GREEN, OI_PURPLE, OI_SKY, OI_VERMILLION];
+const CATEGORY_COLOURS: [RGBColor; 6] = [
+    OI_BLUE,
+    OI_ORANGE,
+    OI_GREEN,
+    OI_PURPLE,
+    OI_SKY,
+    OI_VERMILLION,
+];
 
 /// Time in seconds of detected beat `b`.
 pub(super) fn beat_time(a: &Analysis, b: usize) -> Option<f64> {
@@ -519,10 +539,7 @@ pub(super) fn row_beats(a: &Analysis) -> Option<Vec<usize>> {
 
 /// Time in seconds of every embedding row, when the links are complete.
 pub(super) fn row_times(a: &Analysis) -> Option<Vec<f64>> {
-    row_beats(a)?
-        .into_iter()
-        .map(|b| beat_time(a, b))
-        .collect()
+    row_beats(a)?.into_iter().map(|b| beat_time(a, b)).collect()
 }
 
 /// Label of the reference rhythm interval holding time `t`, if any (intervals sorted by start).
@@ -555,7 +572,12 @@ pub(super) enum Colouring {
 pub(super) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
     let n = a.embedding.n;
     let beats = row_beats(a);
-    let order = || Colouring::Continuous((0..n).map(|i| i as f64).collect(), "Beat order (row)".into());
+    let order = || {
+        Colouring::Continuous(
+            (0..n).map(|i| i as f64).collect(),
+            "Beat order (row)".into(),
+        )
+    };
     let Some(beats) = beats else {
         return order();
     };
@@ -708,12 +730,19 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
         .collect();
     if !flagged.is_empty() {
         chart
-            .draw_series(flagged.iter().map(|&(s, e)| {
-                Rectangle::new([(s, y0), (e, y1)], GREY.mix(0.18).filled())
-            }))
+            .draw_series(
+                flagged
+                    .iter()
+                    .map(|&(s, e)| Rectangle::new([(s, y0), (e, y1)], GREY.mix(0.18).filled())),
+            )
             .ctx()?
             .label("quality flag (flat, clipped, noisy or non-finite)")
-            .legend(|(x, y)| Rectangle::new([(x, y - 10), (x + GLYPH_PX, y + 10)], GREY.mix(0.3).filled()));
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    GREY.mix(0.3).filled(),
+                )
+            });
     }
     let episodes: Vec<(f64, f64)> = a
         .screen
@@ -724,13 +753,18 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
         .collect();
     if !episodes.is_empty() {
         chart
-            .draw_series(episodes.iter().map(|&(s, e)| {
-                Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.22).filled())
-            }))
+            .draw_series(
+                episodes.iter().map(|&(s, e)| {
+                    Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.22).filled())
+                }),
+            )
             .ctx()?
             .label("irregular-rhythm screen episode (research)")
             .legend(|(x, y)| {
-                Rectangle::new([(x, y - 10), (x + GLYPH_PX, y + 10)], OI_ORANGE.mix(0.4).filled())
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_ORANGE.mix(0.4).filled(),
+                )
             });
     }
     let rhythms: Vec<(f64, f64, String)> = a
@@ -750,7 +784,12 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
             }))
             .ctx()?
             .label("reference rhythm interval")
-            .legend(|(x, y)| Rectangle::new([(x, y - 10), (x + GLYPH_PX, y + 10)], OI_SKY.mix(0.5).filled()));
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_SKY.mix(0.5).filled(),
+                )
+            });
         chart
             .draw_series(rhythms.iter().map(|(s, e, _)| {
                 Rectangle::new([(*s, strip0), (*e, strip1)], line_style(OI_SKY, 2))
@@ -761,7 +800,11 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
             .pos(Pos::new(HPos::Left, VPos::Center));
         chart
             .draw_series(rhythms.iter().map(|(s, _, l)| {
-                Text::new(l.clone(), (*s + 0.005 * (x1 - x0), 0.5 * (strip0 + strip1)), style.clone())
+                Text::new(
+                    l.clone(),
+                    (*s + 0.005 * (x1 - x0), 0.5 * (strip0 + strip1)),
+                    style.clone(),
+                )
             }))
             .ctx()?;
     }
@@ -786,7 +829,13 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
     for c in classes {
         let of_class: Vec<(f64, f64)> = detected
             .iter()
-            .filter(|d| if c == '?' { !CLASSES.contains(&d.2) } else { d.2 == c })
+            .filter(|d| {
+                if c == '?' {
+                    !CLASSES.contains(&d.2)
+                } else {
+                    d.2 == c
+                }
+            })
             .map(|d| (d.0, d.1))
             .collect();
         if of_class.is_empty() {
@@ -799,7 +848,11 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
             format!("detected beat ({c})")
         };
         chart
-            .draw_series(of_class.iter().map(|&p| Circle::new(p, 9, line_style(col, 3))))
+            .draw_series(
+                of_class
+                    .iter()
+                    .map(|&p| Circle::new(p, 9, line_style(col, 3))),
+            )
             .ctx()?
             .label(name)
             .legend(move |(x, y)| Circle::new((x + GLYPH_PX / 2, y), 9, line_style(col, 3)));
@@ -837,7 +890,6 @@ fn window_offset_s(name: &str) -> Option<f64> {
         .ok()
         .filter(|v| v.is_finite())
 }
-
 
 fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     let title = "Aligned beat windows";
@@ -1064,7 +1116,12 @@ fn draw_embedding<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>
             }
         }
         rows.sort_by_key(|&i| {
-            std::cmp::Reverse(cats.get(i).and_then(|&c| count.get(c)).copied().unwrap_or(0))
+            std::cmp::Reverse(
+                cats.get(i)
+                    .and_then(|&c| count.get(c))
+                    .copied()
+                    .unwrap_or(0),
+            )
         });
     }
     let crange = match &colouring {
@@ -1282,4 +1339,3 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
         .ctx()?;
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
-

@@ -9,9 +9,9 @@
 
 use super::figures::{
     axis_range, configure, draw_legend, draw_message, line_style, minmax_thin, row_times,
-    stride_indices, time_colour, with_title, Area, Ctx, DrawResult, View, DESC_PX, FONT,
-    GLYPH_PX, GREY, LINE_BINS, MAX_SCATTER, OI_BLUE, OI_GREEN, OI_ORANGE, OI_SKY,
-    OI_VERMILLION, TITLE_PX, TRAJECTORY_S,
+    stride_indices, time_colour, with_title, Area, Ctx, DrawResult, View, DESC_PX, FONT, GLYPH_PX,
+    GREY, LINE_BINS, MAX_SCATTER, OI_BLUE, OI_GREEN, OI_ORANGE, OI_SKY, OI_VERMILLION, TITLE_PX,
+    TRAJECTORY_S,
 };
 use crate::pipeline::Analysis;
 use crate::points::Points;
@@ -43,7 +43,11 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
     let e = &a.embedding;
     let k = e.components;
     if e.n < 2 || k < 2 || e.coords.len() != e.n * k {
-        return draw_message(area, title, "not enough beats (or components) for an embedding");
+        return draw_message(
+            area,
+            title,
+            "not enough beats (or components) for an embedding",
+        );
     }
     let Some(times) = row_times(a) else {
         return draw_message(area, title, "beat times unavailable");
@@ -56,7 +60,13 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
     let coord = |i: usize, c: usize| e.coords.get(i * k + c).copied().unwrap_or(f64::NAN);
     let pts: Vec<(f64, f64, f64)> = rows
         .iter()
-        .map(|&i| (coord(i, 0), coord(i, 1), times.get(i).copied().unwrap_or(f64::NAN)))
+        .map(|&i| {
+            (
+                coord(i, 0),
+                coord(i, 1),
+                times.get(i).copied().unwrap_or(f64::NAN),
+            )
+        })
         .filter(|p| p.0.is_finite() && p.1.is_finite())
         .collect();
     if pts.len() < 2 {
@@ -71,7 +81,11 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
         &format!(
             "{title}: {} beats, {t0:.1} to {t1:.1} s{}",
             pts.len(),
-            if rows.len() < all.len() { " (regular stride)" } else { "" }
+            if rows.len() < all.len() {
+                " (regular stride)"
+            } else {
+                ""
+            }
         ),
     )?;
     let (w, _) = body.dim_in_pixel();
@@ -103,18 +117,26 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(GREY, 2)));
     let (c0, c1) = (t0, t1.max(t0 + 1e-9));
     chart
-        .draw_series(pts.iter().map(|&(x, y, t)| {
-            Circle::new((x, y), 5, time_colour((t - c0) / (c1 - c0)).filled())
-        }))
+        .draw_series(
+            pts.iter().map(|&(x, y, t)| {
+                Circle::new((x, y), 5, time_colour((t - c0) / (c1 - c0)).filled())
+            }),
+        )
         .ctx()?
         .label("beat (blue early → yellow late)")
         .legend(|(x, y)| Circle::new((x + GLYPH_PX / 2, y), 6, time_colour(0.0).filled()));
     if let Some(&(x, y, _)) = pts.first() {
         chart
-            .draw_series(std::iter::once(TriangleMarker::new((x, y), 14, OI_VERMILLION.filled())))
+            .draw_series(std::iter::once(TriangleMarker::new(
+                (x, y),
+                14,
+                OI_VERMILLION.filled(),
+            )))
             .ctx()?
             .label("first beat")
-            .legend(|(x, y)| TriangleMarker::new((x + GLYPH_PX / 2, y), 12, OI_VERMILLION.filled()));
+            .legend(|(x, y)| {
+                TriangleMarker::new((x + GLYPH_PX / 2, y), 12, OI_VERMILLION.filled())
+            });
     }
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)?;
 
@@ -140,7 +162,11 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
         .y_label_area_size(140)
         .build_cartesian_2d(tx0..tx1, v0..v1)
         .ctx()?;
-    configure(&mut chart, "Time (s)", "Diffusion coordinate (dimensionless)")?;
+    configure(
+        &mut chart,
+        "Time (s)",
+        "Diffusion coordinate (dimensionless)",
+    )?;
     let colours = [OI_BLUE, OI_VERMILLION, OI_GREEN];
     for (c, s) in series.into_iter().enumerate() {
         let col = colours[c % colours.len()];
@@ -148,7 +174,9 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
             .draw_series(LineSeries::new(s, line_style(col, 2)))
             .ctx()?
             .label(format!("ψ{}", c + 1))
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(col, 3)));
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(col, 3))
+            });
     }
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
@@ -180,7 +208,11 @@ pub(super) fn draw_recurrence<DB: DrawingBackend>(
     let e = &a.embedding;
     let k = e.components;
     if e.n < 8 || k == 0 || e.coords.len() != e.n * k {
-        return draw_message(area, title, "fewer than 8 embedded beats: no recurrence plot");
+        return draw_message(
+            area,
+            title,
+            "fewer than 8 embedded beats: no recurrence plot",
+        );
     }
     let (params, comps) = rqa_setup(a);
     let c = comps.min(k);
@@ -261,9 +293,21 @@ pub(super) fn draw_recurrence<DB: DrawingBackend>(
         "Middle beat of the window (row)"
     };
     let lines: [(&str, RGBColor, Vec<(f64, f64)>); 3] = [
-        ("recurrence rate", OI_BLUE, a.recurrence.iter().map(|w| (x_of(w), w.rqa.rr)).collect()),
-        ("determinism DET", OI_VERMILLION, a.recurrence.iter().map(|w| (x_of(w), w.rqa.det)).collect()),
-        ("laminarity LAM", OI_GREEN, a.recurrence.iter().map(|w| (x_of(w), w.rqa.lam)).collect()),
+        (
+            "recurrence rate",
+            OI_BLUE,
+            a.recurrence.iter().map(|w| (x_of(w), w.rqa.rr)).collect(),
+        ),
+        (
+            "determinism DET",
+            OI_VERMILLION,
+            a.recurrence.iter().map(|w| (x_of(w), w.rqa.det)).collect(),
+        ),
+        (
+            "laminarity LAM",
+            OI_GREEN,
+            a.recurrence.iter().map(|w| (x_of(w), w.rqa.lam)).collect(),
+        ),
     ];
     let Some((tx0, tx1)) = axis_range(lines.iter().flat_map(|l| l.2.iter().map(|p| p.0))) else {
         return draw_message(&right, "", "no recurrence windows");
@@ -286,15 +330,25 @@ pub(super) fn draw_recurrence<DB: DrawingBackend>(
         )))
         .ctx()?
         .label("window in the recurrence plot")
-        .legend(|(x, y)| Rectangle::new([(x, y - 10), (x + GLYPH_PX, y + 10)], OI_SKY.mix(0.4).filled()));
+        .legend(|(x, y)| {
+            Rectangle::new(
+                [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                OI_SKY.mix(0.4).filled(),
+            )
+        });
     for (name, col, s) in lines {
-        let s: Vec<(f64, f64)> = s.into_iter().filter(|p| p.0.is_finite() && p.1.is_finite()).collect();
+        let s: Vec<(f64, f64)> = s
+            .into_iter()
+            .filter(|p| p.0.is_finite() && p.1.is_finite())
+            .collect();
         let s = minmax_thin(&s, LINE_BINS / 2);
         chart
             .draw_series(LineSeries::new(s, line_style(col, 3)))
             .ctx()?
             .label(name)
-            .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(col, 3)));
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(col, 3))
+            });
     }
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
@@ -352,12 +406,19 @@ pub(super) fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> Draw
         .collect();
     if !episodes.is_empty() {
         chart
-            .draw_series(episodes.iter().map(|&(s, e)| {
-                Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.25).filled())
-            }))
+            .draw_series(
+                episodes.iter().map(|&(s, e)| {
+                    Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.25).filled())
+                }),
+            )
             .ctx()?
             .label("irregular-rhythm screen (research)")
-            .legend(|(x, y)| Rectangle::new([(x, y - 10), (x + GLYPH_PX, y + 10)], OI_ORANGE.mix(0.45).filled()));
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_ORANGE.mix(0.45).filled(),
+                )
+            });
     }
     let reference = crate::rhythm::screen::irregular_reference(&a.reference);
     let band = (y1 - 0.04 * (y1 - y0), y1);
@@ -368,9 +429,11 @@ pub(super) fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> Draw
         .collect();
     if !reference.is_empty() {
         chart
-            .draw_series(reference.iter().map(|&(s, e)| {
-                Rectangle::new([(s, band.0), (e, band.1)], OI_SKY.filled())
-            }))
+            .draw_series(
+                reference
+                    .iter()
+                    .map(|&(s, e)| Rectangle::new([(s, band.0), (e, band.1)], OI_SKY.filled())),
+            )
             .ctx()?
             .label("reference irregular rhythm")
             .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + GLYPH_PX, y + 6)], OI_SKY.filled()));
@@ -417,9 +480,17 @@ pub(super) fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> Draw
         .label("identity line")
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(GREY, 2)));
     chart
-        .draw_series(shown.iter().map(|&p| Circle::new(p, 4, OI_BLUE.mix(0.6).filled())))
+        .draw_series(
+            shown
+                .iter()
+                .map(|&p| Circle::new(p, 4, OI_BLUE.mix(0.6).filled())),
+        )
         .ctx()?
-        .label(format!("successive RR pairs ({} of {})", shown.len(), pairs.len()))
+        .label(format!(
+            "successive RR pairs ({} of {})",
+            shown.len(),
+            pairs.len()
+        ))
         .legend(|(x, y)| Circle::new((x + GLYPH_PX / 2, y), 6, OI_BLUE.filled()));
     draw_legend(&mut chart, SeriesLabelPosition::LowerRight)
 }

@@ -76,7 +76,9 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
     if !svgs.is_empty() {
         nav.push_str(" · <a href=\"#figures\">Figures</a>");
     }
-    nav.push_str(" · <a href=\"#parameters\">Parameters</a> · <a href=\"#provenance\">Provenance</a>");
+    nav.push_str(
+        " · <a href=\"#parameters\">Parameters</a> · <a href=\"#provenance\">Provenance</a>",
+    );
     let _ = writeln!(o, "<nav>{nav}</nav>");
 
     // Summary table.
@@ -250,7 +252,10 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
     );
     row(&mut p, "beatfold version", env!("CARGO_PKG_VERSION"));
     row(&mut p, "Analysis time", &format!("{} s", f(a.elapsed_s, 2)));
-    let _ = writeln!(o, "<h2 id=\"provenance\">Provenance</h2>\n<table>\n{p}</table>");
+    let _ = writeln!(
+        o,
+        "<h2 id=\"provenance\">Provenance</h2>\n<table>\n{p}</table>"
+    );
     if !a.notes.is_empty() {
         let items: String = a
             .notes

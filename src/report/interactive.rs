@@ -78,17 +78,20 @@ fn quant(v: f64, lo: f64, hi: f64) -> Value {
     json!(((v - lo) / span * Q_LEVELS).round().clamp(0.0, Q_LEVELS) as i64)
 }
 
-/// Finite (min, max), or (0, 1).
+/// Display range of a coordinate: its 0.5 % and 99.5 % quantiles (points beyond sit on the
+/// edge, so one far outlier cannot squash the rest into a corner), or (0, 1) when empty.
 fn range(vals: impl Iterator<Item = f64>) -> (f64, f64) {
-    let (lo, hi) = vals
-        .filter(|v| v.is_finite())
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), v| {
-            (l.min(v), h.max(v))
-        });
-    if lo.is_finite() && hi.is_finite() {
+    let mut v: Vec<f64> = vals.filter(|v| v.is_finite()).collect();
+    if v.is_empty() {
+        return (0.0, 1.0);
+    }
+    v.sort_by(f64::total_cmp);
+    let at = |q: f64| v[((q * (v.len() - 1) as f64).round() as usize).min(v.len() - 1)];
+    let (lo, hi) = (at(0.005), at(0.995));
+    if hi > lo {
         (lo, hi)
     } else {
-        (0.0, 1.0)
+        (lo - 0.5, lo + 0.5)
     }
 }
 
@@ -362,9 +365,12 @@ function selftest(){
   out.textContent=res;out.setAttribute('data-status',ok?'pass':'fail');
   document.title='SELFTEST '+res;
 }
-build();
-if(n>0){showBeat(0);}
-if(location.hash==='#selftest'){selftest();}
+function start(){
+  build();
+  if(n>0){showBeat(0);}
+  if(location.hash==='#selftest'){selftest();}
+}
+if(document.readyState==='loading'){document.addEventListener('DOMContentLoaded',start);}else{start();}
 })();"#;
 
 /// The HTML of the interactive section, or a paragraph saying why there is none.
@@ -399,7 +405,8 @@ pub(crate) fn section(a: &Analysis) -> String {
 <p>Click or hover a point to see that beat's waveform (conditioned lead, {pre:.2} s before to \
 {post:.2} s after the R peak, thinned to about {hz:.0} Hz and rounded to 8 bits for display) and \
 its time. Choose a time range with the two boxes or by dragging across the timeline strip to \
-highlight its beats. {sub} Coordinates are rescaled to the shown range.</p>\n\
+highlight its beats. {sub} Each axis spans the 0.5–99.5 % range of its coordinate; points \
+beyond it sit on the edge.</p>\n\
 <div id=\"bf-controls\"><label>Projection <select id=\"bf-proj\">{proj}</select></label>\
 <label>Colour <select id=\"bf-colour\"><option value=\"time\">time</option>\
 <option value=\"class\">beat class</option></select></label>\
@@ -417,10 +424,13 @@ aria-label=\"Diffusion coordinates of the beats\">\
 <text id=\"bf-xlab\" x=\"280\" y=\"555\" text-anchor=\"middle\" font-size=\"13\"></text>\
 <text id=\"bf-ylab\" x=\"14\" y=\"280\" text-anchor=\"middle\" font-size=\"13\" \
 transform=\"rotate(-90 14 280)\"></text></svg>\
-<div><svg id=\"bf-wave\" viewBox=\"0 0 400 240\" width=\"400\" height=\"240\" role=\"img\" \
+<div style=\"width:400px\"><svg id=\"bf-wave\" viewBox=\"0 0 400 240\" width=\"400\" height=\"240\" role=\"img\" \
 aria-label=\"Waveform of the chosen beat\">\
 <line x1=\"50\" y1=\"110\" x2=\"390\" y2=\"110\" stroke=\"#ccc\"/>\
 <line x1=\"{rx:.1}\" y1=\"20\" x2=\"{rx:.1}\" y2=\"200\" stroke=\"#ccc\" stroke-dasharray=\"4 3\"/>\
+<text x=\"46\" y=\"24\" text-anchor=\"end\" font-size=\"11\">{amp_txt}</text>\
+<text x=\"46\" y=\"114\" text-anchor=\"end\" font-size=\"11\">0</text>\
+<text x=\"46\" y=\"204\" text-anchor=\"end\" font-size=\"11\">−{amp_txt}</text>\
 <polyline id=\"bf-wave-line\" fill=\"none\" stroke=\"#0072B2\" stroke-width=\"2\" points=\"\"/>\
 <text x=\"220\" y=\"232\" text-anchor=\"middle\" font-size=\"12\">Time from R peak (s): \
 −{pre:.2} to +{post:.2}</text>\
@@ -436,5 +446,16 @@ Amplitude ({unit})</text></svg>\
         dur = a.duration_s.max(0.0),
         rx = 50.0 + 340.0 * PRE_S / (PRE_S + POST_S),
         json = json_for_script(&d),
+        amp_txt = format_amp(d["wave"]["amp"].as_f64().unwrap_or(1.0)),
     )
+}
+
+/// Amplitude with three significant digits.
+fn format_amp(v: f64) -> String {
+    if v.is_finite() && v > 0.0 {
+        let dec = (2.0 - v.log10().floor()).clamp(0.0, 6.0) as usize;
+        format!("{v:.dec$}")
+    } else {
+        "1".to_string()
+    }
 }

@@ -140,8 +140,8 @@ pub fn write_all(a: &Analysis, out_dir: &Path, opts: &ReportOptions) -> Result<W
         fs::create_dir_all(&fig_dir).map_err(|e| Error::io(&fig_dir, e))?;
         for &fig in &opts.select {
             let svg_path = fig_dir.join(format!("{}.svg", fig.file_stem()));
-            let svg = figures::render_svg_view(fig, a, &view)
-                .map_err(|m| Error::output(&svg_path, m))?;
+            let svg =
+                figures::render_svg_view(fig, a, &view).map_err(|m| Error::output(&svg_path, m))?;
             if opts.svg {
                 write_atomic(&svg_path, svg.as_bytes())?;
                 files.push(svg_path);
