@@ -39,11 +39,7 @@ fn analyze_draws_only_the_chosen_figures_over_the_chosen_range() {
         ],
         tmp.path(),
     );
-    assert!(
-        o.status.success(),
-        "{}",
-        String::from_utf8_lossy(&o.stderr)
-    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let figs = tmp.path().join("out/figures");
     let mut names: Vec<String> = std::fs::read_dir(&figs)
         .unwrap()
@@ -87,7 +83,13 @@ fn bad_figure_names_and_ranges_exit_2() {
         args.extend(extra);
         let o = beatfold(&args, tmp.path());
         assert_eq!(o.status.code(), Some(2), "{args:?}");
-        assert!(String::from_utf8_lossy(&o.stderr).contains(word), "{args:?}");
-        assert!(!tmp.path().join("out").exists(), "output written for {args:?}");
+        assert!(
+            String::from_utf8_lossy(&o.stderr).contains(word),
+            "{args:?}"
+        );
+        assert!(
+            !tmp.path().join("out").exists(),
+            "output written for {args:?}"
+        );
     }
 }

@@ -17,7 +17,10 @@ fn svgs(a: &beatfold::pipeline::Analysis, opts: ReportOptions) -> Vec<(Figure, S
     opts.select
         .iter()
         .map(|f| {
-            let p = tmp.path().join("figures").join(format!("{}.svg", f.file_stem()));
+            let p = tmp
+                .path()
+                .join("figures")
+                .join(format!("{}.svg", f.file_stem()));
             (*f, std::fs::read_to_string(p).unwrap())
         })
         .collect()
@@ -39,7 +42,12 @@ fn one(a: &beatfold::pipeline::Analysis, fig: Figure, opts: ReportOptions) -> St
 fn rects_filled(svg: &str, hex: &str) -> usize {
     svg.split("<rect")
         .skip(1)
-        .filter(|r| r.split("/>").next().unwrap_or("").contains(&format!("fill=\"{hex}\"")))
+        .filter(|r| {
+            r.split("/>")
+                .next()
+                .unwrap_or("")
+                .contains(&format!("fill=\"{hex}\""))
+        })
         .count()
 }
 
@@ -112,7 +120,11 @@ fn recurrence_matrix_of_a_periodic_trajectory() {
     assert_eq!(m.len(), 40 * 40);
     for i in 0..40 {
         for j in 0..40 {
-            assert_eq!(m[i * 40 + j], (i as i64 - j as i64) % PERIOD as i64 == 0, "{i},{j}");
+            assert_eq!(
+                m[i * 40 + j],
+                (i as i64 - j as i64) % PERIOD as i64 == 0,
+                "{i},{j}"
+            );
         }
     }
     // Recurrence-rate threshold 10 %: with period 5 over 40 points, 8 points share each
@@ -188,7 +200,10 @@ fn beat_overlay_has_one_median_template_per_class() {
     };
     let shown = per_class('N') + per_class('V') + per_class('A');
     assert!(shown <= 240);
-    assert!(svg.contains(&format!("({shown} of {} shown)", rows.len())), "overlay count");
+    assert!(
+        svg.contains(&format!("({shown} of {} shown)", rows.len())),
+        "overlay count"
+    );
 }
 
 #[test]
@@ -255,11 +270,21 @@ fn trajectory_joins_the_beats_of_the_range() {
         .iter()
         .map(|&b| a.beat_samples[b] as f64 / FS_HZ)
         .collect();
-    let inside = times.iter().filter(|&&t| (10.0..=40.0).contains(&t)).count();
+    let inside = times
+        .iter()
+        .filter(|&&t| (10.0..=40.0).contains(&t))
+        .count();
     assert!(svg.contains(&format!("{inside} beats, 10.0 to 40.0 s")));
     // A circle per beat plus one legend circle; three coordinate series and the joining line.
     assert_eq!(svg.matches("<circle").count(), inside + 1);
-    for w in ["ψ1", "ψ2", "ψ3", "successive beats joined", "first beat", "Time (s)"] {
+    for w in [
+        "ψ1",
+        "ψ2",
+        "ψ3",
+        "successive beats joined",
+        "first beat",
+        "Time (s)",
+    ] {
         assert!(svg.contains(w), "lacks {w:?}");
     }
 }

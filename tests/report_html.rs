@@ -95,7 +95,9 @@ fn interactive_view_holds_every_beat_with_its_waveform() {
     // amplitude in the view is a V beat (1.5 mV), so an N peak (1.0 mV) is 127·1/1.5 ≈ 85.
     assert_eq!(d["wave"]["len"], (63 + 113) / 3 + 1);
     assert!((d["wave"]["amp"].as_f64().unwrap() - 1.5).abs() < 1e-3);
-    let k_n = (0..m).find(|&k| label(a.features.beat_index[k]) == 'N').unwrap();
+    let k_n = (0..m)
+        .find(|&k| label(a.features.beat_index[k]) == 'N')
+        .unwrap();
     let bytes = unbase64(d["wave"]["b64"][k_n].as_str().unwrap());
     assert_eq!(bytes.len(), 59);
     let vals: Vec<i8> = bytes.iter().map(|&x| x as i8).collect();

@@ -18,6 +18,9 @@ use crate::points::Points;
 use crate::rhythm::recurrence::{recurrence_matrix, RqaParams};
 use plotters::prelude::*;
 
+/// A named, coloured line of (x, y) points.
+type Series = (&'static str, RGBColor, Vec<(f64, f64)>);
+
 /// Most trajectory points joined in one drawing.
 const MAX_TRAJECTORY: usize = 2000;
 /// Largest recurrence-plot window, beats (the matrix is n × n).
@@ -292,7 +295,7 @@ pub(super) fn draw_recurrence<DB: DrawingBackend>(
     } else {
         "Middle beat of the window (row)"
     };
-    let lines: [(&str, RGBColor, Vec<(f64, f64)>); 3] = [
+    let lines: [Series; 3] = [
         (
             "recurrence rate",
             OI_BLUE,

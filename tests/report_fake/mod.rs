@@ -52,10 +52,15 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
     let n_samples = ((t + 1.0) * fs) as usize;
     let mut conditioned = vec![0.0; n_samples];
     for (i, &s) in beat_samples.iter().enumerate() {
-        let (amp, width) = if label(i) == 'V' { (-1.5, 8.0) } else { (1.0, 3.0) };
-        for k in s.saturating_sub(40)..(s + 40).min(n_samples) {
+        let (amp, width) = if label(i) == 'V' {
+            (-1.5, 8.0)
+        } else {
+            (1.0, 3.0)
+        };
+        let k0 = s.saturating_sub(40);
+        for (k, v) in conditioned.iter_mut().enumerate().take(s + 40).skip(k0) {
             let d = (k as f64 - s as f64) / width;
-            conditioned[k] += amp * (-0.5 * d * d).exp();
+            *v += amp * (-0.5 * d * d).exp();
         }
     }
     let rr_s: Vec<f64> = beat_samples
