@@ -226,7 +226,7 @@ fn embedding_projections_and_colourings() {
         },
     );
     assert_eq!(svg.matches("<circle").count(), 3 * m + 3);
-    for w in ["class N", "class V", "class A"] {
+    for w in ["Beat class", "class N", "class V", "class A"] {
         assert!(svg.contains(w), "lacks {w:?}");
     }
     // Rhythm: the two reference labels.
@@ -239,7 +239,9 @@ fn embedding_projections_and_colourings() {
         },
     );
     assert_eq!(svg.matches("<circle").count(), 3 * m + 2);
-    assert!(svg.contains("reference: AFIB") && svg.contains("reference: (N"));
+    let lines: Vec<&str> = svg.lines().map(str::trim).collect();
+    assert!(lines.contains(&"AFIB") && lines.contains(&"(N"));
+    assert!(svg.contains("Reference rhythm"));
     // RR: a colour bar titled with the unit.
     let svg = one(
         &a,

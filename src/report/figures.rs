@@ -564,8 +564,8 @@ pub(super) fn short_label(s: &str, max_chars: usize) -> String {
 pub(super) enum Colouring {
     /// A value per row on the blue → yellow scale, with the colour-bar title.
     Continuous(Vec<f64>, String),
-    /// A category per row, with the category names and colours.
-    Categorical(Vec<usize>, Vec<String>, Vec<RGBColor>),
+    /// A category per row, with the category names and colours, and the legend heading.
+    Categorical(Vec<usize>, Vec<String>, Vec<RGBColor>, String),
 }
 
 /// Colouring of the `a.embedding.n` rows by `by`.
@@ -627,9 +627,14 @@ pub(super) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
                         .unwrap_or(0)
                 })
                 .collect();
-            Colouring::Categorical(cats, names, colours)
+            Colouring::Categorical(cats, names, colours, "Beat class".into())
         }
         ColourBy::Rhythm => {
+            let heading = if a.reference.rhythms.is_empty() {
+                "Rhythm screen"
+            } else {
+                "Reference rhythm"
+            };
             let labels: Vec<String> = if a.reference.rhythms.is_empty() {
                 beats
                     .iter()
@@ -655,9 +660,7 @@ pub(super) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
                     .map(|&b| {
                         beat_time(a, b)
                             .and_then(|t| rhythm_at(&sorted, t))
-                            .map_or("no reference label".to_string(), |l| {
-                                format!("reference: {}", short_label(&l, 24))
-                            })
+                            .map_or("no reference label".to_string(), |l| short_label(&l, 20))
                     })
                     .collect()
             };
@@ -677,7 +680,7 @@ pub(super) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
                 .iter()
                 .map(|l| names.iter().position(|x| x == l).unwrap_or(names.len() - 1))
                 .collect();
-            Colouring::Categorical(cats, names, colours)
+            Colouring::Categorical(cats, names, colours, heading.into())
         }
     }
 }
@@ -1078,14 +1081,16 @@ pub(super) fn draw_colour_key<DB: DrawingBackend>(
             .ctx()?;
             Ok(())
         }
-        Colouring::Categorical(_, names, colours) => {
+        Colouring::Categorical(_, names, colours, heading) => {
             let style = TextStyle::from((FONT, LABEL_PX).into_font())
                 .color(&OI_BLACK)
                 .pos(Pos::new(HPos::Left, VPos::Center));
+            area.draw(&Text::new(heading.clone(), (12, 36), style.clone()))
+                .ctx()?;
             for (k, (name, col)) in names.iter().zip(colours).enumerate() {
-                let y = 80 + 44 * k as i32;
+                let y = 90 + 44 * k as i32;
                 area.draw(&Circle::new((24, y), 10, col.filled())).ctx()?;
-                area.draw(&Text::new(short_label(name, 18), (44, y), style.clone()))
+                area.draw(&Text::new(short_label(name, 20), (44, y), style.clone()))
                     .ctx()?;
             }
             Ok(())
@@ -1108,7 +1113,7 @@ fn draw_embedding<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>
     let rows: Vec<usize> = stride_indices(e.n, MAX_SCATTER).collect();
     // Categorical colours: the commonest category first, so rare classes stay on top.
     let mut rows = rows;
-    if let Colouring::Categorical(cats, names, _) = &colouring {
+    if let Colouring::Categorical(cats, names, ..) = &colouring {
         let mut count = vec![0usize; names.len()];
         for &c in cats {
             if let Some(x) = count.get_mut(c) {
@@ -1140,7 +1145,7 @@ fn draw_embedding<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>
                     GREY
                 }
             }
-            Colouring::Categorical(cats, _, colours) => cats
+            Colouring::Categorical(cats, _, colours, _) => cats
                 .get(i)
                 .and_then(|&c| colours.get(c))
                 .copied()

@@ -76,7 +76,10 @@ pub(super) fn draw_trajectory<DB: DrawingBackend>(
         return draw_message(
             area,
             title,
-            &format!("fewer than 2 embedded beats between {t0:.1} and {t1:.1} s"),
+            &format!(
+                "fewer than 2 embedded beats in {t0:.1}–{t1:.1} s (record: 0–{:.1} s)",
+                a.duration_s
+            ),
         );
     }
     let body = with_title(
