@@ -66,13 +66,30 @@ pub fn run(cli: Cli) -> Result<()> {
             mean_hr_bpm,
             quiet,
         ),
-        Command::Analyze { input, out, json } => {
+        Command::Analyze {
+            input,
+            out,
+            json,
+            figures,
+            from_s,
+            to_s,
+            colour_by,
+        } => {
             let out = out.unwrap_or_else(|| default_out(&input.input));
             let o = Out {
                 quiet: quiet || json,
             };
+            // Display options are checked before any reading or analysis starts.
+            let ropts = report::ReportOptions {
+                select: report::Figure::parse_list(&figures)?,
+                from_s,
+                to_s,
+                colour_by: report::ColourBy::parse(&colour_by)?,
+                ..Default::default()
+            };
+            ropts.check()?;
             let (rec, params, info) = load(&input, &o)?;
-            analyze_and_write(&rec, &info, &params, &out, json, &o)
+            analyze_and_write(&rec, &info, &params, &out, json, &ropts, &o)
         }
         Command::Beats { input, out, json } => beats_cmd(&input, out.as_deref(), json, quiet),
         Command::Score {
@@ -173,6 +190,7 @@ fn analyze_and_write(
     params: &AnalyzeParams,
     out: &Path,
     json: bool,
+    ropts: &report::ReportOptions,
     o: &Out,
 ) -> Result<()> {
     let pb = progress_bar(o.quiet);
@@ -186,7 +204,7 @@ fn analyze_and_write(
     if let Some(pb) = &pb {
         pb.set_message("writing report");
     }
-    let written = report::write_all(&a, out, &report::ReportOptions::default())?;
+    let written = report::write_all(&a, out, ropts)?;
     if let Some(pb) = pb {
         pb.finish_and_clear();
     }
@@ -293,7 +311,15 @@ fn demo(out: &Path, seed: Option<u64>, minutes: f64, json: bool, quiet: bool) ->
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
-    analyze_and_write(&rec, &info, &params, out, json, &o)?;
+    analyze_and_write(
+        &rec,
+        &info,
+        &params,
+        out,
+        json,
+        &report::ReportOptions::default(),
+        &o,
+    )?;
     o.line(format!(
         "demo finished in {:.2} s",
         t0.elapsed().as_secs_f64()

@@ -96,6 +96,21 @@ pub enum Command {
         /// Print the summary as JSON on stdout.
         #[arg(long)]
         json: bool,
+        /// Figures to draw, comma separated, or `all` (default): trace, beats, embedding,
+        /// trajectory, dimension, recurrence, rr (or their numbers 1–7).
+        #[arg(long, value_name = "LIST", default_value = "all")]
+        figures: String,
+        /// Start of the time range of the trace, trajectory and recurrence figures, seconds
+        /// (default 0).
+        #[arg(long = "from", value_name = "SECONDS")]
+        from_s: Option<f64>,
+        /// End of that time range, seconds (default: 10 s after the start for the trace, 60 s
+        /// for the trajectory, one recurrence window for the recurrence plot).
+        #[arg(long = "to", value_name = "SECONDS")]
+        to_s: Option<f64>,
+        /// Colour of the embedding figure's points: time (default), rr, class or rhythm.
+        #[arg(long = "colour-by", value_name = "WHAT", default_value = "time")]
+        colour_by: String,
     },
     /// Detect beats; write sample, time, RR and label per beat.
     Beats {

@@ -1,10 +1,25 @@
-//! Figures of an [`Analysis`], drawn with plotters into SVG (text) and PNG (1800 × 1000 px).
+//! Figures of an [`Analysis`], drawn with plotters into SVG (text) and PNG (1800 × 1000 px, which
+//! is 6 × 3.3 inches at 300 dpi).
+//!
+//! Seven figures, in report order: 1 `trace` (conditioned lead of a chosen time range with
+//! detected beats by class, quality flags, screen episodes and reference rhythm intervals),
+//! 2 `beats` (aligned beat windows with the median template per beat class), 3 `embedding`
+//! (diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3, coloured by time, RR, beat class or rhythm
+//! label), 4 `trajectory` (successive beats joined in diffusion coordinates over a chosen
+//! interval), 5 `dimension` (k-means quantization scaling and local dimension against scale),
+//! 6 `recurrence` (recurrence plot of one window of the embedded trajectory, Marwan et al. 2007,
+//! and the recurrence-measure timeline), 7 `rr` (RR tachogram with the irregular-rhythm research
+//! screen shaded, and the Poincaré plot of Brennan et al. 2001).
 //!
 //! Text in PNGs is rendered with the DejaVu Sans font compiled into the binary
 //! (`assets/fonts/DejaVuSans.ttf`, Bitstream Vera licence), so figures need no system font.
-//! Colours are the hues of Okabe & Ito (2008), "Color Universal Design — how to make figures and
-//! presentations that are friendly to colorblind people"; the time colour scale runs between two
-//! of them (blue → yellow), an axis that stays ordered under red–green colour-vision deficiencies.
+//! Palette: the eight hues of Okabe & Ito (2008), "Color Universal Design — how to make figures
+//! and presentations that are friendly to colorblind people", in a fixed role each: beats and
+//! the signal blue (0,114,178), ectopic `V` vermillion (213,94,0), `A` bluish green (0,158,115),
+//! `Q` reddish purple (204,121,167), the irregular-rhythm screen orange (230,159,0), reference
+//! intervals sky blue (86,180,233), quality flags grey. Continuous values (time, RR) run from
+//! blue to yellow (240,228,66), an axis that stays ordered under red–green colour-vision
+//! deficiencies and in greyscale.
 //!
 //! Everything here is display only: values that are not finite are skipped, long series are
 //! thinned (min/max per pixel column for lines, a regular stride for point clouds), and a figure
@@ -20,85 +35,196 @@ use std::fmt::Display;
 use std::path::Path;
 use std::sync::OnceLock;
 
-/// Figure size in pixels (SVG user units and PNG pixels).
+/// Figure size in pixels (SVG user units and PNG pixels): 6 × 3.33 inches at 300 dpi.
 pub(crate) const SIZE: (u32, u32) = (1800, 1000);
 /// Height of the strip at the bottom that carries the notice.
 const FOOT_PX: u32 = 48;
 /// Font family name the embedded font is registered under.
-const FONT: &str = "sans-serif";
+pub(super) const FONT: &str = "sans-serif";
 
-const TITLE_PX: u32 = 40;
-const DESC_PX: u32 = 34;
-const LABEL_PX: u32 = 28;
+pub(super) const TITLE_PX: u32 = 40;
+pub(super) const DESC_PX: u32 = 34;
+pub(super) const LABEL_PX: u32 = 28;
 const NOTICE_PX: u32 = 24;
 /// Width of the legend glyph area; glyphs are drawn within `x .. x + GLYPH_PX`.
 const LEGEND_PX: i32 = 64;
-const GLYPH_PX: i32 = 44;
+pub(super) const GLYPH_PX: i32 = 44;
 
 /// Okabe & Ito (2008) hues used by the figures.
-const OI_BLACK: RGBColor = RGBColor(0, 0, 0);
-const OI_ORANGE: RGBColor = RGBColor(230, 159, 0);
-const OI_SKY: RGBColor = RGBColor(86, 180, 233);
-const OI_GREEN: RGBColor = RGBColor(0, 158, 115);
-const OI_YELLOW: RGBColor = RGBColor(240, 228, 66);
-const OI_BLUE: RGBColor = RGBColor(0, 114, 178);
-const OI_VERMILLION: RGBColor = RGBColor(213, 94, 0);
-const GREY: RGBColor = RGBColor(90, 90, 90);
+pub(super) const OI_BLACK: RGBColor = RGBColor(0, 0, 0);
+pub(super) const OI_ORANGE: RGBColor = RGBColor(230, 159, 0);
+pub(super) const OI_SKY: RGBColor = RGBColor(86, 180, 233);
+pub(super) const OI_GREEN: RGBColor = RGBColor(0, 158, 115);
+pub(super) const OI_YELLOW: RGBColor = RGBColor(240, 228, 66);
+pub(super) const OI_BLUE: RGBColor = RGBColor(0, 114, 178);
+pub(super) const OI_VERMILLION: RGBColor = RGBColor(213, 94, 0);
+pub(super) const OI_PURPLE: RGBColor = RGBColor(204, 121, 167);
+pub(super) const GREY: RGBColor = RGBColor(90, 90, 90);
 
-/// Longest trace shown, seconds.
-const TRACE_S: f64 = 10.0;
-/// Most beat windows overlaid.
-const MAX_OVERLAY: usize = 200;
-/// Most points drawn in a scatter plot.
-const MAX_SCATTER: usize = 5000;
+/// Trace length shown when no time range is chosen, seconds.
+pub(crate) const TRACE_S: f64 = 10.0;
+/// Trajectory interval shown when no time range is chosen, seconds.
+pub(crate) const TRAJECTORY_S: f64 = 60.0;
+/// Most beat windows overlaid (shared among the classes).
+const MAX_OVERLAY: usize = 240;
+/// Most points drawn in one scatter panel.
+pub(super) const MAX_SCATTER: usize = 3000;
 /// Columns of min/max thinning for line plots (two points per column).
-const LINE_BINS: usize = 1800;
+pub(super) const LINE_BINS: usize = 1800;
 
 /// The figures of a report, in the order they appear.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) enum Figure {
-    /// First seconds of the conditioned lead with beats marked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Figure {
+    /// 1. The conditioned lead over a time range with beats, quality flags and rhythm episodes.
     Trace,
-    /// Overlay of beat windows with the median template.
+    /// 2. Overlay of beat windows with the median template per beat class.
     Beats,
-    /// Diffusion coordinates 1 vs 2 coloured by time.
+    /// 3. Diffusion coordinates in three 2-D projections, coloured by a chosen value.
     Embedding,
-    /// k-means quantization scaling and local dimension against scale.
+    /// 4. Successive beats joined in diffusion coordinates over a time range.
+    Trajectory,
+    /// 5. k-means quantization scaling and local dimension against scale.
     Dimension,
-    /// RR tachogram.
+    /// 6. Recurrence plot of one window and the recurrence-measure timeline.
+    Recurrence,
+    /// 7. RR tachogram with the irregular-rhythm screen, and the Poincaré plot.
     Rr,
 }
 
 impl Figure {
     /// All figures, in report order.
-    pub(crate) const ALL: [Figure; 5] = [
+    pub const ALL: [Figure; 7] = [
         Figure::Trace,
         Figure::Beats,
         Figure::Embedding,
+        Figure::Trajectory,
         Figure::Dimension,
+        Figure::Recurrence,
         Figure::Rr,
     ];
 
-    /// File name without extension.
-    pub(crate) fn file_stem(self) -> &'static str {
+    /// File name without extension (also the name used by `--figures`).
+    pub fn file_stem(self) -> &'static str {
         match self {
             Figure::Trace => "trace",
             Figure::Beats => "beats",
             Figure::Embedding => "embedding",
+            Figure::Trajectory => "trajectory",
             Figure::Dimension => "dimension",
+            Figure::Recurrence => "recurrence",
             Figure::Rr => "rr",
         }
     }
 
     /// One-sentence caption for the HTML page.
-    pub(crate) fn caption(self) -> &'static str {
+    pub fn caption(self) -> &'static str {
         match self {
-            Figure::Trace => "Conditioned lead, first 10 s, with detected beats (circles) and reference beats (triangles) where available.",
-            Figure::Beats => "Up to 200 beat windows aligned on the R peak (thin lines) and their median (bold; display only).",
-            Figure::Embedding => "Diffusion coordinates 1 and 2 of every beat (up to 5000 shown), coloured by time.",
+            Figure::Trace => "Conditioned lead over the chosen time range (default: the first 10 s) with detected beats by class, quality-flagged segments (grey), irregular-rhythm screen episodes (orange) and reference rhythm intervals (top strip).",
+            Figure::Beats => "Beat windows aligned on the R peak (thin lines, at most 240 shown) and the median template of each beat class (bold; display only).",
+            Figure::Embedding => "Diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3 of every beat (at most 3000 per panel, regular stride), coloured as chosen.",
+            Figure::Trajectory => "Successive beats joined in diffusion coordinates over the chosen time range (default: the first 60 s), and the coordinates against time.",
             Figure::Dimension => "Left: k-means quantization distortion against k with the fitted line. Right: local dimension against scale; the shaded band is the noise-dominated regime.",
-            Figure::Rr => "RR tachogram: each RR interval at the time of the beat that ends it.",
+            Figure::Recurrence => "Left: recurrence plot of one window of the beat trajectory in diffusion coordinates. Right: recurrence rate, determinism and laminarity in sliding windows; the shaded band is the window on the left.",
+            Figure::Rr => "Left: RR tachogram with irregular-rhythm research-screen episodes shaded (not a diagnosis). Right: Poincaré plot of successive RR intervals.",
         }
+    }
+
+    /// Parse a comma-separated list of figure names (`trace,rr`), or `all`. Numbers 1–7 (the
+    /// report order) are accepted as well.
+    pub fn parse_list(list: &str) -> Result<Vec<Figure>> {
+        let mut out: Vec<Figure> = Vec::new();
+        for word in list.split(',').map(str::trim).filter(|w| !w.is_empty()) {
+            let word = word.to_ascii_lowercase();
+            if word == "all" {
+                return Ok(Figure::ALL.to_vec());
+            }
+            let found = Figure::ALL
+                .iter()
+                .enumerate()
+                .find(|(i, f)| f.file_stem() == word || word.parse::<usize>().ok() == Some(i + 1));
+            match found {
+                Some((_, &f)) if !out.contains(&f) => out.push(f),
+                Some(_) => {}
+                None => {
+                    let names: Vec<&str> = Figure::ALL.iter().map(|f| f.file_stem()).collect();
+                    return Err(Error::param(
+                        "figures",
+                        format!(
+                            "unknown figure `{word}`; choose from {} or all",
+                            names.join(", ")
+                        ),
+                    ));
+                }
+            }
+        }
+        if out.is_empty() {
+            return Err(Error::param("figures", "empty list; give names or `all`"));
+        }
+        // Report order, whatever the order given.
+        out.sort_by_key(|f| Figure::ALL.iter().position(|g| g == f));
+        Ok(out)
+    }
+}
+
+/// What colours the points of the embedding figure.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ColourBy {
+    /// Time of the beat, seconds (continuous).
+    #[default]
+    Time,
+    /// RR interval ending at the beat, seconds (continuous).
+    Rr,
+    /// Beat class label (`N`, `V`, `A`, `Q`).
+    Class,
+    /// Reference rhythm label where the record has one, else the irregular-rhythm screen flag.
+    Rhythm,
+}
+
+impl ColourBy {
+    /// Parse `time`, `rr`, `class` or `rhythm`.
+    pub fn parse(s: &str) -> Result<ColourBy> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "time" => Ok(ColourBy::Time),
+            "rr" => Ok(ColourBy::Rr),
+            "class" => Ok(ColourBy::Class),
+            "rhythm" => Ok(ColourBy::Rhythm),
+            other => Err(Error::param(
+                "colour-by",
+                format!("`{other}`; choose time, rr, class or rhythm"),
+            )),
+        }
+    }
+}
+
+/// Display choices shared by the figures: a time range (seconds from the record start) and the
+/// colouring of the embedding.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct View {
+    /// Start of the chosen time range, seconds; `None` = the record start.
+    pub from_s: Option<f64>,
+    /// End of the chosen time range, seconds; `None` = each figure's default length after the
+    /// start.
+    pub to_s: Option<f64>,
+    /// Colouring of the embedding scatter.
+    pub colour_by: ColourBy,
+}
+
+impl View {
+    /// True when the user chose a start or an end.
+    pub(super) fn chosen(&self) -> bool {
+        self.from_s.is_some() || self.to_s.is_some()
+    }
+
+    /// The chosen range, the missing end `default_len_s` after the start, clipped to the record.
+    pub(super) fn range_or(&self, a: &Analysis, default_len_s: f64) -> (f64, f64) {
+        let dur = if a.duration_s.is_finite() && a.duration_s > 0.0 {
+            a.duration_s
+        } else {
+            a.conditioned.len() as f64 / a.fs_hz.max(f64::MIN_POSITIVE)
+        };
+        let t0 = self.from_s.unwrap_or(0.0).max(0.0);
+        let t1 = self.to_s.unwrap_or(t0 + default_len_s).min(dur);
+        (t0, t1.max(t0))
     }
 }
 
@@ -121,7 +247,7 @@ fn ensure_font() -> std::result::Result<(), String> {
 }
 
 /// Map any displayable error to a message.
-trait Ctx<T> {
+pub(super) trait Ctx<T> {
     fn ctx(self) -> std::result::Result<T, String>;
 }
 
@@ -131,29 +257,39 @@ impl<T, E: Display> Ctx<T> for std::result::Result<T, E> {
     }
 }
 
-type Area<DB> = DrawingArea<DB, Shift>;
-type DrawResult = std::result::Result<(), String>;
+pub(super) type Area<DB> = DrawingArea<DB, Shift>;
+pub(super) type DrawResult = std::result::Result<(), String>;
 
 /// Draw `fig` as an SVG document.
+#[cfg_attr(not(test), allow(dead_code))]
 pub(crate) fn render_svg(fig: Figure, a: &Analysis) -> std::result::Result<String, String> {
+    render_svg_view(fig, a, &View::default())
+}
+
+/// Draw `fig` as an SVG document with the display choices of `view`.
+pub(crate) fn render_svg_view(
+    fig: Figure,
+    a: &Analysis,
+    view: &View,
+) -> std::result::Result<String, String> {
     ensure_font()?;
     let mut s = String::new();
     {
         let root = SVGBackend::with_string(&mut s, SIZE).into_drawing_area();
-        draw(fig, a, &root)?;
+        draw(fig, a, view, &root)?;
         root.present().ctx()?;
     }
     Ok(s)
 }
 
 /// Draw `fig` as a PNG file at `path` (through a temporary sibling, then `fsync` and rename).
-pub(crate) fn write_png(fig: Figure, a: &Analysis, path: &Path) -> Result<()> {
+pub(crate) fn write_png(fig: Figure, a: &Analysis, view: &View, path: &Path) -> Result<()> {
     ensure_font().map_err(|m| Error::output(path, m))?;
     // The PNG encoder picks the format from the extension, so the temporary name ends in `.png`.
     let tmp = super::temp_sibling(path, ".png")?;
     let drawn = (|| {
         let root = BitMapBackend::new(&tmp, SIZE).into_drawing_area();
-        draw(fig, a, &root)?;
+        draw(fig, a, view, &root)?;
         root.present().ctx()
     })();
     if let Err(m) = drawn {
@@ -164,7 +300,7 @@ pub(crate) fn write_png(fig: Figure, a: &Analysis, path: &Path) -> Result<()> {
 }
 
 /// Background, notice strip, then the figure body.
-fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, root: &Area<DB>) -> DrawResult {
+fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<DB>) -> DrawResult {
     root.fill(&WHITE).ctx()?;
     let (body, foot) = root.split_vertically(SIZE.1 - FOOT_PX);
     foot.draw(&Text::new(
@@ -174,16 +310,22 @@ fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, root: &Area<DB>) -> DrawR
     ))
     .ctx()?;
     match fig {
-        Figure::Trace => draw_trace(a, &body),
+        Figure::Trace => draw_trace(a, view, &body),
         Figure::Beats => draw_beats(a, &body),
-        Figure::Embedding => draw_embedding(a, &body),
+        Figure::Embedding => draw_embedding(a, view, &body),
+        Figure::Trajectory => super::figures_more::draw_trajectory(a, view, &body),
         Figure::Dimension => draw_dimension(a, &body),
-        Figure::Rr => draw_rr(a, &body),
+        Figure::Recurrence => super::figures_more::draw_recurrence(a, view, &body),
+        Figure::Rr => super::figures_more::draw_rr(a, &body),
     }
 }
 
 /// A figure with only a title and a message in the middle.
-fn draw_message<DB: DrawingBackend>(area: &Area<DB>, title: &str, msg: &str) -> DrawResult {
+pub(super) fn draw_message<DB: DrawingBackend>(
+    area: &Area<DB>,
+    title: &str,
+    msg: &str,
+) -> DrawResult {
     area.draw(&Text::new(
         title.to_string(),
         (40, 30),
@@ -203,7 +345,7 @@ fn draw_message<DB: DrawingBackend>(area: &Area<DB>, title: &str, msg: &str) -> 
 }
 
 /// Finite (min, max) of values, widened when empty of spread and padded by 5 %.
-fn axis_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
+pub(super) fn axis_range(values: impl Iterator<Item = f64>) -> Option<(f64, f64)> {
     let (lo, hi) = values
         .filter(|v| v.is_finite())
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), v| {
@@ -258,12 +400,12 @@ pub(crate) fn minmax_thin(pts: &[(f64, f64)], bins: usize) -> Vec<(f64, f64)> {
 }
 
 /// Indices `0..n` thinned to at most `max` with a regular stride.
-fn stride_indices(n: usize, max: usize) -> impl Iterator<Item = usize> {
+pub(super) fn stride_indices(n: usize, max: usize) -> impl Iterator<Item = usize> {
     let step = n.div_ceil(max.max(1)).max(1);
     (0..n).step_by(step)
 }
 
-fn line_style(c: RGBColor, width: u32) -> ShapeStyle {
+pub(super) fn line_style(c: RGBColor, width: u32) -> ShapeStyle {
     ShapeStyle {
         color: c.to_rgba(),
         filled: false,
@@ -271,11 +413,19 @@ fn line_style(c: RGBColor, width: u32) -> ShapeStyle {
     }
 }
 
-fn configure<DB: DrawingBackend>(
+pub(super) fn configure<DB: DrawingBackend>(
     chart: &mut ChartContext<'_, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
     x_desc: &str,
     y_desc: &str,
 ) -> DrawResult {
+    let xr = chart.x_range();
+    let yr = chart.y_range();
+    let (xd, yd) = (
+        tick_decimals(xr.end - xr.start),
+        tick_decimals(yr.end - yr.start),
+    );
+    let fx = move |v: &f64| tick_label(*v, xd);
+    let fy = move |v: &f64| tick_label(*v, yd);
     chart
         .configure_mesh()
         .x_desc(x_desc)
@@ -285,11 +435,34 @@ fn configure<DB: DrawingBackend>(
         .light_line_style(RGBColor(235, 235, 235))
         .x_labels(8)
         .y_labels(8)
+        .x_label_formatter(&fx)
+        .y_label_formatter(&fy)
         .draw()
         .ctx()
 }
 
-fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
+/// Decimals for tick labels of an axis spanning `span` (about 8 ticks).
+fn tick_decimals(span: f64) -> usize {
+    if !(span.is_finite() && span > 0.0) {
+        return 2;
+    }
+    (1.0 - (span / 8.0).log10().floor()).clamp(0.0, 8.0) as usize
+}
+
+/// Tick label with `dec` decimals and no negative zero.
+fn tick_label(v: f64, dec: usize) -> String {
+    let s = format!("{v:.dec$}");
+    if s.trim_start_matches('-')
+        .chars()
+        .all(|c| c == '0' || c == '.')
+    {
+        s.trim_start_matches('-').to_string()
+    } else {
+        s
+    }
+}
+
+pub(super) fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
     chart: &mut ChartContext<'a, DB, CT>,
     pos: SeriesLabelPosition,
 ) -> DrawResult {
@@ -306,7 +479,7 @@ fn draw_legend<'a, DB: DrawingBackend + 'a, CT: CoordTranslate>(
 }
 
 /// Tick label of a length scale: plain decimals in 0.01..1000, scientific otherwise.
-fn scale_label(v: f64) -> String {
+pub(super) fn scale_label(v: f64) -> String {
     let a = v.abs();
     if (0.01..1000.0).contains(&a) {
         format!("{v:.3}")
@@ -316,7 +489,7 @@ fn scale_label(v: f64) -> String {
 }
 
 /// Amplitude axis description from the lead's unit.
-fn amplitude_desc(a: &Analysis, what: &str) -> String {
+pub(super) fn amplitude_desc(a: &Analysis, what: &str) -> String {
     if a.raw.unit.trim().is_empty() {
         format!("{what} (unknown unit)")
     } else {
@@ -324,66 +497,374 @@ fn amplitude_desc(a: &Analysis, what: &str) -> String {
     }
 }
 
-fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
+/// Beat classes drawn in their own colour, in legend order.
+pub(super) const CLASSES: [char; 4] = ['N', 'V', 'A', 'Q'];
+
+/// Colour of a beat class (Okabe–Ito; other labels grey).
+pub(super) fn class_colour(c: char) -> RGBColor {
+    match c {
+        'N' => OI_BLUE,
+        'V' => OI_VERMILLION,
+        'A' => OI_GREEN,
+        'Q' => OI_PURPLE,
+        _ => GREY,
+    }
+}
+
+/// Colours of categorical labels other than beat classes, in order of first appearance.
+const CATEGORY_COLOURS: [RGBColor; 6] = [
+    OI_BLUE,
+    OI_ORANGE,
+    OI_GREEN,
+    OI_PURPLE,
+    OI_SKY,
+    OI_VERMILLION,
+];
+
+/// Time in seconds of detected beat `b`.
+pub(super) fn beat_time(a: &Analysis, b: usize) -> Option<f64> {
+    let s = *a.beat_samples.get(b)?;
+    (a.fs_hz > 0.0).then(|| s as f64 / a.fs_hz)
+}
+
+/// Detected-beat index of every embedding row, when the links are complete.
+pub(super) fn row_beats(a: &Analysis) -> Option<Vec<usize>> {
+    let n = a.embedding.n;
+    if a.features.beat_index.len() < n {
+        return None;
+    }
+    let v: Vec<usize> = a.features.beat_index[..n].to_vec();
+    v.iter().all(|&b| b < a.beat_samples.len()).then_some(v)
+}
+
+/// Time in seconds of every embedding row, when the links are complete.
+pub(super) fn row_times(a: &Analysis) -> Option<Vec<f64>> {
+    row_beats(a)?.into_iter().map(|b| beat_time(a, b)).collect()
+}
+
+/// Label of the reference rhythm interval holding time `t`, if any (intervals sorted by start).
+pub(super) fn rhythm_at(sorted: &[&crate::record::RhythmInterval], t: f64) -> Option<String> {
+    let k = sorted.partition_point(|r| r.start_s <= t);
+    let r = sorted.get(k.checked_sub(1)?)?;
+    (t < r.end_s).then(|| r.label.clone())
+}
+
+/// Shorten a user label for a legend.
+pub(super) fn short_label(s: &str, max_chars: usize) -> String {
+    if s.chars().count() <= max_chars {
+        s.to_string()
+    } else {
+        let mut t: String = s.chars().take(max_chars.saturating_sub(1)).collect();
+        t.push('…');
+        t
+    }
+}
+
+/// How the rows of the embedding are coloured.
+pub(super) enum Colouring {
+    /// A value per row on the blue → yellow scale, with the colour-bar title.
+    Continuous(Vec<f64>, String),
+    /// A category per row, with the category names and colours, and the legend heading.
+    Categorical(Vec<usize>, Vec<String>, Vec<RGBColor>, String),
+}
+
+/// Colouring of the `a.embedding.n` rows by `by`.
+pub(super) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
+    let n = a.embedding.n;
+    let beats = row_beats(a);
+    let order = || {
+        Colouring::Continuous(
+            (0..n).map(|i| i as f64).collect(),
+            "Beat order (row)".into(),
+        )
+    };
+    let Some(beats) = beats else {
+        return order();
+    };
+    match by {
+        ColourBy::Time => match row_times(a) {
+            Some(t) => Colouring::Continuous(t, "Time (s)".into()),
+            None => order(),
+        },
+        ColourBy::Rr => Colouring::Continuous(
+            beats
+                .iter()
+                .map(|&b| {
+                    b.checked_sub(1)
+                        .and_then(|k| a.rr_s.get(k))
+                        .copied()
+                        .unwrap_or(f64::NAN)
+                })
+                .collect(),
+            "RR interval ending at the beat (s)".into(),
+        ),
+        ColourBy::Class => {
+            let labels: Vec<char> = beats
+                .iter()
+                .map(|&b| a.beat_labels.get(b).copied().unwrap_or('?'))
+                .collect();
+            let mut names = Vec::new();
+            let mut colours = Vec::new();
+            let mut keys: Vec<Option<char>> = Vec::new();
+            for c in CLASSES {
+                if labels.contains(&c) {
+                    keys.push(Some(c));
+                    names.push(format!("class {c}"));
+                    colours.push(class_colour(c));
+                }
+            }
+            if labels.iter().any(|c| !CLASSES.contains(c)) {
+                keys.push(None);
+                names.push("other label".into());
+                colours.push(GREY);
+            }
+            let cats = labels
+                .iter()
+                .map(|c| {
+                    keys.iter()
+                        .position(|k| *k == Some(*c))
+                        .or_else(|| keys.iter().position(|k| k.is_none()))
+                        .unwrap_or(0)
+                })
+                .collect();
+            Colouring::Categorical(cats, names, colours, "Beat class".into())
+        }
+        ColourBy::Rhythm => {
+            let heading = if a.reference.rhythms.is_empty() {
+                "Rhythm screen"
+            } else {
+                "Reference rhythm"
+            };
+            let labels: Vec<String> = if a.reference.rhythms.is_empty() {
+                beats
+                    .iter()
+                    .map(|&b| {
+                        let irr = b
+                            .checked_sub(1)
+                            .and_then(|k| a.screen.irregular.get(k))
+                            .copied()
+                            .unwrap_or(false);
+                        if irr {
+                            "screen: irregular".to_string()
+                        } else {
+                            "screen: not irregular".to_string()
+                        }
+                    })
+                    .collect()
+            } else {
+                let mut sorted: Vec<&crate::record::RhythmInterval> =
+                    a.reference.rhythms.iter().collect();
+                sorted.sort_by(|x, y| x.start_s.total_cmp(&y.start_s));
+                beats
+                    .iter()
+                    .map(|&b| {
+                        beat_time(a, b)
+                            .and_then(|t| rhythm_at(&sorted, t))
+                            .map_or("no reference label".to_string(), |l| short_label(&l, 20))
+                    })
+                    .collect()
+            };
+            let mut names: Vec<String> = Vec::new();
+            for l in &labels {
+                if !names.contains(l) && names.len() < CATEGORY_COLOURS.len() {
+                    names.push(l.clone());
+                }
+            }
+            let mut colours: Vec<RGBColor> = CATEGORY_COLOURS[..names.len()].to_vec();
+            let overflow = labels.iter().any(|l| !names.contains(l));
+            if overflow {
+                names.push("other labels".into());
+                colours.push(GREY);
+            }
+            let cats = labels
+                .iter()
+                .map(|l| names.iter().position(|x| x == l).unwrap_or(names.len() - 1))
+                .collect();
+            Colouring::Categorical(cats, names, colours, heading.into())
+        }
+    }
+}
+
+fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) -> DrawResult {
     let title = "Conditioned lead with detected beats";
     let fs = a.fs_hz;
     if !fs.is_finite() || fs <= 0.0 || a.conditioned.is_empty() {
         return draw_message(area, title, "no signal to show");
     }
-    let n_show = ((TRACE_S * fs).ceil() as usize).min(a.conditioned.len());
-    let raw_pts: Vec<(f64, f64)> = a.conditioned[..n_show]
+    let (t0, t1) = view.range_or(a, TRACE_S);
+    let len = a.conditioned.len();
+    let i0 = ((t0 * fs).floor().max(0.0) as usize).min(len);
+    let i1 = ((t1 * fs).ceil().max(0.0) as usize).min(len);
+    if i1 < i0 + 2 {
+        return draw_message(area, title, "no samples in the chosen time range");
+    }
+    let raw_pts: Vec<(f64, f64)> = a.conditioned[i0..i1]
         .iter()
         .enumerate()
-        .map(|(i, &y)| (i as f64 / fs, y))
+        .map(|(k, &y)| ((i0 + k) as f64 / fs, y))
         .collect();
     let pts = minmax_thin(&raw_pts, LINE_BINS);
     let Some((y0, y1)) = axis_range(pts.iter().map(|p| p.1)) else {
-        return draw_message(
-            area,
-            title,
-            "signal has no finite samples in the first 10 s",
-        );
+        return draw_message(area, title, "no finite samples in the chosen time range");
     };
-    let t_end = n_show as f64 / fs;
-    // Room above the trace for the reference row.
-    let y_ref = y1 + 0.06 * (y1 - y0);
-    let y_top = y1 + 0.12 * (y1 - y0);
+    let (x0, x1) = (i0 as f64 / fs, (i1 - 1) as f64 / fs);
+    let span = y1 - y0;
+    // Rows above the trace: reference beats, then the reference rhythm strip.
+    let y_ref = y1 + 0.03 * span;
+    let (strip0, strip1) = (y1 + 0.07 * span, y1 + 0.14 * span);
+    let y_top = y1 + 0.16 * span;
     let mut chart = ChartBuilder::on(area)
-        .caption(title, (FONT, TITLE_PX))
+        .caption(
+            format!("{title}, {} to {} s", f1(x0), f1(x1)),
+            (FONT, TITLE_PX),
+        )
         .margin(24)
         .x_label_area_size(90)
         .y_label_area_size(140)
-        .build_cartesian_2d(0.0..t_end.max(1.0 / fs), y0..y_top)
+        .build_cartesian_2d(x0..x1, y0..y_top)
         .ctx()?;
     configure(&mut chart, "Time (s)", &amplitude_desc(a, "Amplitude"))?;
+    let clip = |s: f64, e: f64| (s.max(x0), e.min(x1));
+    let flagged: Vec<(f64, f64)> = a
+        .quality
+        .iter()
+        .filter(|q| !q.is_clean() && q.end_s > x0 && q.start_s < x1)
+        .map(|q| clip(q.start_s, q.end_s))
+        .collect();
+    if !flagged.is_empty() {
+        chart
+            .draw_series(
+                flagged
+                    .iter()
+                    .map(|&(s, e)| Rectangle::new([(s, y0), (e, y1)], GREY.mix(0.18).filled())),
+            )
+            .ctx()?
+            .label("quality flag (flat, clipped, noisy or non-finite)")
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    GREY.mix(0.3).filled(),
+                )
+            });
+    }
+    let episodes: Vec<(f64, f64)> = a
+        .screen
+        .episodes
+        .iter()
+        .filter(|e| e.end_s > x0 && e.start_s < x1)
+        .map(|e| clip(e.start_s, e.end_s))
+        .collect();
+    if !episodes.is_empty() {
+        chart
+            .draw_series(
+                episodes.iter().map(|&(s, e)| {
+                    Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.22).filled())
+                }),
+            )
+            .ctx()?
+            .label("irregular-rhythm screen episode (research)")
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_ORANGE.mix(0.4).filled(),
+                )
+            });
+    }
+    let rhythms: Vec<(f64, f64, String)> = a
+        .reference
+        .rhythms
+        .iter()
+        .filter(|r| r.end_s > x0 && r.start_s < x1)
+        .map(|r| {
+            let (s, e) = clip(r.start_s, r.end_s);
+            (s, e, short_label(&r.label, 20))
+        })
+        .collect();
+    if !rhythms.is_empty() {
+        chart
+            .draw_series(rhythms.iter().map(|(s, e, _)| {
+                Rectangle::new([(*s, strip0), (*e, strip1)], OI_SKY.mix(0.35).filled())
+            }))
+            .ctx()?
+            .label("reference rhythm interval")
+            .legend(|(x, y)| {
+                Rectangle::new(
+                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                    OI_SKY.mix(0.5).filled(),
+                )
+            });
+        chart
+            .draw_series(rhythms.iter().map(|(s, e, _)| {
+                Rectangle::new([(*s, strip0), (*e, strip1)], line_style(OI_SKY, 2))
+            }))
+            .ctx()?;
+        let style = TextStyle::from((FONT, LABEL_PX).into_font())
+            .color(&OI_BLACK)
+            .pos(Pos::new(HPos::Left, VPos::Center));
+        chart
+            .draw_series(rhythms.iter().map(|(s, _, l)| {
+                Text::new(
+                    l.clone(),
+                    (*s + 0.005 * (x1 - x0), 0.5 * (strip0 + strip1)),
+                    style.clone(),
+                )
+            }))
+            .ctx()?;
+    }
     chart
         .draw_series(LineSeries::new(pts, line_style(OI_BLUE, 2)))
         .ctx()?
         .label("conditioned lead")
         .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLUE, 3)));
-    let detected: Vec<(f64, f64)> = a
+    let detected: Vec<(f64, f64, char)> = a
         .beat_samples
         .iter()
-        .filter(|&&s| s < n_show)
-        .filter_map(|&s| {
+        .enumerate()
+        .filter(|(_, &s)| s >= i0 && s < i1)
+        .filter_map(|(b, &s)| {
             let y = *a.conditioned.get(s)?;
-            y.is_finite().then_some((s as f64 / fs, y))
+            let c = a.beat_labels.get(b).copied().unwrap_or('?');
+            y.is_finite().then_some((s as f64 / fs, y, c))
         })
         .collect();
-    chart
-        .draw_series(
-            detected
-                .iter()
-                .map(|&p| Circle::new(p, 9, line_style(OI_VERMILLION, 3))),
-        )
-        .ctx()?
-        .label("detected beat")
-        .legend(|(x, y)| Circle::new((x + GLYPH_PX / 2, y), 9, line_style(OI_VERMILLION, 3)));
+    let mut classes: Vec<char> = CLASSES.to_vec();
+    classes.push('?');
+    for c in classes {
+        let of_class: Vec<(f64, f64)> = detected
+            .iter()
+            .filter(|d| {
+                if c == '?' {
+                    !CLASSES.contains(&d.2)
+                } else {
+                    d.2 == c
+                }
+            })
+            .map(|d| (d.0, d.1))
+            .collect();
+        if of_class.is_empty() {
+            continue;
+        }
+        let col = class_colour(c);
+        let name = if c == '?' {
+            "detected beat (other label)".to_string()
+        } else {
+            format!("detected beat ({c})")
+        };
+        chart
+            .draw_series(
+                of_class
+                    .iter()
+                    .map(|&p| Circle::new(p, 9, line_style(col, 3))),
+            )
+            .ctx()?
+            .label(name)
+            .legend(move |(x, y)| Circle::new((x + GLYPH_PX / 2, y), 9, line_style(col, 3)));
+    }
     let reference: Vec<(f64, f64)> = a
         .reference
         .beats
         .iter()
-        .filter(|r| r.sample < n_show)
+        .filter(|r| r.sample >= i0 && r.sample < i1)
         .map(|r| (r.sample as f64 / fs, y_ref))
         .collect();
     if !reference.is_empty() {
@@ -400,6 +881,10 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     draw_legend(&mut chart, SeriesLabelPosition::LowerRight)
 }
 
+/// A number with one decimal.
+fn f1(x: f64) -> String {
+    format!("{x:.1}")
+}
 /// Offset in seconds encoded in a window column name such as `w-0.200s`.
 fn window_offset_s(name: &str) -> Option<f64> {
     name.strip_prefix('w')?
@@ -427,26 +912,52 @@ fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
     if cols.is_empty() {
         return draw_message(area, title, "no beat-window columns in the features");
     }
-    let rows: Vec<usize> = stride_indices(p.n, MAX_OVERLAY).collect();
     let value = |i: usize, j: usize| p.data.get(i * p.dim + j).copied().unwrap_or(f64::NAN);
-    let template: Vec<(f64, f64)> = cols
+    // Rows grouped by beat class (other labels together, drawn grey).
+    let label_of = |i: usize| {
+        a.features
+            .beat_index
+            .get(i)
+            .and_then(|&b| a.beat_labels.get(b))
+            .copied()
+            .filter(|c| CLASSES.contains(c))
+            .unwrap_or('?')
+    };
+    let mut groups: Vec<(char, Vec<usize>)> = Vec::new();
+    for c in CLASSES.iter().copied().chain(std::iter::once('?')) {
+        let rows: Vec<usize> = (0..p.n).filter(|&i| label_of(i) == c).collect();
+        if !rows.is_empty() {
+            groups.push((c, rows));
+        }
+    }
+    let per_group = (MAX_OVERLAY / groups.len().max(1)).max(1);
+    let shown: Vec<(char, Vec<usize>)> = groups
         .iter()
-        .map(|&(j, x)| (x, crate::stats::median((0..p.n).map(|i| value(i, j)))))
-        .filter(|(_, m)| m.is_finite())
+        .map(|(c, rows)| {
+            (
+                *c,
+                stride_indices(rows.len(), per_group)
+                    .filter_map(|k| rows.get(k).copied())
+                    .collect(),
+            )
+        })
         .collect();
+    let n_shown: usize = shown.iter().map(|g| g.1.len()).sum();
     let Some((x0, x1)) = axis_range(cols.iter().map(|c| c.1)) else {
         return draw_message(area, title, "not enough beats");
     };
     let Some((y0, y1)) = axis_range(
-        rows.iter()
-            .flat_map(|&i| cols.iter().map(move |&(j, _)| (i, j)))
+        shown
+            .iter()
+            .flat_map(|g| g.1.iter().copied())
+            .flat_map(|i| cols.iter().map(move |&(j, _)| (i, j)))
             .map(|(i, j)| value(i, j)),
     ) else {
         return draw_message(area, title, "beat windows hold no finite values");
     };
     let mut chart = ChartBuilder::on(area)
         .caption(
-            format!("Aligned beat windows ({} of {} shown)", rows.len(), p.n),
+            format!("Aligned beat windows ({n_shown} of {} shown)", p.n),
             (FONT, TITLE_PX),
         )
         .margin(24)
@@ -459,38 +970,50 @@ fn draw_beats<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
         "Time from R peak (s)",
         &amplitude_desc(a, "Amplitude"),
     )?;
-    let thin = ShapeStyle {
-        color: OI_SKY.mix(0.35),
-        filled: false,
-        stroke_width: 1,
-    };
-    for (k, &i) in rows.iter().enumerate() {
-        let pts: Vec<(f64, f64)> = cols
-            .iter()
-            .map(|&(j, x)| (x, value(i, j)))
-            .filter(|q| q.1.is_finite())
-            .collect();
-        let series = chart.draw_series(LineSeries::new(pts, thin)).ctx()?;
-        if k == 0 {
-            series.label("beat window").legend(|(x, y)| {
-                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_SKY, 3))
-            });
+    for (c, rows) in &shown {
+        let thin = ShapeStyle {
+            color: class_colour(*c).mix(0.25),
+            filled: false,
+            stroke_width: 1,
+        };
+        for &i in rows {
+            let pts: Vec<(f64, f64)> = cols
+                .iter()
+                .map(|&(j, x)| (x, value(i, j)))
+                .filter(|q| q.1.is_finite())
+                .collect();
+            chart.draw_series(LineSeries::new(pts, thin)).ctx()?;
         }
     }
-    if !template.is_empty() {
+    // Median template per class, drawn last so it sits on top (display only).
+    for (c, rows) in &groups {
+        let template: Vec<(f64, f64)> = cols
+            .iter()
+            .map(|&(j, x)| (x, crate::stats::median(rows.iter().map(|&i| value(i, j)))))
+            .filter(|(_, m)| m.is_finite())
+            .collect();
+        if template.is_empty() {
+            continue;
+        }
+        let col = class_colour(*c);
+        let name = if *c == '?' {
+            "other labels".to_string()
+        } else {
+            format!("class {c}")
+        };
         chart
-            .draw_series(LineSeries::new(template, line_style(OI_BLACK, 5)))
+            .draw_series(LineSeries::new(template, line_style(col, 6)))
             .ctx()?
-            .label("median template")
-            .legend(|(x, y)| {
-                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLACK, 5))
+            .label(format!("median template, {name} (n = {})", rows.len()))
+            .legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(col, 6))
             });
     }
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
 }
 
 /// Colour of `f` in [0, 1] on the blue → yellow scale (Okabe–Ito endpoints, linear in sRGB).
-fn time_colour(f: f64) -> RGBColor {
+pub(super) fn time_colour(f: f64) -> RGBColor {
     let f = if f.is_finite() {
         f.clamp(0.0, 1.0)
     } else {
@@ -504,7 +1027,78 @@ fn time_colour(f: f64) -> RGBColor {
     )
 }
 
-fn draw_embedding<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
+/// A title line across the top of `area`; returns the area below it.
+pub(super) fn with_title<DB: DrawingBackend>(
+    area: &Area<DB>,
+    title: &str,
+) -> std::result::Result<Area<DB>, String> {
+    let (top, rest) = area.split_vertically(70);
+    let (w, _) = top.dim_in_pixel();
+    let style = TextStyle::from((FONT, TITLE_PX).into_font())
+        .color(&OI_BLACK)
+        .pos(Pos::new(HPos::Center, VPos::Center));
+    top.draw(&Text::new(title.to_string(), (w as i32 / 2, 40), style))
+        .ctx()?;
+    Ok(rest)
+}
+
+/// Colour bar (continuous) or legend (categorical) in `area`.
+pub(super) fn draw_colour_key<DB: DrawingBackend>(
+    area: &Area<DB>,
+    colouring: &Colouring,
+    range: (f64, f64),
+) -> DrawResult {
+    match colouring {
+        Colouring::Continuous(_, desc) => {
+            let (c0, c1) = range;
+            let mut bar = ChartBuilder::on(area)
+                .margin_top(40)
+                .margin_bottom(24)
+                .margin_right(24)
+                .x_label_area_size(90)
+                .y_label_area_size(170)
+                .build_cartesian_2d(0.0..1.0, c0..c1)
+                .ctx()?;
+            bar.configure_mesh()
+                .disable_x_mesh()
+                .disable_y_mesh()
+                .disable_x_axis()
+                .y_desc(desc.as_str())
+                .axis_desc_style((FONT, DESC_PX))
+                .label_style((FONT, LABEL_PX))
+                .y_labels(6)
+                .draw()
+                .ctx()?;
+            let steps = 100;
+            bar.draw_series((0..steps).map(|s| {
+                let lo = c0 + (c1 - c0) * s as f64 / steps as f64;
+                let hi = c0 + (c1 - c0) * (s + 1) as f64 / steps as f64;
+                Rectangle::new(
+                    [(0.0, lo), (1.0, hi)],
+                    time_colour((s as f64 + 0.5) / steps as f64).filled(),
+                )
+            }))
+            .ctx()?;
+            Ok(())
+        }
+        Colouring::Categorical(_, names, colours, heading) => {
+            let style = TextStyle::from((FONT, LABEL_PX).into_font())
+                .color(&OI_BLACK)
+                .pos(Pos::new(HPos::Left, VPos::Center));
+            area.draw(&Text::new(heading.clone(), (12, 36), style.clone()))
+                .ctx()?;
+            for (k, (name, col)) in names.iter().zip(colours).enumerate() {
+                let y = 90 + 44 * k as i32;
+                area.draw(&Circle::new((24, y), 10, col.filled())).ctx()?;
+                area.draw(&Text::new(short_label(name, 20), (44, y), style.clone()))
+                    .ctx()?;
+            }
+            Ok(())
+        }
+    }
+}
+
+fn draw_embedding<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) -> DrawResult {
     let title = "Diffusion map of the beats";
     let e = &a.embedding;
     let k = e.components;
@@ -515,83 +1109,103 @@ fn draw_embedding<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
             "not enough beats (or components) for an embedding",
         );
     }
-    // Time of each embedded beat, when the links to the detection list are complete.
-    let fs = a.fs_hz;
-    let times: Option<Vec<f64>> = (0..e.n)
-        .map(|i| {
-            let b = *a.features.beat_index.get(i)?;
-            let s = *a.beat_samples.get(b)?;
-            (fs > 0.0).then_some(s as f64 / fs)
-        })
-        .collect();
-    let (colour_values, colour_desc) = match times {
-        Some(t) => (t, "Time (s)"),
-        None => ((0..e.n).map(|i| i as f64).collect(), "Beat order (row)"),
+    let colouring = colouring(a, view.colour_by);
+    let rows: Vec<usize> = stride_indices(e.n, MAX_SCATTER).collect();
+    // Categorical colours: the commonest category first, so rare classes stay on top.
+    let mut rows = rows;
+    if let Colouring::Categorical(cats, names, ..) = &colouring {
+        let mut count = vec![0usize; names.len()];
+        for &c in cats {
+            if let Some(x) = count.get_mut(c) {
+                *x += 1;
+            }
+        }
+        rows.sort_by_key(|&i| {
+            std::cmp::Reverse(
+                cats.get(i)
+                    .and_then(|&c| count.get(c))
+                    .copied()
+                    .unwrap_or(0),
+            )
+        });
+    }
+    let crange = match &colouring {
+        Colouring::Continuous(v, _) => {
+            axis_range(rows.iter().filter_map(|&i| v.get(i).copied())).unwrap_or((0.0, 1.0))
+        }
+        Colouring::Categorical(..) => (0.0, 1.0),
     };
-    let pts: Vec<(f64, f64, f64)> = stride_indices(e.n, MAX_SCATTER)
-        .map(|i| (e.coords[i * k], e.coords[i * k + 1], colour_values[i]))
-        .filter(|p| p.0.is_finite() && p.1.is_finite())
-        .collect();
-    let (Some((x0, x1)), Some((y0, y1))) = (
-        axis_range(pts.iter().map(|p| p.0)),
-        axis_range(pts.iter().map(|p| p.1)),
-    ) else {
-        return draw_message(area, title, "embedding holds no finite coordinates");
+    let colour_of = |i: usize| -> RGBColor {
+        match &colouring {
+            Colouring::Continuous(v, _) => {
+                let x = v.get(i).copied().unwrap_or(f64::NAN);
+                if x.is_finite() {
+                    time_colour((x - crange.0) / (crange.1 - crange.0))
+                } else {
+                    GREY
+                }
+            }
+            Colouring::Categorical(cats, _, colours, _) => cats
+                .get(i)
+                .and_then(|&c| colours.get(c))
+                .copied()
+                .unwrap_or(GREY),
+        }
     };
-    let (c0, c1) = axis_range(pts.iter().map(|p| p.2)).unwrap_or((0.0, 1.0));
-    let (w, _) = area.dim_in_pixel();
-    let (left, right) = area.split_horizontally(w.saturating_sub(300));
-    let mut chart = ChartBuilder::on(&left)
-        .caption(
-            format!("{title} ({} of {} beats shown)", pts.len(), e.n),
-            (FONT, TITLE_PX),
-        )
-        .margin(24)
-        .x_label_area_size(90)
-        .y_label_area_size(160)
-        .build_cartesian_2d(x0..x1, y0..y1)
-        .ctx()?;
-    configure(
-        &mut chart,
-        "Diffusion coordinate 1 (dimensionless)",
-        "Diffusion coordinate 2 (dimensionless)",
+    let pairs: Vec<(usize, usize)> = if k >= 3 {
+        vec![(0, 1), (0, 2), (1, 2)]
+    } else {
+        vec![(0, 1)]
+    };
+    let body = with_title(
+        area,
+        &format!("{title} ({} of {} beats shown)", rows.len(), e.n),
     )?;
-    chart
-        .draw_series(pts.iter().map(|&(x, y, c)| {
-            let f = (c - c0) / (c1 - c0);
-            Circle::new((x, y), 5, time_colour(f).mix(0.85).filled())
-        }))
-        .ctx()?;
-    // Colour bar.
-    let mut bar = ChartBuilder::on(&right)
-        .margin_top(90)
-        .margin_bottom(24)
-        .margin_right(24)
-        .x_label_area_size(90)
-        .y_label_area_size(170)
-        .build_cartesian_2d(0.0..1.0, c0..c1)
-        .ctx()?;
-    bar.configure_mesh()
-        .disable_x_mesh()
-        .disable_y_mesh()
-        .disable_x_axis()
-        .y_desc(colour_desc)
-        .axis_desc_style((FONT, DESC_PX))
-        .label_style((FONT, LABEL_PX))
-        .y_labels(6)
-        .draw()
-        .ctx()?;
-    let steps = 100;
-    bar.draw_series((0..steps).map(|s| {
-        let lo = c0 + (c1 - c0) * s as f64 / steps as f64;
-        let hi = c0 + (c1 - c0) * (s + 1) as f64 / steps as f64;
-        Rectangle::new(
-            [(0.0, lo), (1.0, hi)],
-            time_colour((s as f64 + 0.5) / steps as f64).filled(),
-        )
-    }))
-    .ctx()?;
-    Ok(())
+    let (w, _) = body.dim_in_pixel();
+    let (panels, key) = body.split_horizontally(w.saturating_sub(320));
+    let cells = panels.split_evenly((1, pairs.len()));
+    let coord = |i: usize, c: usize| e.coords.get(i * k + c).copied().unwrap_or(f64::NAN);
+    for (cell, &(cx, cy)) in cells.iter().zip(&pairs) {
+        let pts: Vec<(f64, f64, RGBColor)> = rows
+            .iter()
+            .map(|&i| (coord(i, cx), coord(i, cy), colour_of(i)))
+            .filter(|p| p.0.is_finite() && p.1.is_finite())
+            .collect();
+        let (Some((x0, x1)), Some((y0, y1))) = (
+            axis_range(pts.iter().map(|p| p.0)),
+            axis_range(pts.iter().map(|p| p.1)),
+        ) else {
+            draw_message(cell, "", "no finite coordinates")?;
+            continue;
+        };
+        let mut chart = ChartBuilder::on(cell)
+            .caption(format!("ψ{}–ψ{}", cx + 1, cy + 1), (FONT, DESC_PX))
+            .margin(16)
+            .x_label_area_size(80)
+            .y_label_area_size(if pairs.len() > 1 { 120 } else { 160 })
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .ctx()?;
+        chart
+            .configure_mesh()
+            .x_desc(format!("ψ{} (dimensionless)", cx + 1))
+            .y_desc(format!("ψ{} (dimensionless)", cy + 1))
+            .axis_desc_style((FONT, DESC_PX))
+            .label_style((FONT, LABEL_PX - 4))
+            .light_line_style(RGBColor(235, 235, 235))
+            .x_labels(4)
+            .y_labels(6)
+            .x_label_formatter(&|v| format!("{v:.2}"))
+            .y_label_formatter(&|v| format!("{v:.2}"))
+            .draw()
+            .ctx()?;
+        chart
+            .draw_series(
+                pts.iter()
+                    .map(|&(x, y, c)| Circle::new((x, y), 4, c.mix(0.85).filled())),
+            )
+            .ctx()?;
+    }
+    draw_colour_key(&key, &colouring, crange)
 }
 
 fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
@@ -729,57 +1343,4 @@ fn draw_dimension<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResu
         .draw_series(curve.iter().map(|&p| Circle::new(p, 7, OI_GREEN.filled())))
         .ctx()?;
     draw_legend(&mut chart, SeriesLabelPosition::UpperRight)
-}
-
-fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> DrawResult {
-    let title = "RR tachogram";
-    let fs = a.fs_hz;
-    // Time of the beat that ends each interval; fall back to the running sum of RR.
-    let pts: Vec<(f64, f64)> = if a.beat_samples.len() == a.rr_s.len() + 1 && fs > 0.0 {
-        a.rr_s
-            .iter()
-            .zip(&a.beat_samples[1..])
-            .map(|(&rr, &s)| (s as f64 / fs, rr))
-            .collect()
-    } else {
-        let mut t = 0.0;
-        a.rr_s
-            .iter()
-            .map(|&rr| {
-                if rr.is_finite() {
-                    t += rr;
-                }
-                (t, rr)
-            })
-            .collect()
-    };
-    let pts = minmax_thin(&pts, LINE_BINS);
-    if pts.len() < 2 {
-        return draw_message(area, title, "not enough beats");
-    }
-    let (Some((x0, x1)), Some((y0, y1))) = (
-        axis_range(pts.iter().map(|p| p.0)),
-        axis_range(pts.iter().map(|p| p.1)),
-    ) else {
-        return draw_message(area, title, "not enough beats");
-    };
-    let mut chart = ChartBuilder::on(area)
-        .caption(title, (FONT, TITLE_PX))
-        .margin(24)
-        .x_label_area_size(90)
-        .y_label_area_size(130)
-        .build_cartesian_2d(x0..x1, y0..y1)
-        .ctx()?;
-    configure(&mut chart, "Time (s)", "RR interval (s)")?;
-    chart
-        .draw_series(LineSeries::new(pts.clone(), line_style(OI_BLUE, 2)))
-        .ctx()?
-        .label("RR interval")
-        .legend(|(x, y)| PathElement::new(vec![(x, y), (x + GLYPH_PX, y)], line_style(OI_BLUE, 3)));
-    if pts.len() <= 600 {
-        chart
-            .draw_series(pts.iter().map(|&p| Circle::new(p, 5, OI_BLUE.filled())))
-            .ctx()?;
-    }
-    draw_legend(&mut chart, SeriesLabelPosition::LowerRight)
 }

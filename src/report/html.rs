@@ -1,9 +1,11 @@
-//! `report.html`: one self-contained page (no network, no scripts, no external fonts or CSS) with
-//! the notice at the top, a summary table, the figures inline as SVG, the parameters and the
-//! provenance. All user-controlled text is escaped with [`html_escape`].
+//! `report.html`: one self-contained page (no network, no external scripts, fonts or CSS) with
+//! the notice at the top, a summary table, the interactive embedding view (inline JavaScript and
+//! SVG, see `interactive.rs`), the figures inline as SVG, the parameters and the provenance. All
+//! user-controlled text is escaped with [`html_escape`], and inside the page's JSON with
+//! [`super::json_for_script`].
 
 use super::figures::Figure;
-use super::html_escape;
+use super::{html_escape, ReportOptions};
 use crate::pipeline::Analysis;
 use std::fmt::Write;
 
@@ -49,14 +51,16 @@ fn row(out: &mut String, key: &str, value: &str) {
 }
 
 /// Render the page. `svgs` are the figures drawn for this analysis (possibly none).
-pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
+pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptions) -> String {
     let mut o = String::with_capacity(64 * 1024 + svgs.iter().map(|s| s.1.len()).sum::<usize>());
     let name = html_escape(&a.record_name);
     let _ = write!(
         o,
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n\
 <meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n\
-<title>beatfold report: {name}</title>\n<style>{STYLE}</style>\n</head>\n<body>\n"
+<title>beatfold report: {name}</title>\n<style>{STYLE}</style>\n</head>\n\
+<body data-figures=\"{}\">\n",
+        svgs.len()
     );
     let _ = writeln!(
         o,
@@ -65,6 +69,17 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
         html_escape(crate::NOTICE)
     );
     let _ = writeln!(o, "<h1>beatfold report: {name}</h1>");
+    let mut nav = String::from("<a href=\"#summary\">Summary</a>");
+    if opts.interactive {
+        nav.push_str(" · <a href=\"#explore\">Explore the embedding</a>");
+    }
+    if !svgs.is_empty() {
+        nav.push_str(" · <a href=\"#figures\">Figures</a>");
+    }
+    nav.push_str(
+        " · <a href=\"#parameters\">Parameters</a> · <a href=\"#provenance\">Provenance</a>",
+    );
+    let _ = writeln!(o, "<nav>{nav}</nav>");
 
     // Summary table.
     let v = &a.variability;
@@ -163,7 +178,7 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
         "Signal quality",
         &format!("{flagged} of {} segments flagged", a.quality.len()),
     );
-    let _ = writeln!(o, "<h2>Summary</h2>\n<table>\n{t}</table>");
+    let _ = writeln!(o, "<h2 id=\"summary\">Summary</h2>\n<table>\n{t}</table>");
 
     // Reference annotations (labels are user text).
     if !a.reference.is_empty() {
@@ -194,15 +209,25 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
         }
     }
 
+    if opts.interactive {
+        o.push_str(&super::interactive::section(a));
+    }
+
     // Figures (drawn by beatfold; their text is escaped by the SVG writer).
     if !svgs.is_empty() {
-        let _ = writeln!(o, "<h2>Figures</h2>");
-        for (fig, svg) in svgs {
+        let _ = writeln!(
+            o,
+            "<h2 id=\"figures\">Figures</h2>\n<p>Also written as <code>figures/*.svg</code> and \
+<code>figures/*.png</code> (1800 × 1000 px, 6 × 3.3 inches at 300 dpi). Colours: Okabe &amp; Ito \
+(2008) colour-blind-safe hues.</p>"
+        );
+        for (k, (fig, svg)) in svgs.iter().enumerate() {
             let _ = writeln!(
                 o,
-                "<figure id=\"fig-{}\">\n{}\n<figcaption>{}</figcaption>\n</figure>",
+                "<figure class=\"bf-figure\" id=\"fig-{}\">\n{}\n<figcaption>Figure {}. {}</figcaption>\n</figure>",
                 fig.file_stem(),
                 inline_svg(svg),
+                k + 1,
                 html_escape(fig.caption())
             );
         }
@@ -212,7 +237,7 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
     let params = serde_json::to_string_pretty(&a.parameters).unwrap_or_else(|e| e.to_string());
     let _ = writeln!(
         o,
-        "<h2>Parameters</h2>\n<pre><code>{}</code></pre>",
+        "<h2 id=\"parameters\">Parameters</h2>\n<pre><code>{}</code></pre>",
         html_escape(&params)
     );
     let mut p = String::new();
@@ -227,7 +252,10 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)]) -> String {
     );
     row(&mut p, "beatfold version", env!("CARGO_PKG_VERSION"));
     row(&mut p, "Analysis time", &format!("{} s", f(a.elapsed_s, 2)));
-    let _ = writeln!(o, "<h2>Provenance</h2>\n<table>\n{p}</table>");
+    let _ = writeln!(
+        o,
+        "<h2 id=\"provenance\">Provenance</h2>\n<table>\n{p}</table>"
+    );
     if !a.notes.is_empty() {
         let items: String = a
             .notes

@@ -224,7 +224,15 @@ fn degenerate_analysis() -> Analysis {
     a
 }
 
-const FIGS: [&str; 5] = ["trace", "beats", "embedding", "dimension", "rr"];
+const FIGS: [&str; 7] = [
+    "trace",
+    "beats",
+    "embedding",
+    "trajectory",
+    "dimension",
+    "recurrence",
+    "rr",
+];
 
 fn expected_files(dir: &Path) -> Vec<PathBuf> {
     let mut v = Vec::new();
@@ -283,9 +291,10 @@ fn options_turn_outputs_off() {
         figures: true,
         png: false,
         svg: true,
+        ..Default::default()
     };
     let w = write_all(&a, tmp.path(), &opts).unwrap();
-    assert_eq!(w.files.len(), 5 + 3);
+    assert_eq!(w.files.len(), FIGS.len() + 3);
     assert!(!tmp.path().join("figures/trace.png").exists());
     let opts = ReportOptions {
         figures: false,
@@ -295,32 +304,52 @@ fn options_turn_outputs_off() {
     let w = write_all(&a, tmp2.path(), &opts).unwrap();
     assert_eq!(w.files.len(), 3);
     let page = std::fs::read_to_string(tmp2.path().join("report.html")).unwrap();
-    assert!(!page.contains("<svg"));
+    assert!(!page.contains("class=\"bf-figure\""));
+    assert!(page.contains("data-figures=\"0\""));
 }
 
 #[test]
 fn svgs_have_axis_titles_and_notice() {
     let a = sample_analysis();
-    let expect: [(figures::Figure, &[&str]); 5] = [
+    let expect: [(figures::Figure, &[&str]); 7] = [
         (
             figures::Figure::Trace,
             &[
                 "Time (s)",
                 "Amplitude (mV)",
-                "detected beat",
+                "detected beat (N)",
                 "reference beat",
+                "reference rhythm interval",
+                "0.0 to 10.0 s",
             ],
         ),
         (
             figures::Figure::Beats,
-            &["Time from R peak (s)", "median template", "22 of 22 shown"],
+            &[
+                "Time from R peak (s)",
+                "median template, class N",
+                "22 of 22 shown",
+            ],
         ),
         (
             figures::Figure::Embedding,
             &[
-                "Diffusion coordinate 1 (dimensionless)",
-                "Diffusion coordinate 2",
+                "ψ1 (dimensionless)",
+                "ψ2 (dimensionless)",
+                "ψ3 (dimensionless)",
+                "ψ1–ψ2",
+                "ψ1–ψ3",
+                "ψ2–ψ3",
                 "Time (s)",
+            ],
+        ),
+        (
+            figures::Figure::Trajectory,
+            &[
+                "ψ1 (dimensionless)",
+                "Time (s)",
+                "successive beats joined",
+                "first beat",
             ],
         ),
         (
@@ -331,7 +360,19 @@ fn svgs_have_axis_titles_and_notice() {
                 "noise-dominated scales",
             ],
         ),
-        (figures::Figure::Rr, &["Time (s)", "RR interval (s)"]),
+        (
+            figures::Figure::Recurrence,
+            &[
+                "Beat number i",
+                "Beat number j",
+                // This analysis has no recurrence timeline: the panel says so.
+                "no recurrence windows",
+            ],
+        ),
+        (
+            figures::Figure::Rr,
+            &["Time (s)", "RR interval (s)", "RR(n) (s)", "RR(n+1) (s)"],
+        ),
     ];
     for (fig, words) in expect {
         let svg = figures::render_svg(fig, &a).unwrap();
@@ -345,9 +386,10 @@ fn svgs_have_axis_titles_and_notice() {
         }
         assert!(!svg.contains("not enough beats"), "{fig:?}");
     }
-    // 22 embedded beats, all drawn as circles in the scatter (legend has none).
+    // 22 embedded beats with 3 components: three projections of 22 circles each (the time
+    // colouring has a colour bar, no legend circles).
     let svg = figures::render_svg(figures::Figure::Embedding, &a).unwrap();
-    assert_eq!(svg.matches("<circle").count(), 22);
+    assert_eq!(svg.matches("<circle").count(), 3 * 22);
 }
 
 #[test]
@@ -540,7 +582,11 @@ fn html_escapes_user_text() {
     .unwrap();
     let page = std::fs::read_to_string(tmp.path().join("report.html")).unwrap();
     assert!(!page.contains(HOSTILE), "raw script tag in page");
-    assert!(!page.contains("<script"), "script element in page");
+    // Only the page's own two script elements (data block and view); the hostile text inside
+    // the JSON data is written with \u003c escapes and closes nothing.
+    assert_eq!(page.matches("<script").count(), 2, "extra script element");
+    assert_eq!(page.matches("</script").count(), 2, "extra script end tag");
+    assert!(page.contains("\\u003cscript\\u003ealert(1)\\u003c/script\\u003e"));
     assert!(page.contains("&lt;script&gt;alert(1)&lt;/script&gt;"));
     // Self-contained: nothing fetched from elsewhere.
     for bad in ["http://", "https://", "src=", "<link"] {

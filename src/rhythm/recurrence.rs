@@ -220,8 +220,9 @@ fn dist(p: &Points, i: usize, j: usize) -> f64 {
     Points::dist2(p.row(i), p.row(j)).sqrt()
 }
 
-/// Recurrence measures of points `start..end` of a trajectory.
-pub fn rqa_window(p: &Points, start: usize, end: usize, params: &RqaParams) -> Rqa {
+/// Threshold ε of points `start..end` under `params.threshold`, and their recurrence matrix
+/// (row-major, n × n with n = `end − start`, symmetric, line of identity included).
+fn window_matrix(p: &Points, start: usize, end: usize, params: &RqaParams) -> (Vec<bool>, f64) {
     let n = end.saturating_sub(start);
     let w = params.theiler;
     let eps = match params.threshold {
@@ -250,7 +251,45 @@ pub fn rqa_window(p: &Points, start: usize, end: usize, params: &RqaParams) -> R
             m[j * n + i] = on;
         }
     }
-    rqa_from(n, |i, j| m[i * n + j], w, params.l_min, params.v_min, eps)
+    (m, eps)
+}
+
+/// Recurrence measures of points `start..end` of a trajectory.
+pub fn rqa_window(p: &Points, start: usize, end: usize, params: &RqaParams) -> Rqa {
+    let n = end.saturating_sub(start);
+    let (m, eps) = window_matrix(p, start, end, params);
+    rqa_from(
+        n,
+        |i, j| m[i * n + j],
+        params.theiler,
+        params.l_min,
+        params.v_min,
+        eps,
+    )
+}
+
+/// The recurrence matrix R_ij = [‖x_i − x_j‖ ≤ ε] of points `start..end` (Marwan et al. 2007),
+/// row-major n × n with n = `end − start`, and the ε used, chosen by the same rule as
+/// [`rqa_window`] (the Theiler window only affects how a recurrence-rate threshold is chosen; the
+/// matrix itself is complete). Memory O(n²): meant for display windows of a few hundred points.
+/// Errors when the window is empty or reaches past the last point.
+pub fn recurrence_matrix(
+    p: &Points,
+    start: usize,
+    end: usize,
+    params: &RqaParams,
+) -> Result<(Vec<bool>, f64)> {
+    params.check()?;
+    if start >= end || end > p.n {
+        return Err(Error::param(
+            "recurrence window",
+            format!(
+                "points {start}..{end}; must be a non-empty range within 0..{}",
+                p.n
+            ),
+        ));
+    }
+    Ok(window_matrix(p, start, end, params))
 }
 
 /// One window of a recurrence timeline.
