@@ -11,6 +11,9 @@ use beatfold::io::{read_record, ReadOptions};
 use beatfold::pipeline::{detect_beats, AnalyzeParams};
 use std::path::PathBuf;
 
+/// (TP, FP, FN).
+type Counts = (usize, usize, usize);
+
 fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("tests/data/mitdb-excerpt")
@@ -36,7 +39,7 @@ fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
 fn difficult_excerpts_score_as_measured() {
     // (excerpt, reference beats, primary (TP, FP, FN), Pan–Tompkins (TP, FP, FN)): the counts
     // measured when this test was written; a change in either detector shows up here.
-    let expected: [(&str, usize, (usize, usize, usize), (usize, usize, usize)); 3] = [
+    let expected: [(&str, usize, Counts, Counts); 3] = [
         ("105d", 181, (177, 15, 4), (175, 40, 6)),
         ("108d", 139, (124, 32, 15), (82, 118, 57)),
         ("203d", 189, (181, 4, 8), (182, 8, 7)),
