@@ -115,8 +115,13 @@ fn main() -> anyhow::Result<()> {
         let s_pt = score(&b.second);
         let s_fused = score(&fused.samples);
         // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
-        let sc =
-            beatfold::rhythm::screen::screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
+        let sc = beatfold::rhythm::screen::screen_beats(
+            &b.samples,
+            &b.rr_s,
+            &b.labels,
+            rec.fs_hz,
+            &params.screen,
+        )?;
         // AF and flutter only: the open records carry no synthetic labels.
         let truth = beatfold::rhythm::screen::irregular_reference(&rec.annotations);
         let found = sc.episode_bounds();

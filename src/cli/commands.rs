@@ -549,7 +549,7 @@ fn rhythm_score(
     if rec.annotations.rhythms.is_empty() {
         return Ok(None);
     }
-    let sc = screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
+    let sc = screen_beats(&b.samples, &b.rr_s, &b.labels, rec.fs_hz, &params.screen)?;
     let truth = irregular_reference(&rec.annotations);
     let found = sc.episode_bounds();
     let (r, d, se, sp) =
@@ -686,7 +686,7 @@ fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {
     let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
     let v = beatfold::rhythm::variability(&nn);
     let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
-    let sc = screen_beats(&b.samples, &b.rr_s, rec.fs_hz, &params.screen)?;
+    let sc = screen_beats(&b.samples, &b.rr_s, &b.labels, rec.fs_hz, &params.screen)?;
     let num = |x: f64| {
         if x.is_finite() {
             json!(x)
