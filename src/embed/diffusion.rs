@@ -788,6 +788,48 @@ pub fn aligned_relative_error(
     (num / den.max(f64::MIN_POSITIVE)).sqrt()
 }
 
+/// Principal angles (radians, ascending) between the column spans of two row-major matrices
+/// `a` (`n × ca`) and `b` (`n × cb`) (Björck & Golub 1973): the arc-cosines of the singular
+/// values of Q_aᵀ Q_b, with Q_a, Q_b orthonormal bases from thin QR factorisations. With
+/// `center`, each column's mean is removed first (the angles are then the arc-cosines of the
+/// canonical correlations).
+pub fn principal_angles(
+    a: &[f64],
+    b: &[f64],
+    n: usize,
+    ca: usize,
+    cb: usize,
+    center: bool,
+) -> Result<Vec<f64>> {
+    if a.len() != n * ca || b.len() != n * cb || n < ca.max(cb) {
+        return Err(Error::Analysis(format!(
+            "principal angles: shapes {} and {} do not match {n} x {ca} and {n} x {cb}",
+            a.len(),
+            b.len()
+        )));
+    }
+    let basis = |m: &[f64], c: usize| {
+        let mut x = Mat::<f64>::from_fn(n, c, |i, j| m[i * c + j]);
+        if center {
+            for j in 0..c {
+                let mean: f64 = (0..n).map(|i| x[(i, j)]).sum::<f64>() / n as f64;
+                for i in 0..n {
+                    x[(i, j)] -= mean;
+                }
+            }
+        }
+        x.qr().compute_thin_Q()
+    };
+    let (qa, qb) = (basis(a, ca), basis(b, cb));
+    let m = qa.transpose() * &qb;
+    let sv = m
+        .singular_values()
+        .map_err(|e| Error::Analysis(format!("principal angles: SVD failed: {e:?}")))?;
+    let mut ang: Vec<f64> = sv.iter().map(|s| s.clamp(-1.0, 1.0).acos()).collect();
+    ang.sort_by(f64::total_cmp);
+    Ok(ang)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

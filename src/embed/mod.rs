@@ -62,7 +62,7 @@ pub mod sparse;
 
 pub use bandwidth::{auto_epsilon, kernel_sum_curve};
 pub use diffusion::{
-    aligned_relative_error, diffusion_map, fit, landmark_error, pca_baseline, DiffusionModel,
-    DiffusionParams, MAX_FIT_POINTS, MAX_SPARSE_FIT_POINTS,
+    aligned_relative_error, diffusion_map, fit, landmark_error, pca_baseline, principal_angles,
+    DiffusionModel, DiffusionParams, MAX_FIT_POINTS, MAX_SPARSE_FIT_POINTS,
 };
 pub use pca::Pca;
