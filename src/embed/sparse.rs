@@ -22,11 +22,13 @@
 use super::knn::Neighbors;
 use crate::error::{Error, Result};
 use faer::dyn_stack::{MemBuffer, MemStack, StackReq};
-use faer::linalg::solvers::SolveCore;
 use faer::matrix_free::eigen::{
     partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,
 };
 use faer::matrix_free::LinOp;
+use faer::sparse::linalg::cholesky::{
+    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymmetricOrdering,
+};
 use faer::sparse::{SparseColMat, Triplet};
 use faer::{Col, Conj, Mat, MatMut, MatRef, Par, Side};
 use rand::{Rng, SeedableRng};
@@ -35,6 +37,8 @@ use rayon::prelude::*;
 
 /// Shift σ of the shift-invert transform.
 pub const SHIFT: f64 = 1e-5;
+/// Largest Cholesky factor, as a multiple of the stored entries of S.
+pub const FILL_FACTOR: usize = 60;
 /// Convergence tolerance handed to the Krylov–Schur solver.
 const TOLERANCE: f64 = 1e-12;
 
@@ -156,12 +160,13 @@ fn scale_sym(k: &mut SymCsr, f: &[f64]) {
 #[derive(Debug)]
 struct ShiftInvert {
     n: usize,
-    llt: faer::sparse::linalg::solvers::Llt<usize, f64>,
+    symbolic: SymbolicCholesky<usize>,
+    values: Vec<f64>,
 }
 
 impl LinOp<f64> for ShiftInvert {
-    fn apply_scratch(&self, _rhs_ncols: usize, _par: Par) -> StackReq {
-        StackReq::EMPTY
+    fn apply_scratch(&self, rhs_ncols: usize, par: Par) -> StackReq {
+        self.symbolic.solve_in_place_scratch::<f64>(rhs_ncols, par)
     }
     fn nrows(&self) -> usize {
         self.n
@@ -169,14 +174,56 @@ impl LinOp<f64> for ShiftInvert {
     fn ncols(&self) -> usize {
         self.n
     }
-    fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, _par: Par, _s: &mut MemStack) {
+    fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, st: &mut MemStack) {
         let mut out = out;
         out.copy_from(rhs);
-        self.llt.solve_in_place_with_conj(Conj::No, out);
+        LltRef::<usize, f64>::new(&self.symbolic, &self.values).solve_in_place_with_conj(
+            Conj::No,
+            out,
+            par,
+            st,
+        );
     }
     fn conj_apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, s: &mut MemStack) {
         self.apply(out, rhs, par, s);
     }
+}
+
+/// Sparse Cholesky factor of the lower triangle `a`, or `None` when the factor would exceed
+/// `budget` stored values or the factorisation fails.
+fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
+    let symbolic = factorize_symbolic_cholesky(
+        a.symbolic(),
+        Side::Lower,
+        SymmetricOrdering::Amd,
+        Default::default(),
+    )
+    .ok()?;
+    let len = symbolic.len_val();
+    if len > budget {
+        return None;
+    }
+    let par = faer::get_global_parallelism();
+    let mut values = vec![0.0; len];
+    let mut mem =
+        MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(par, Default::default()))
+            .ok()?;
+    symbolic
+        .factorize_numeric_llt::<f64>(
+            &mut values,
+            a.as_ref(),
+            Side::Lower,
+            Default::default(),
+            par,
+            MemStack::new(&mut mem),
+            Default::default(),
+        )
+        .ok()?;
+    Some(ShiftInvert {
+        n: a.nrows(),
+        symbolic,
+        values,
+    })
 }
 
 /// (I + S)/2 applied by sparse products (eigenvalues in [0, 1], same order as S's).
@@ -283,13 +330,16 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             }
         }
     }
+    // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
+    // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
+    // the direct Krylov–Schur iteration is cheaper.
+    let budget = (FILL_FACTOR * s.nnz()).max(1 << 20);
     let llt = SparseColMat::<usize, f64>::try_new_from_triplets(n, n, &trip)
         .ok()
-        .and_then(|a| a.sp_cholesky(Side::Lower).ok());
+        .and_then(|a| factor(&a, budget));
     drop(trip);
     let (values, vectors, solver) = match llt {
-        Some(llt) => {
-            let op = ShiftInvert { n, llt };
+        Some(op) => {
             let (mu, v, conv) = run_krylov(&op, n, nev, seed);
             if conv < nev || mu.iter().any(|m| !(m.is_finite() && *m > 0.0)) {
                 return Err(Error::Analysis(format!(
