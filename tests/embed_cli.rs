@@ -18,7 +18,7 @@ fn run(args: &[&str]) -> serde_json::Value {
 fn read_csv(p: &std::path::Path) -> Vec<f64> {
     std::fs::read_to_string(p)
         .unwrap()
-        .split(|c| c == ',' || c == '\n')
+        .split([',', '\n'])
         .filter(|s| !s.is_empty())
         .map(|s| s.parse().unwrap())
         .collect()
