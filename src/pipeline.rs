@@ -467,6 +467,7 @@ fn empty_embedding(p: &DiffusionParams) -> Embedding {
         epsilon: f64::NAN,
         alpha: p.alpha,
         t: p.t,
+        ..Embedding::default()
     }
 }
 

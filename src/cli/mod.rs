@@ -20,6 +20,50 @@ pub struct Cli {
     pub command: Command,
 }
 
+/// Options of `beatfold embed`.
+#[derive(Debug, Args, Clone)]
+pub struct EmbedOptions {
+    /// Output CSV of diffusion coordinates (one row a point, no header).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Output CSV of the PCA baseline scores (one row a point, no header).
+    #[arg(long, value_name = "FILE")]
+    pub pca_out: Option<PathBuf>,
+    /// Number of diffusion coordinates (default 10).
+    #[arg(long, default_value_t = 10)]
+    pub components: usize,
+    /// Density normalisation alpha, 0..1 (default 1).
+    #[arg(long, default_value_t = 1.0)]
+    pub alpha: f64,
+    /// Diffusion time t (default 1).
+    #[arg(long, default_value_t = 1.0)]
+    pub t: f64,
+    /// Kernel bandwidth epsilon in squared input units (default: automatic).
+    #[arg(long)]
+    pub epsilon: Option<f64>,
+    /// Neighbours per point in the sparse kernel graph, 2..1000, or 0 for a dense kernel
+    /// (default 15, or the config file's value).
+    #[arg(long, visible_alias = "k", value_name = "K")]
+    pub neighbors: Option<usize>,
+    /// Landmark mode: fit on at most N seeded random points and place the others by Nyström
+    /// extension (default 200 000).
+    #[arg(long, value_name = "N")]
+    pub landmarks: Option<usize>,
+    /// Place the input's points into the model saved in this HDF5 file (a results.h5 from
+    /// `analyze` or a file from --save-model) instead of fitting a new map.
+    #[arg(long, value_name = "FILE.h5", conflicts_with_all = ["save_model", "epsilon", "neighbors", "landmarks"])]
+    pub model: Option<PathBuf>,
+    /// Write the fitted model to this HDF5 file (group /embedding/model).
+    #[arg(long, value_name = "FILE.h5")]
+    pub save_model: Option<PathBuf>,
+    /// Seed for landmarks, bandwidth subsample and eigensolver start (default 0).
+    #[arg(long, default_value_t = 0)]
+    pub seed: u64,
+    /// Print a summary as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
 /// Reading options shared by commands that take a recording.
 #[derive(Debug, Args, Clone)]
 pub struct InputArgs {
@@ -147,24 +191,9 @@ pub enum Command {
         /// Input and reading options.
         #[command(flatten)]
         input: InputArgs,
-        /// Output CSV of coordinates (one row a point).
-        #[arg(long)]
-        out: Option<PathBuf>,
-        /// Number of diffusion coordinates (default 10).
-        #[arg(long, default_value_t = 10)]
-        components: usize,
-        /// Density normalisation alpha, 0..1 (default 1).
-        #[arg(long, default_value_t = 1.0)]
-        alpha: f64,
-        /// Diffusion time t (default 1).
-        #[arg(long, default_value_t = 1.0)]
-        t: f64,
-        /// Kernel bandwidth epsilon in squared input units (default: automatic).
-        #[arg(long)]
-        epsilon: Option<f64>,
-        /// Print a summary as JSON on stdout.
-        #[arg(long)]
-        json: bool,
+        /// Embedding options.
+        #[command(flatten)]
+        opts: EmbedOptions,
     },
     /// Intrinsic dimension scale by scale (k-means quantization scaling).
     Dimension {

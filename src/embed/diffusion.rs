@@ -1,28 +1,46 @@
-//! Dense diffusion map with Nyström extension.
+//! Diffusion maps on a sparse k-nearest-neighbour kernel (or a dense kernel for small fits),
+//! with Nyström extension and landmark mode.
 //!
 //! In: [`Points`] and [`DiffusionParams`]. Out: an [`Embedding`] (via [`diffusion_map`]) or a
 //! [`DiffusionModel`] (via [`fit`]) that can place new points.
 //!
 //! Method: diffusion maps (Coifman & Lafon 2006, Appl. Comput. Harmon. Anal. 21:5–30). On the fit
-//! set (all points, or a seeded random subset of `max_fit_points` landmarks):
-//! K_ij = exp(−‖x_i−x_j‖²/ε); q_i = Σ_j K_ij; K^α_ij = K_ij/(q_i^α q_j^α); d_i = Σ_j K^α_ij;
-//! the top eigenpairs of the symmetric S = D^{−½} K^α D^{−½} are found with faer (thick-restart
-//! Lanczos on the dense matrix, dense decomposition as fallback); ψ_l = v_l·√(Σd/d),
-//! so the top, trivial ψ_0 = 1 and the ψ_l are orthonormal under the stationary measure d/Σd.
-//! Coordinates are ψ_l·λ_l^t for l = 1..components. Points outside the fit set are placed by
-//! the Nyström extension ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j) with the same α normalisation
-//! (Coifman & Lafon 2006, §3.3 of their companion papers on geometric harmonics).
+//! set (all points, or `max_fit_points` seeded random landmarks when there are more):
+//! K_ij = exp(−‖x_i−x_j‖²/ε) (or exp(−‖x_i−x_j‖²/(σ_iσ_j)), local scaling of Zelnik-Manor &
+//! Perona 2004); q_i = Σ_j K_ij; K^α_ij = K_ij/(q_i^α q_j^α); d_i = Σ_j K^α_ij; the top
+//! eigenpairs of the symmetric S = D^{−½} K^α D^{−½}; ψ_l = v_l·√(Σd/d), so the trivial
+//! ψ_0 = 1 and the ψ_l are orthonormal under the stationary measure d/Σd. Coordinates are
+//! ψ_l·λ_l^t for l = 1..components.
 //!
-//! Memory is O(m²) for the m ≤ 5000 fit points and O(m) per thread for the extension.
+//! With `neighbors = k > 0` (default 15) K lives on the symmetrised exact kNN graph and the
+//! eigenpairs come from shift-invert with a sparse Cholesky factor (see [`super::sparse`]):
+//! memory O(N·k). With `neighbors = 0` the kernel is dense (every pair; fit sets up to 5000)
+//! and the eigenpairs come from a dense decomposition or thick-restart Lanczos.
+//!
+//! Before the neighbour search, inputs of more than `pca_max_dim` coordinates (default 20) are
+//! projected on their leading principal axes: as many as keep `pca_variance` (default 99 %) of
+//! the variance, at most `pca_max_dim`; the whole model then lives in that space. The default
+//! was set by measurement (docs/performance.md): beat-like windows with white noise need more
+//! than 20 axes for 99 %, the dropped axes being noise, and exact brute force in 64 dimensions
+//! is about 20 times slower than the k-d tree in 20. `pca_max_dim = 0` keeps the exact search in
+//! the full dimension.
+//!
+//! Points outside the fit set are placed by the Nyström extension
+//! ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j) over the fit points (their k + 1 nearest in sparse
+//! mode, all of them in dense mode), with the same α normalisation (Coifman & Lafon 2006).
+//!
 //! Each eigenvector's sign is fixed so that its entry of largest magnitude is positive.
-//! Eigenvalues are clamped at 0 before raising to the power t (S is positive semi-definite; tiny
-//! negative values are rounding).
+//! Eigenvalues are clamped at 0 before raising to the power t.
 
 use super::bandwidth::auto_epsilon;
+use super::knn::knn;
+use super::pca::Pca;
+use super::sparse::{kernel_graph, normalise, top_eigen_sparse};
 use super::Embedding;
 use crate::error::{Error, Result};
 use crate::points::Points;
 use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::linalg::solvers::Solve;
 use faer::matrix_free::eigen::{
     partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,
 };
@@ -33,8 +51,12 @@ use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
-/// Largest fit set allowed (dense m × m kernel).
+/// Largest fit set allowed with the dense kernel (`neighbors = 0`; m × m matrix).
 pub const MAX_FIT_POINTS: usize = 5000;
+/// Largest fit set allowed with the sparse kernel.
+pub const MAX_SPARSE_FIT_POINTS: usize = 10_000_000;
+/// Smallest local scale σ (guards against duplicate points).
+const MIN_SIGMA: f64 = 1e-150;
 
 /// Parameters of [`diffusion_map`] and [`fit`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -47,19 +69,31 @@ pub struct DiffusionParams {
     /// Diffusion time t ≥ 0 (default 1).
     pub t: f64,
     /// Kernel bandwidth ε in squared feature units; `None` (default) picks it by
-    /// [`auto_epsilon`].
+    /// [`auto_epsilon`], or by local scaling when `local_scaling_neighbors > 0`.
     pub epsilon: Option<f64>,
-    /// Largest fit set (default 2000, at most 5000). Above it the map is fitted on a seeded
-    /// random subset and every other point is placed by Nyström extension.
+    /// Largest fit set (default 200 000). Above it, landmark mode: the map is fitted on a seeded
+    /// random subset of this many points and every other point is placed by Nyström extension.
+    /// At most 5000 with the dense kernel (`neighbors = 0`).
     pub max_fit_points: usize,
-    /// Seed for the subset and the bandwidth subsample (default 0).
+    /// Seed for the landmarks, the bandwidth subsample and the eigensolver start (default 0).
     pub seed: u64,
     /// When above 0 (and `epsilon` is not given), use the local scaling of Zelnik-Manor &
     /// Perona (2004) instead of one global ε: k(x, y) = exp(−‖x−y‖²/(σ_x σ_y)) with σ_x the
     /// distance from x to its `local_scaling_neighbors`-th nearest fit point. Outlying beats
     /// (ectopic, noisy) then stay connected to their nearest neighbours instead of forming
     /// components of their own. Default 0 (global ε); `analyze` uses 7, the paper's choice.
+    /// With a sparse kernel at most `neighbors`.
     pub local_scaling_neighbors: usize,
+    /// Neighbours k of the sparse kernel graph (default 15; 0 = dense kernel on every pair).
+    pub neighbors: usize,
+    /// Project inputs of more than this many coordinates on at most this many principal axes
+    /// before the neighbour search (default 20; 0 = never, exact search in full dimension).
+    pub pca_max_dim: usize,
+    /// Share of variance at which fewer axes suffice, in (0, 1] (default 0.99).
+    pub pca_variance: f64,
+    /// In landmark mode, held-out points used to measure the Nyström approximation error
+    /// (default 0 = not measured; see [`landmark_error`]).
+    pub landmark_check: usize,
 }
 
 impl Default for DiffusionParams {
@@ -69,16 +103,22 @@ impl Default for DiffusionParams {
             alpha: 1.0,
             t: 1.0,
             epsilon: None,
-            max_fit_points: 2000,
+            max_fit_points: 200_000,
             seed: 0,
             local_scaling_neighbors: 0,
+            neighbors: 15,
+            pca_max_dim: 20,
+            pca_variance: 0.99,
+            landmark_check: 0,
         }
     }
 }
 
 impl DiffusionParams {
     /// Validate: `components` in 1..=1000; `alpha` in [0, 1]; `t` in [0, 1e6]; `epsilon`, when
-    /// given, finite and above 0; `max_fit_points` in (components + 1)..=5000.
+    /// given, finite and above 0; `neighbors` 0 or 2..=1000; `local_scaling_neighbors` at most
+    /// `neighbors` (sparse kernel); `max_fit_points` from components + 2 to 5000 (dense) or
+    /// 10 000 000 (sparse); `pca_variance` in (0, 1]; `landmark_check` at most 1 000 000.
     pub fn check(&self) -> Result<&Self> {
         if !(1..=1000).contains(&self.components) {
             return Err(Error::param(
@@ -106,14 +146,54 @@ impl DiffusionParams {
                 ));
             }
         }
-        if self.max_fit_points < self.components + 2 || self.max_fit_points > MAX_FIT_POINTS {
+        if self.neighbors == 1 || self.neighbors > 1000 {
+            return Err(Error::param(
+                "neighbors",
+                format!(
+                    "{}; allowed 0 (dense kernel) or 2 to 1000 neighbours",
+                    self.neighbors
+                ),
+            ));
+        }
+        if self.neighbors > 0 && self.local_scaling_neighbors > self.neighbors {
+            return Err(Error::param(
+                "local_scaling_neighbors",
+                format!(
+                    "{}; allowed 0 to neighbors = {}",
+                    self.local_scaling_neighbors, self.neighbors
+                ),
+            ));
+        }
+        let cap = if self.neighbors == 0 {
+            MAX_FIT_POINTS
+        } else {
+            MAX_SPARSE_FIT_POINTS
+        };
+        if self.max_fit_points < self.components + 2 || self.max_fit_points > cap {
             return Err(Error::param(
                 "max_fit_points",
                 format!(
-                    "{}; allowed components + 2 = {} to {MAX_FIT_POINTS} points",
+                    "{}; allowed components + 2 = {} to {cap} points{}",
                     self.max_fit_points,
-                    self.components + 2
+                    self.components + 2,
+                    if self.neighbors == 0 {
+                        " with the dense kernel (neighbors = 0)"
+                    } else {
+                        ""
+                    }
                 ),
+            ));
+        }
+        if !(self.pca_variance > 0.0 && self.pca_variance <= 1.0) {
+            return Err(Error::param(
+                "pca_variance",
+                format!("{}; allowed share 0 < v ≤ 1", self.pca_variance),
+            ));
+        }
+        if self.landmark_check > 1_000_000 {
+            return Err(Error::param(
+                "landmark_check",
+                format!("{}; allowed 0 to 1 000 000 points", self.landmark_check),
             ));
         }
         Ok(self)
@@ -123,11 +203,12 @@ impl DiffusionParams {
 /// A fitted diffusion map: what is needed to place new points by Nyström extension.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DiffusionModel {
-    /// The fit (landmark) points.
+    /// The fit (landmark) points, in the space the kernel works in (after the PCA projection
+    /// in `reduction`, when there is one).
     pub landmarks: Points,
     /// Row of each landmark in the input of [`fit`].
     pub landmark_index: Vec<usize>,
-    /// Kernel row sums q_j = Σ_i exp(−‖x_j−x_i‖²/ε) over the landmarks.
+    /// Kernel row sums q_j = Σ_i K_ji over the landmarks.
     pub q: Vec<f64>,
     /// Row-major `m × components` eigenfunctions ψ_1..ψ_c at the landmarks (ψ_0 = 1 dropped).
     pub psi: Vec<f64>,
@@ -139,10 +220,19 @@ pub struct DiffusionModel {
     pub alpha: f64,
     /// Diffusion time t.
     pub t: f64,
-    /// Local scales σ_j of the landmarks (empty for a global ε), and the neighbour rank used.
+    /// Local scales σ_j of the landmarks (empty for a global ε).
     pub sigma: Vec<f64>,
     /// Neighbour rank for σ of new points (0 for a global ε).
     pub sigma_rank: usize,
+    /// Neighbours k of the sparse kernel (0: dense kernel).
+    #[serde(default)]
+    pub neighbors: usize,
+    /// PCA applied to every input before the kernel, and the number of axes kept.
+    #[serde(default)]
+    pub reduction: Option<(Pca, usize)>,
+    /// Largest eigen-residual ‖Sv − λv‖ of the fit (0 when not computed).
+    #[serde(default)]
+    pub residual: f64,
 }
 
 /// The `k`-th smallest distance given squared distances `d2` (k ≥ 1; reorders `d2`); an entry
@@ -151,7 +241,7 @@ fn kth_from_dist2(d2: &mut [f64], k: usize) -> f64 {
     let is_member = d2.contains(&0.0);
     let rank = if is_member { k } else { k - 1 }.min(d2.len().saturating_sub(1));
     let (_, v, _) = d2.select_nth_unstable_by(rank, f64::total_cmp);
-    v.sqrt().max(f64::MIN_POSITIVE.sqrt())
+    v.sqrt().max(MIN_SIGMA)
 }
 
 /// Distance from `x` to its `k`-th nearest among `lm` (see [`kth_from_dist2`]).
@@ -166,8 +256,47 @@ fn power(lambda: f64, t: f64) -> f64 {
     lambda.max(0.0).powf(t)
 }
 
+/// Median of σ², the global bandwidth that local scales stand for (reported as ε).
+fn median_sq(sigma: &[f64]) -> f64 {
+    let mut s2: Vec<f64> = sigma.iter().map(|v| v * v).collect();
+    s2.sort_by(f64::total_cmp);
+    s2.get(s2.len() / 2).copied().unwrap_or(f64::NAN)
+}
+
+/// ψ_l = v_l·√(Σd/d) for l = 1..=c (column 0 of `u` is the trivial pair), signs fixed.
+fn psi_from(u: &Mat<f64>, d: &[f64], c: usize) -> Vec<f64> {
+    let m = d.len();
+    let sum_d: f64 = d.iter().sum();
+    let mut psi = vec![0.0; m * c];
+    for l in 1..=c {
+        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_d / d[i]).sqrt()).collect();
+        let big = v
+            .iter()
+            .copied()
+            .fold(0.0f64, |b, x| if x.abs() > b.abs() { x } else { b });
+        if big < 0.0 {
+            v.iter_mut().for_each(|x| *x = -*x);
+        }
+        for (i, x) in v.into_iter().enumerate() {
+            psi[i * c + (l - 1)] = x;
+        }
+    }
+    psi
+}
+
+/// Project `points` when the model (or the fit) uses a PCA reduction.
+fn reduce<'a>(
+    points: &'a Points,
+    r: &Option<(Pca, usize)>,
+) -> Result<std::borrow::Cow<'a, Points>> {
+    Ok(match r {
+        Some((pca, c)) => std::borrow::Cow::Owned(pca.project(points, *c)?),
+        None => std::borrow::Cow::Borrowed(points),
+    })
+}
+
 /// Fit a diffusion map (see the module notes) on all points, or on a seeded random subset of
-/// `p.max_fit_points` of them when there are more.
+/// `p.max_fit_points` landmarks when there are more.
 ///
 /// Errors: bad parameters; fewer than `components + 2` points; a bandwidth that cannot be found;
 /// the eigensolver failing to converge.
@@ -191,11 +320,87 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     } else {
         (0..points.n).collect()
     };
-    let lm = if landmark_index.len() == points.n {
-        points.clone()
+    let raw = if landmark_index.len() == points.n {
+        std::borrow::Cow::Borrowed(points)
     } else {
-        points.select(&landmark_index)
+        std::borrow::Cow::Owned(points.select(&landmark_index))
     };
+    let reduction = if p.neighbors > 0 && p.pca_max_dim > 0 && raw.dim > p.pca_max_dim {
+        let pca = Pca::fit(&raw)?;
+        let keep = pca.components_for(p.pca_variance).min(p.pca_max_dim);
+        Some((pca, keep))
+    } else {
+        None
+    };
+    let lm = reduce(&raw, &reduction)?.into_owned();
+    drop(raw);
+    let mut model = if p.neighbors == 0 {
+        fit_dense(lm, p)?
+    } else {
+        fit_sparse(lm, p)?
+    };
+    model.landmark_index = landmark_index;
+    model.reduction = reduction;
+    Ok(model)
+}
+
+/// Sparse-kernel fit on the (already reduced) fit points.
+fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+    let c = p.components;
+    let m = lm.n;
+    let kq = (p.neighbors + 1).min(m);
+    let nb = knn(&lm, &lm, kq)?;
+    let rank = if p.epsilon.is_none() {
+        p.local_scaling_neighbors.min(kq - 1)
+    } else {
+        0
+    };
+    let sigma: Vec<f64> = if rank > 0 {
+        // The point itself comes first at distance 0, so entry `rank` is its rank-th neighbour.
+        (0..m)
+            .map(|i| nb.dist2_of(i)[rank].sqrt().max(MIN_SIGMA))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let eps = match p.epsilon {
+        Some(e) => e,
+        None if rank > 0 => median_sq(&sigma),
+        None => auto_epsilon(&lm, p.seed)?,
+    };
+    let scale = |a: usize, b: usize| {
+        if sigma.is_empty() {
+            eps
+        } else {
+            sigma[a] * sigma[b]
+        }
+    };
+    let mut s = kernel_graph(&nb, &scale);
+    drop(nb);
+    let (q, d) = normalise(&mut s, p.alpha);
+    let eig = top_eigen_sparse(&s, c + 1, p.seed)?;
+    drop(s);
+    let psi = psi_from(&eig.vectors, &d, c);
+    Ok(DiffusionModel {
+        landmarks: lm,
+        landmark_index: Vec::new(),
+        q,
+        psi,
+        eigenvalues: eig.values[1..=c].to_vec(),
+        epsilon: eps,
+        alpha: p.alpha,
+        t: p.t,
+        sigma,
+        sigma_rank: rank,
+        neighbors: p.neighbors,
+        reduction: None,
+        residual: eig.residual,
+    })
+}
+
+/// Dense-kernel fit on the fit points (m ≤ 5000).
+fn fit_dense(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+    let c = p.components;
     let m = lm.n;
     let rank = if p.epsilon.is_none() {
         p.local_scaling_neighbors.min(m - 1)
@@ -212,15 +417,9 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     };
     let eps = match p.epsilon {
         Some(e) => e,
-        None if rank > 0 => {
-            // Reported ε: the median of σ_i², the global bandwidth the local scales stand for.
-            let mut s2: Vec<f64> = sigma.iter().map(|v| v * v).collect();
-            s2.sort_by(f64::total_cmp);
-            s2[s2.len() / 2]
-        }
+        None if rank > 0 => median_sq(&sigma),
         None => auto_epsilon(&lm, p.seed)?,
     };
-
     // Kernel, one row per task.
     let mut k = vec![0.0; m * m];
     k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
@@ -247,37 +446,21 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     drop(k);
     let (vals, u) = top_eigen(&s, c + 1, p.seed)?;
     drop(s);
-    let sum_d: f64 = d.iter().sum();
-    let mut psi = vec![0.0; m * c];
-    let mut eigenvalues = Vec::with_capacity(c);
-    for l in 1..=c {
-        // Eigenpairs come in non-increasing order: the top one (l = 0) is the trivial one.
-        eigenvalues.push(vals[l]);
-        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_d / d[i]).sqrt()).collect();
-        let mut big = 0.0f64;
-        for &x in &v {
-            if x.abs() > big.abs() {
-                big = x;
-            }
-        }
-        if big < 0.0 {
-            v.iter_mut().for_each(|x| *x = -*x);
-        }
-        for (i, x) in v.into_iter().enumerate() {
-            psi[i * c + (l - 1)] = x;
-        }
-    }
+    let psi = psi_from(&u, &d, c);
     Ok(DiffusionModel {
         landmarks: lm,
-        landmark_index,
+        landmark_index: Vec::new(),
         q,
         psi,
-        eigenvalues,
+        eigenvalues: vals[1..=c].to_vec(),
         epsilon: eps,
         alpha: p.alpha,
         t: p.t,
         sigma,
         sigma_rank: rank,
+        neighbors: 0,
+        reduction: None,
+        residual: 0.0,
     })
 }
 
@@ -343,21 +526,32 @@ impl DiffusionModel {
         self.eigenvalues.len()
     }
 
+    /// Input dimension the model accepts (before any PCA reduction).
+    pub fn input_dim(&self) -> usize {
+        match &self.reduction {
+            Some((pca, _)) => pca.dim,
+            None => self.landmarks.dim,
+        }
+    }
+
     /// Nyström extension of new points: row-major `new.n × components` coordinates ψ_l(x)·λ_l^t
     /// with ψ_l(x) = λ_l⁻¹ Σ_j p(x,x_j) ψ_l(x_j), p(x,·) ∝ k(x,x_j)/(q(x)^α q_j^α) normalised
-    /// to sum 1 (q(x)^α cancels in the normalisation). For a landmark itself this returns its
-    /// fitted coordinates. Kernel weights are computed relative to the nearest landmark, so a
-    /// point far from all landmarks takes the (λ-scaled) values of its nearest ones instead of
-    /// underflowing. A component with λ_l ≤ 0 gets 0.
+    /// to sum 1 (q(x)^α cancels in the normalisation). The sum runs over the k + 1 nearest
+    /// landmarks (sparse model) or all of them (dense model). Kernel weights are computed
+    /// relative to the nearest landmark, so a point far from all landmarks takes the
+    /// (λ-scaled) values of its nearest ones instead of underflowing. A component with
+    /// λ_l ≤ 0 gets 0.
     ///
-    /// Errors: `new` has a different dimension from the landmarks.
+    /// Errors: `new` has a different dimension from the model's input.
     pub fn extend(&self, new: &Points) -> Result<Vec<f64>> {
-        if new.dim != self.landmarks.dim {
+        if new.dim != self.input_dim() {
             return Err(Error::Analysis(format!(
                 "Nyström extension: new points have {} coordinates, the model was fitted on {}",
-                new.dim, self.landmarks.dim
+                new.dim,
+                self.input_dim()
             )));
         }
+        let new = reduce(new, &self.reduction)?;
         let c = self.components();
         let m = self.landmarks.n;
         let qa: Vec<f64> = self.q.iter().map(|&v| v.powf(self.alpha)).collect();
@@ -367,19 +561,37 @@ impl DiffusionModel {
             .map(|&l| if l > 0.0 { l.powf(self.t - 1.0) } else { 0.0 })
             .collect();
         let mut out = vec![0.0; new.n * c];
+        if new.n == 0 {
+            return Ok(out);
+        }
+        // Neighbour lists: the k + 1 nearest landmarks (sparse) or every landmark (dense).
+        let nb = if self.neighbors > 0 {
+            Some(knn(&self.landmarks, &new, (self.neighbors + 1).min(m))?)
+        } else {
+            None
+        };
         out.par_chunks_mut(c.max(1)).enumerate().for_each_init(
-            || (vec![0.0; m], Vec::new()),
-            |(w, buf), (r, orow)| {
-                let x = new.row(r);
-                for (j, wj) in w.iter_mut().enumerate() {
-                    *wj = Points::dist2(x, self.landmarks.row(j));
+            || (Vec::new(), Vec::new(), Vec::new()),
+            |(w, idx, buf), (r, orow)| {
+                w.clear();
+                idx.clear();
+                match &nb {
+                    Some(nb) => {
+                        w.extend_from_slice(nb.dist2_of(r));
+                        idx.extend_from_slice(nb.index_of(r));
+                    }
+                    None => {
+                        let x = new.row(r);
+                        w.extend((0..m).map(|j| Points::dist2(x, self.landmarks.row(j))));
+                        idx.extend(0..m);
+                    }
                 }
                 if self.sigma_rank > 0 {
                     // σ_x from the same distances (x itself, if a landmark, is not a neighbour).
                     buf.clear();
                     buf.extend_from_slice(w);
                     let sx = kth_from_dist2(buf, self.sigma_rank);
-                    for (j, wj) in w.iter_mut().enumerate() {
+                    for (wj, &j) in w.iter_mut().zip(idx.iter()) {
                         *wj /= sx * self.sigma[j];
                     }
                 } else {
@@ -390,12 +602,12 @@ impl DiffusionModel {
                 // Scaled squared distances; the kernel below is exp(−(this − min)).
                 let dmin = w.iter().copied().fold(f64::INFINITY, f64::min);
                 let mut total = 0.0;
-                for (j, wj) in w.iter_mut().enumerate() {
+                for (wj, &j) in w.iter_mut().zip(idx.iter()) {
                     *wj = (-(*wj - dmin)).exp() / qa[j];
                     total += *wj;
                 }
                 orow.iter_mut().for_each(|v| *v = 0.0);
-                for (j, &wj) in w.iter().enumerate() {
+                for (&wj, &j) in w.iter().zip(idx.iter()) {
                     let pj = wj / total;
                     let prow = &self.psi[j * c..(j + 1) * c];
                     for (o, &ps) in orow.iter_mut().zip(prow) {
@@ -420,7 +632,7 @@ impl DiffusionModel {
             .collect()
     }
 
-    /// The embedding of the fit (landmark) points, in landmark order.
+    /// The embedding of the fit (landmark) points, in landmark order (no PCA baseline).
     pub fn embedding_of_fit(&self) -> Embedding {
         Embedding {
             n: self.landmarks.n,
@@ -430,36 +642,194 @@ impl DiffusionModel {
             epsilon: self.epsilon,
             alpha: self.alpha,
             t: self.t,
+            neighbors: self.neighbors,
+            fit_points: self.landmarks.n,
+            residual: self.residual,
+            ..Embedding::default()
         }
     }
 }
 
 /// Diffusion map of every input row: fitted directly when `points.n ≤ max_fit_points`,
-/// otherwise fitted on a seeded subset with all other rows placed by Nyström extension.
-/// Row i of the result belongs to row i of `points`.
+/// otherwise fitted on seeded random landmarks with all other rows placed by Nyström
+/// extension (landmark mode; with `landmark_check > 0` the approximation error is measured, see
+/// [`landmark_error`]). Row i of the result belongs to row i of `points`. The result also holds
+/// the PCA baseline (scores on the first `components` principal axes and their variance
+/// shares) and the fitted model.
 pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> {
     let model = fit(points, p)?;
     let mut emb = model.embedding_of_fit();
-    if model.landmarks.n == points.n {
-        return Ok(emb);
+    if model.landmarks.n != points.n {
+        let c = model.components();
+        let mut is_landmark = vec![false; points.n];
+        for &i in &model.landmark_index {
+            is_landmark[i] = true;
+        }
+        let others: Vec<usize> = (0..points.n).filter(|&i| !is_landmark[i]).collect();
+        let ext = model.extend(&points.select(&others))?;
+        let mut coords = vec![0.0; points.n * c];
+        for (r, &i) in model.landmark_index.iter().enumerate() {
+            coords[i * c..(i + 1) * c].copy_from_slice(&emb.coords[r * c..(r + 1) * c]);
+        }
+        for (r, &i) in others.iter().enumerate() {
+            coords[i * c..(i + 1) * c].copy_from_slice(&ext[r * c..(r + 1) * c]);
+        }
+        emb.n = points.n;
+        emb.coords = coords;
+        if p.landmark_check > 0 {
+            emb.landmark_error = Some(landmark_error(points, &model, p)?);
+        }
     }
-    let c = model.components();
+    let (pca_coords, pca_components, pca_explained) = pca_baseline(points, p.components)?;
+    emb.pca_coords = pca_coords;
+    emb.pca_components = pca_components;
+    emb.pca_explained = pca_explained;
+    emb.model = Some(Box::new(model));
+    Ok(emb)
+}
+
+/// PCA baseline: row-major scores on the first min(c, dim) axes and their variance shares.
+pub fn pca_baseline(points: &Points, c: usize) -> Result<(Vec<f64>, usize, Vec<f64>)> {
+    let pca = Pca::fit(points)?;
+    let c = c.min(points.dim);
+    let scores = pca.project(points, c)?;
+    let mut share = pca.explained_ratio();
+    share.truncate(c);
+    Ok((scores.data, c, share))
+}
+
+/// Landmark-mode approximation error on a held-out sample (Nyström against a direct fit).
+///
+/// `p.landmark_check` seeded non-landmark points H are drawn; the map is fitted again on
+/// landmarks ∪ H (same parameters) and H's coordinates from that fit are compared with their
+/// Nyström extension from `model`. Because eigenvectors are defined only up to sign and, for
+/// (nearly) equal eigenvalues, rotation, the extension is first mapped by the least-squares
+/// linear map that takes the model's landmark coordinates onto the refit's landmark coordinates.
+/// Returned: RMS of the difference over H divided by the RMS of H's refit coordinates
+/// (relative error, 0 = identical).
+///
+/// Errors: the model has no landmarks outside the input, or the refit fails.
+pub fn landmark_error(points: &Points, model: &DiffusionModel, p: &DiffusionParams) -> Result<f64> {
     let mut is_landmark = vec![false; points.n];
     for &i in &model.landmark_index {
-        is_landmark[i] = true;
+        if let Some(v) = is_landmark.get_mut(i) {
+            *v = true;
+        }
     }
     let others: Vec<usize> = (0..points.n).filter(|&i| !is_landmark[i]).collect();
-    let ext = model.extend(&points.select(&others))?;
-    let mut coords = vec![0.0; points.n * c];
-    for (r, &i) in model.landmark_index.iter().enumerate() {
-        coords[i * c..(i + 1) * c].copy_from_slice(&emb.coords[r * c..(r + 1) * c]);
+    if others.is_empty() || model.landmark_index.is_empty() {
+        return Err(Error::Analysis(
+            "landmark error: no held-out points outside the landmarks".to_string(),
+        ));
     }
-    for (r, &i) in others.iter().enumerate() {
-        coords[i * c..(i + 1) * c].copy_from_slice(&ext[r * c..(r + 1) * c]);
+    let h = p.landmark_check.min(others.len());
+    let mut rng = ChaCha8Rng::seed_from_u64(p.seed ^ 0x0ab5_e7ed);
+    let mut pick: Vec<usize> = sample(&mut rng, others.len(), h)
+        .into_iter()
+        .map(|i| others[i])
+        .collect();
+    pick.sort_unstable();
+    let held = points.select(&pick);
+    let ext = model.extend(&held)?;
+    let mut all = model.landmark_index.clone();
+    all.extend_from_slice(&pick);
+    let q = DiffusionParams {
+        max_fit_points: all.len().max(p.components + 2),
+        landmark_check: 0,
+        ..p.clone()
+    };
+    let refit = fit(&points.select(&all), &q)?;
+    let c = model.components();
+    let m = model.landmark_index.len();
+    let own = model.coords_of_fit();
+    let re = refit.coords_of_fit();
+    Ok(aligned_relative_error(
+        &own,
+        &re[..m * c],
+        &ext,
+        &re[m * c..],
+        c,
+    ))
+}
+
+/// Relative error after linear alignment: fit the `c × c` least-squares map B ≈ A·M on the
+/// training rows (`a_train`, `b_train`, row-major with `c` columns), apply it to `a_test`, and
+/// return RMS(a_test·M − b_test) / RMS(b_test). Used to compare two embeddings whose
+/// eigenvectors may differ by sign or by a rotation within (nearly) repeated eigenvalues.
+pub fn aligned_relative_error(
+    a_train: &[f64],
+    b_train: &[f64],
+    a_test: &[f64],
+    b_test: &[f64],
+    c: usize,
+) -> f64 {
+    let rows = a_train.len() / c.max(1);
+    let a = Mat::<f64>::from_fn(rows, c, |i, j| a_train[i * c + j]);
+    let b = Mat::<f64>::from_fn(rows, c, |i, j| b_train[i * c + j]);
+    // Normal equations (AᵀA) M = AᵀB, solved by a symmetric eigendecomposition-free LLT with a
+    // tiny ridge for safety.
+    let mut ata = a.transpose() * &a;
+    for j in 0..c {
+        ata[(j, j)] += 1e-14 * (1.0 + ata[(j, j)]);
     }
-    emb.n = points.n;
-    emb.coords = coords;
-    Ok(emb)
+    let atb = a.transpose() * &b;
+    let map = match ata.llt(Side::Lower) {
+        Ok(l) => l.solve(&atb),
+        Err(_) => return f64::NAN,
+    };
+    let t_rows = a_test.len() / c.max(1);
+    let (mut num, mut den) = (0.0, 0.0);
+    for i in 0..t_rows {
+        for s in 0..c {
+            let z: f64 = (0..c).map(|r| a_test[i * c + r] * map[(r, s)]).sum();
+            let y = b_test[i * c + s];
+            num += (z - y) * (z - y);
+            den += y * y;
+        }
+    }
+    (num / den.max(f64::MIN_POSITIVE)).sqrt()
+}
+
+/// Principal angles (radians, ascending) between the column spans of two row-major matrices
+/// `a` (`n × ca`) and `b` (`n × cb`) (Björck & Golub 1973): the arc-cosines of the singular
+/// values of Q_aᵀ Q_b, with Q_a, Q_b orthonormal bases from thin QR factorisations. With
+/// `center`, each column's mean is removed first (the angles are then the arc-cosines of the
+/// canonical correlations).
+pub fn principal_angles(
+    a: &[f64],
+    b: &[f64],
+    n: usize,
+    ca: usize,
+    cb: usize,
+    center: bool,
+) -> Result<Vec<f64>> {
+    if a.len() != n * ca || b.len() != n * cb || n < ca.max(cb) {
+        return Err(Error::Analysis(format!(
+            "principal angles: shapes {} and {} do not match {n} x {ca} and {n} x {cb}",
+            a.len(),
+            b.len()
+        )));
+    }
+    let basis = |m: &[f64], c: usize| {
+        let mut x = Mat::<f64>::from_fn(n, c, |i, j| m[i * c + j]);
+        if center {
+            for j in 0..c {
+                let mean: f64 = (0..n).map(|i| x[(i, j)]).sum::<f64>() / n as f64;
+                for i in 0..n {
+                    x[(i, j)] -= mean;
+                }
+            }
+        }
+        x.qr().compute_thin_Q()
+    };
+    let (qa, qb) = (basis(a, ca), basis(b, cb));
+    let m = qa.transpose() * &qb;
+    let sv = m
+        .singular_values()
+        .map_err(|e| Error::Analysis(format!("principal angles: SVD failed: {e:?}")))?;
+    let mut ang: Vec<f64> = sv.iter().map(|s| s.clamp(-1.0, 1.0).acos()).collect();
+    ang.sort_by(f64::total_cmp);
+    Ok(ang)
 }
 
 #[cfg(test)]
@@ -547,6 +917,8 @@ mod tests {
             max_fit_points: 3000,
             seed: 7,
             local_scaling_neighbors: 0,
+            neighbors: 0,
+            ..DiffusionParams::default()
         }
     }
 
@@ -724,7 +1096,24 @@ mod tests {
                 ..p.clone()
             },
             DiffusionParams {
+                max_fit_points: 20_000_000,
+                ..p.clone()
+            },
+            DiffusionParams {
+                neighbors: 0,
                 max_fit_points: 6000,
+                ..p.clone()
+            },
+            DiffusionParams {
+                neighbors: 1,
+                ..p.clone()
+            },
+            DiffusionParams {
+                local_scaling_neighbors: 20,
+                ..p.clone()
+            },
+            DiffusionParams {
+                pca_variance: 0.0,
                 ..p.clone()
             },
             DiffusionParams {

@@ -1,12 +1,16 @@
-//! Diffusion maps (Coifman & Lafon 2006) of a point cloud.
+//! Diffusion maps (Coifman & Lafon 2006) of a point cloud, scalable to millions of points.
 //!
-//! In: [`Points`](crate::points::Points) and parameters. Out: an [`Embedding`]: diffusion
-//! coordinates ψ_j·λ_j^t of every point, the eigenvalues, and the kernel settings used.
+//! In: [`Points`](crate::points::Points) and [`DiffusionParams`]. Out: an [`Embedding`]:
+//! diffusion coordinates ψ_j·λ_j^t of every point, the eigenvalues, the kernel settings used, a
+//! PCA baseline, and the fitted [`DiffusionModel`] that places new points by Nyström extension.
+//! Parts: exact k-nearest neighbours ([`knn`]: k-d tree or blocked brute force), the sparse
+//! kernel and shift-invert eigensolver ([`sparse`]), PCA ([`pca`]), bandwidth selection, the
+//! map itself, and reading/writing a fitted model in HDF5 ([`model_io`]).
 
 use serde::{Deserialize, Serialize};
 
 /// A fitted diffusion-map embedding.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
 pub struct Embedding {
     /// Number of embedded points.
     pub n: usize,
@@ -22,10 +26,43 @@ pub struct Embedding {
     pub alpha: f64,
     /// Diffusion time t.
     pub t: f64,
+    /// Neighbours k of the sparse kernel graph (0: dense kernel).
+    #[serde(default)]
+    pub neighbors: usize,
+    /// Points the map was fitted on (fewer than `n` in landmark mode).
+    #[serde(default)]
+    pub fit_points: usize,
+    /// Largest eigen-residual ‖Sv − λv‖ of the fit (0 when not computed).
+    #[serde(default)]
+    pub residual: f64,
+    /// Landmark mode: relative Nyström error on a held-out sample (see
+    /// [`landmark_error`]), when measured.
+    #[serde(default)]
+    pub landmark_error: Option<f64>,
+    /// PCA baseline: row-major `n × pca_components` scores on the leading principal axes.
+    #[serde(default)]
+    pub pca_coords: Vec<f64>,
+    /// Number of PCA baseline components.
+    #[serde(default)]
+    pub pca_components: usize,
+    /// Share of the total variance on each PCA baseline axis.
+    #[serde(default)]
+    pub pca_explained: Vec<f64>,
+    /// The fitted model (not serialised; written to HDF5 by [`model_io`]).
+    #[serde(skip)]
+    pub model: Option<Box<DiffusionModel>>,
 }
 
 mod bandwidth;
 mod diffusion;
+pub mod knn;
+pub mod model_io;
+pub mod pca;
+pub mod sparse;
 
 pub use bandwidth::{auto_epsilon, kernel_sum_curve};
-pub use diffusion::{diffusion_map, fit, DiffusionModel, DiffusionParams};
+pub use diffusion::{
+    aligned_relative_error, diffusion_map, fit, landmark_error, pca_baseline, principal_angles,
+    DiffusionModel, DiffusionParams, MAX_FIT_POINTS, MAX_SPARSE_FIT_POINTS,
+};
+pub use pca::Pca;

@@ -103,6 +103,7 @@ fn sample_analysis() -> Analysis {
             epsilon: 0.25,
             alpha: 1.0,
             t: 1.0,
+            ..Embedding::default()
         },
         dimension: ScalingCurve {
             ks: vec![2, 4, 8, 16],
@@ -201,6 +202,7 @@ fn degenerate_analysis() -> Analysis {
         epsilon: f64::NAN,
         alpha: 1.0,
         t: 1.0,
+        ..Embedding::default()
     };
     a.dimension = ScalingCurve {
         ks: vec![],

@@ -1,0 +1,392 @@
+//! Sparse diffusion kernel on a k-nearest-neighbour graph and its top eigenpairs.
+//!
+//! In: a [`Neighbors`] table of the fit points (each point's k nearest, itself included), the
+//! kernel scale (one ε or local scales σ_i), α. Out: the kernel row sums q, the degrees d of the
+//! α-normalised kernel, and the top eigenpairs of S = D^{−½} K^α D^{−½}.
+//!
+//! Kernel (Coifman & Lafon 2006): K_ij = exp(−‖x_i−x_j‖²/s_ij) on the edges of the kNN graph
+//! made symmetric (an edge when either point is among the other's k nearest; the weight is
+//! symmetric by construction), plus K_ii = 1; s_ij = ε, or σ_iσ_j for the local scaling of
+//! Zelnik-Manor & Perona (2004). q_i = Σ_j K_ij; K^α_ij = K_ij/(q_i^α q_j^α); d_i = Σ_j K^α_ij.
+//! Memory O(N·k); no N×N matrix is formed.
+//!
+//! Eigensolver: shift-invert (e.g. Saad, "Numerical Methods for Large Eigenvalue Problems",
+//! 2011, ch. 4). The top of a diffusion spectrum is tightly clustered near 1, which slows plain
+//! Krylov methods and lets them miss or duplicate eigenvalues. With A = (1+σ)I − S (positive
+//! definite for σ > 0, since the eigenvalues of S lie in [−1, 1]), the sparse Cholesky factor of
+//! A (faer, fill-reducing ordering) applies A⁻¹, whose largest eigenvalues μ = 1/(1+σ−λ) belong
+//! to the λ nearest 1 and are well separated. A Krylov–Schur partial eigensolver (Stewart 2002;
+//! faer's `partial_self_adjoint_eigen`) finds them; λ = 1 + σ − 1/μ. If the factorisation fails,
+//! the same solver runs on (I + S)/2 directly.
+
+use super::knn::Neighbors;
+use crate::error::{Error, Result};
+use faer::dyn_stack::{MemBuffer, MemStack, StackReq};
+use faer::matrix_free::eigen::{
+    partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,
+};
+use faer::matrix_free::LinOp;
+use faer::sparse::linalg::cholesky::{
+    factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymmetricOrdering,
+};
+use faer::sparse::{SparseColMat, Triplet};
+use faer::{Col, Conj, Mat, MatMut, MatRef, Par, Side};
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+
+/// Shift σ of the shift-invert transform.
+pub const SHIFT: f64 = 1e-5;
+/// Largest Cholesky factor, as a multiple of the stored entries of S.
+pub const FILL_FACTOR: usize = 60;
+/// Convergence tolerance handed to the Krylov–Schur solver.
+const TOLERANCE: f64 = 1e-12;
+
+/// A symmetric sparse matrix in compressed rows, both triangles and the diagonal stored.
+#[derive(Debug, Clone)]
+pub struct SymCsr {
+    /// Number of rows (= columns).
+    pub n: usize,
+    /// Row starts into `col`/`val` (n + 1 entries).
+    pub ptr: Vec<usize>,
+    /// Column of each entry, increasing within a row.
+    pub col: Vec<usize>,
+    /// Value of each entry.
+    pub val: Vec<f64>,
+}
+
+impl SymCsr {
+    /// Row sums.
+    pub fn row_sums(&self) -> Vec<f64> {
+        (0..self.n)
+            .into_par_iter()
+            .map(|i| self.val[self.ptr[i]..self.ptr[i + 1]].iter().sum())
+            .collect()
+    }
+
+    /// y = self · x.
+    pub fn matvec(&self, x: &[f64], y: &mut [f64]) {
+        y.par_iter_mut().enumerate().for_each(|(i, yi)| {
+            let (a, b) = (self.ptr[i], self.ptr[i + 1]);
+            *yi = self.col[a..b]
+                .iter()
+                .zip(&self.val[a..b])
+                .map(|(&j, &v)| v * x[j])
+                .sum();
+        });
+    }
+
+    /// Number of stored entries.
+    pub fn nnz(&self) -> usize {
+        self.val.len()
+    }
+}
+
+/// The symmetrised kernel K on the kNN graph (see the module notes). `scale(i, j)` is s_ij.
+pub fn kernel_graph(nb: &Neighbors, scale: &(dyn Fn(usize, usize) -> f64 + Sync)) -> SymCsr {
+    let n = nb.n;
+    // Off-diagonal edges (a < b) with their weights, from every row.
+    let mut edges: Vec<(usize, usize, f64)> = (0..n)
+        .into_par_iter()
+        .flat_map_iter(|i| {
+            nb.index_of(i)
+                .iter()
+                .zip(nb.dist2_of(i))
+                .filter(move |(&j, _)| j != i)
+                .map(move |(&j, &d2)| {
+                    let (a, b) = if i < j { (i, j) } else { (j, i) };
+                    (a, b, (-d2 / scale(a, b)).exp())
+                })
+        })
+        .collect();
+    edges.par_sort_unstable_by(|x, y| (x.0, x.1).cmp(&(y.0, y.1)));
+    edges.dedup_by(|x, y| x.0 == y.0 && x.1 == y.1);
+    let mut count = vec![1usize; n];
+    for &(a, b, _) in &edges {
+        count[a] += 1;
+        count[b] += 1;
+    }
+    let mut ptr = vec![0usize; n + 1];
+    for i in 0..n {
+        ptr[i + 1] = ptr[i] + count[i];
+    }
+    let nnz = ptr[n];
+    let mut col = vec![0usize; nnz];
+    let mut val = vec![0.0; nnz];
+    let mut fill = ptr[..n].to_vec();
+    // Lower entries of row b (column a < b) arrive in increasing a, since the edges are sorted
+    // by (a, b); then the diagonal; then the upper entries of row a in increasing b. Put the
+    // lower ones first in a first pass, then the diagonal, then the upper ones.
+    for &(a, b, w) in &edges {
+        col[fill[b]] = a;
+        val[fill[b]] = w;
+        fill[b] += 1;
+    }
+    for i in 0..n {
+        col[fill[i]] = i;
+        val[fill[i]] = 1.0;
+        fill[i] += 1;
+    }
+    for &(a, b, w) in &edges {
+        col[fill[a]] = b;
+        val[fill[a]] = w;
+        fill[a] += 1;
+    }
+    SymCsr { n, ptr, col, val }
+}
+
+/// α-normalise `k` in place (K^α_ij = K_ij/(q_i^α q_j^α)); returns (q, d) with d the row sums
+/// of K^α. Then turn it into S = D^{−½} K^α D^{−½} in place.
+pub fn normalise(k: &mut SymCsr, alpha: f64) -> (Vec<f64>, Vec<f64>) {
+    let q = k.row_sums();
+    let qa: Vec<f64> = q.iter().map(|v| v.powf(alpha)).collect();
+    scale_sym(k, &qa);
+    let d = k.row_sums();
+    let sd: Vec<f64> = d.iter().map(|v| v.sqrt()).collect();
+    scale_sym(k, &sd);
+    (q, d)
+}
+
+/// Divide entry (i, j) by f_i f_j.
+fn scale_sym(k: &mut SymCsr, f: &[f64]) {
+    for i in 0..k.n {
+        for e in k.ptr[i]..k.ptr[i + 1] {
+            k.val[e] /= f[i] * f[k.col[e]];
+        }
+    }
+}
+
+/// A⁻¹ for A = (1+σ)I − S, applied through a sparse Cholesky factor.
+#[derive(Debug)]
+struct ShiftInvert {
+    n: usize,
+    symbolic: SymbolicCholesky<usize>,
+    values: Vec<f64>,
+}
+
+impl LinOp<f64> for ShiftInvert {
+    fn apply_scratch(&self, rhs_ncols: usize, par: Par) -> StackReq {
+        self.symbolic.solve_in_place_scratch::<f64>(rhs_ncols, par)
+    }
+    fn nrows(&self) -> usize {
+        self.n
+    }
+    fn ncols(&self) -> usize {
+        self.n
+    }
+    fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, st: &mut MemStack) {
+        let mut out = out;
+        out.copy_from(rhs);
+        LltRef::<usize, f64>::new(&self.symbolic, &self.values).solve_in_place_with_conj(
+            Conj::No,
+            out,
+            par,
+            st,
+        );
+    }
+    fn conj_apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, s: &mut MemStack) {
+        self.apply(out, rhs, par, s);
+    }
+}
+
+/// Sparse Cholesky factor of the lower triangle `a`, or `None` when the factor would exceed
+/// `budget` stored values or the factorisation fails.
+fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
+    let symbolic = factorize_symbolic_cholesky(
+        a.symbolic(),
+        Side::Lower,
+        SymmetricOrdering::Amd,
+        Default::default(),
+    )
+    .ok()?;
+    let len = symbolic.len_val();
+    if len > budget {
+        return None;
+    }
+    let par = faer::get_global_parallelism();
+    let mut values = vec![0.0; len];
+    let mut mem =
+        MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(par, Default::default()))
+            .ok()?;
+    symbolic
+        .factorize_numeric_llt::<f64>(
+            &mut values,
+            a.as_ref(),
+            Side::Lower,
+            Default::default(),
+            par,
+            MemStack::new(&mut mem),
+            Default::default(),
+        )
+        .ok()?;
+    Some(ShiftInvert {
+        n: a.nrows(),
+        symbolic,
+        values,
+    })
+}
+
+/// (I + S)/2 applied by sparse products (eigenvalues in [0, 1], same order as S's).
+#[derive(Debug)]
+struct HalfShifted<'a> {
+    s: &'a SymCsr,
+}
+
+impl LinOp<f64> for HalfShifted<'_> {
+    fn apply_scratch(&self, _rhs_ncols: usize, _par: Par) -> StackReq {
+        StackReq::EMPTY
+    }
+    fn nrows(&self) -> usize {
+        self.s.n
+    }
+    fn ncols(&self) -> usize {
+        self.s.n
+    }
+    fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, _par: Par, _st: &mut MemStack) {
+        let mut out = out;
+        let n = self.s.n;
+        let mut x = vec![0.0; n];
+        let mut y = vec![0.0; n];
+        for c in 0..rhs.ncols() {
+            for (i, xi) in x.iter_mut().enumerate() {
+                *xi = rhs[(i, c)];
+            }
+            self.s.matvec(&x, &mut y);
+            for i in 0..n {
+                out[(i, c)] = 0.5 * (x[i] + y[i]);
+            }
+        }
+    }
+    fn conj_apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, s: &mut MemStack) {
+        self.apply(out, rhs, par, s);
+    }
+}
+
+/// Which solver produced the eigenpairs.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Solver {
+    /// Shift-invert with a sparse Cholesky factor.
+    ShiftInvert,
+    /// Krylov–Schur on (I + S)/2 (after a failed factorisation).
+    Direct,
+}
+
+/// Top eigenpairs of a sparse symmetric S.
+#[derive(Debug, Clone)]
+pub struct TopEigen {
+    /// Eigenvalues of S, non-increasing.
+    pub values: Vec<f64>,
+    /// Eigenvectors as columns (unit length), same order.
+    pub vectors: Mat<f64>,
+    /// Largest residual ‖S v − λ v‖ over the pairs.
+    pub residual: f64,
+    /// Solver used.
+    pub solver: Solver,
+}
+
+fn run_krylov(op: &dyn LinOp<f64>, n: usize, nev: usize, seed: u64) -> (Vec<f64>, Mat<f64>, usize) {
+    let par = faer::get_global_parallelism();
+    let params = PartialEigenParams {
+        max_restarts: 1000,
+        max_dim: (2 * nev + 20).max(40).min(n),
+        ..PartialEigenParams::default()
+    };
+    let mut mem = MemBuffer::new(partial_self_adjoint_eigen_scratch(op, nev, par, params));
+    let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x5eed_1a2c);
+    let v0 = Col::<f64>::from_fn(n, |_| rng.gen::<f64>() - 0.5);
+    let mut vecs = Mat::<f64>::zeros(n, nev);
+    let mut vals = vec![0.0; nev];
+    let info = partial_self_adjoint_eigen(
+        vecs.as_mut(),
+        &mut vals,
+        op,
+        v0.as_ref(),
+        TOLERANCE,
+        par,
+        MemStack::new(&mut mem),
+        params,
+    );
+    (vals, vecs, info.n_converged_eigen)
+}
+
+/// The `nev` largest eigenpairs of S (see the module notes). Errors: the solver does not
+/// converge, or `nev` exceeds the size.
+pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
+    let n = s.n;
+    if nev > n {
+        return Err(Error::Analysis(format!(
+            "eigensolver: {nev} eigenpairs asked of a {n}-point graph"
+        )));
+    }
+    // Lower triangle of A = (1+σ)I − S.
+    let mut trip = Vec::with_capacity(s.nnz() / 2 + n);
+    for i in 0..n {
+        for e in s.ptr[i]..s.ptr[i + 1] {
+            let j = s.col[e];
+            if j < i {
+                trip.push(Triplet::new(i, j, -s.val[e]));
+            } else if j == i {
+                trip.push(Triplet::new(i, i, 1.0 + SHIFT - s.val[e]));
+            }
+        }
+    }
+    // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
+    // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
+    // the direct Krylov–Schur iteration is cheaper.
+    let budget = (FILL_FACTOR * s.nnz()).max(1 << 20);
+    let llt = SparseColMat::<usize, f64>::try_new_from_triplets(n, n, &trip)
+        .ok()
+        .and_then(|a| factor(&a, budget));
+    drop(trip);
+    let (values, vectors, solver) = match llt {
+        Some(op) => {
+            let (mu, v, conv) = run_krylov(&op, n, nev, seed);
+            if conv < nev || mu.iter().any(|m| !(m.is_finite() && *m > 0.0)) {
+                return Err(Error::Analysis(format!(
+                    "diffusion map eigensolver (shift-invert) converged on {conv} of {nev} \
+                     eigenpairs"
+                )));
+            }
+            let lam: Vec<f64> = mu.iter().map(|m| 1.0 + SHIFT - 1.0 / m).collect();
+            (lam, v, Solver::ShiftInvert)
+        }
+        None => {
+            let op = HalfShifted { s };
+            let (mu, v, conv) = run_krylov(&op, n, nev, seed);
+            if conv < nev || mu.iter().any(|m| !m.is_finite()) {
+                return Err(Error::Analysis(format!(
+                    "diffusion map eigensolver converged on {conv} of {nev} eigenpairs"
+                )));
+            }
+            let lam: Vec<f64> = mu.iter().map(|m| 2.0 * m - 1.0).collect();
+            (lam, v, Solver::Direct)
+        }
+    };
+    // Sort non-increasing.
+    let mut order: Vec<usize> = (0..nev).collect();
+    order.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
+    let vals: Vec<f64> = order.iter().map(|&i| values[i]).collect();
+    let vecs = Mat::<f64>::from_fn(n, nev, |i, j| vectors[(i, order[j])]);
+    // Residuals.
+    let mut residual = 0.0f64;
+    let mut x = vec![0.0; n];
+    let mut y = vec![0.0; n];
+    for (l, &lam) in vals.iter().enumerate() {
+        for (i, xi) in x.iter_mut().enumerate() {
+            *xi = vecs[(i, l)];
+        }
+        s.matvec(&x, &mut y);
+        let r: f64 = x
+            .iter()
+            .zip(&y)
+            .map(|(a, b)| (b - lam * a) * (b - lam * a))
+            .sum();
+        residual = residual.max(r.sqrt());
+    }
+    Ok(TopEigen {
+        values: vals,
+        vectors: vecs,
+        residual,
+        solver,
+    })
+}
