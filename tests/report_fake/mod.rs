@@ -149,6 +149,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
             epsilon: 0.1,
             alpha: 1.0,
             t: 1.0,
+            ..Embedding::default()
         },
         dimension: ScalingCurve {
             ks: vec![2, 4, 8, 16],
