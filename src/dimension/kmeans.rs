@@ -10,6 +10,7 @@
 //! farthest from its centre. Sums are accumulated in fixed chunks and added in order, so results
 //! do not depend on the thread count.
 
+use super::knn::sqdist;
 use crate::error::{Error, Result};
 use crate::points::Points;
 use rand::{Rng, SeedableRng};
@@ -37,7 +38,7 @@ pub struct KmeansFit {
 fn nearest(x: &[f64], centres: &Points) -> (usize, f64) {
     let mut best = (0, f64::INFINITY);
     for (c, row) in centres.rows().enumerate() {
-        let d = Points::dist2(x, row);
+        let d = sqdist(x, row);
         if d < best.1 {
             best = (c, d);
         }
@@ -77,7 +78,7 @@ fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
     let mut d2: Vec<f64> = points
         .data
         .par_chunks_exact(dim)
-        .map(|x| Points::dist2(x, points.row(first)))
+        .map(|x| sqdist(x, points.row(first)))
         .collect();
     for _ in 1..k {
         let total: f64 = d2.iter().sum();
@@ -100,47 +101,55 @@ fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
         let c = points.row(pick).to_vec();
         d2.par_iter_mut()
             .zip(points.data.par_chunks_exact(dim))
-            .for_each(|(v, x)| *v = v.min(Points::dist2(x, &c)));
+            .for_each(|(v, x)| *v = v.min(sqdist(x, &c)));
         data.extend_from_slice(&c);
     }
     Points { n: k, dim, data }
 }
 
-/// One k-means++ + Lloyd run.
+/// Nearest and second-nearest centre of `x`: (index, distance, second distance), distances not
+/// squared.
+fn nearest_two(x: &[f64], centres: &Points) -> (usize, f64, f64) {
+    let (mut b, mut d1, mut d2) = (0, f64::INFINITY, f64::INFINITY);
+    for (c, row) in centres.rows().enumerate() {
+        let d = sqdist(x, row);
+        if d < d1 {
+            d2 = d1;
+            d1 = d;
+            b = c;
+        } else if d < d2 {
+            d2 = d;
+        }
+    }
+    (b, d1.sqrt(), d2.sqrt())
+}
+
+/// One k-means++ run followed by exact Lloyd iterations accelerated with Hamerly's (2010)
+/// bounds: every point keeps an upper bound on the distance to its centre and a lower bound on
+/// the distance to any other centre; a point whose upper bound is below both its lower bound and
+/// half the distance from its centre to the nearest other centre cannot change centre, so its
+/// distances are not computed. The assignments are those of plain Lloyd iterations.
 fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> KmeansFit {
     let dim = points.dim;
     let mut centres = seed_centres(points, k, rng);
-    let mut labels = vec![usize::MAX; points.n];
+    // Per point: (label, upper bound, lower bound).
+    let mut state: Vec<(usize, f64, f64)> = points
+        .data
+        .par_chunks_exact(dim)
+        .map(|x| nearest_two(x, &centres))
+        .collect();
     let mut iterations = 0;
-    loop {
-        let assign: Vec<(usize, f64)> = points
-            .data
-            .par_chunks_exact(dim)
-            .map(|x| nearest(x, &centres))
-            .collect();
-        let changed = assign.iter().zip(&labels).any(|(a, &l)| a.0 != l);
-        for (l, a) in labels.iter_mut().zip(&assign) {
-            *l = a.0;
-        }
-        if !changed || iterations >= max_iter {
-            let inertia = assign.iter().map(|a| a.1).sum();
-            return KmeansFit {
-                centres,
-                inertia,
-                labels,
-                iterations,
-            };
-        }
+    while iterations < max_iter {
         iterations += 1;
         // Centre sums per fixed chunk, then added in chunk order.
         let parts: Vec<(Vec<f64>, Vec<usize>)> = points
             .data
             .par_chunks(CHUNK * dim)
-            .zip(labels.par_chunks(CHUNK))
-            .map(|(xs, ls)| {
+            .zip(state.par_chunks(CHUNK))
+            .map(|(xs, st)| {
                 let mut s = vec![0.0; k * dim];
                 let mut cnt = vec![0usize; k];
-                for (x, &l) in xs.chunks_exact(dim).zip(ls) {
+                for (x, &(l, _, _)) in xs.chunks_exact(dim).zip(st) {
                     cnt[l] += 1;
                     for (a, b) in s[l * dim..(l + 1) * dim].iter_mut().zip(x) {
                         *a += b;
@@ -159,25 +168,110 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
                 *a += b;
             }
         }
+        let old = centres.clone();
+        let mut reseeded = false;
         // Points ordered by distance to their centre, farthest first, for re-seeding.
-        let mut far: Vec<usize> = Vec::new();
+        let mut far: Vec<(f64, usize)> = Vec::new();
         let mut far_next = 0;
         for c in 0..k {
-            let row = &mut centres.data[c * dim..(c + 1) * dim];
             if counts[c] > 0 {
+                let row = &mut centres.data[c * dim..(c + 1) * dim];
                 for (r, s) in row.iter_mut().zip(&sums[c * dim..(c + 1) * dim]) {
                     *r = s / counts[c] as f64;
                 }
             } else {
                 if far.is_empty() {
-                    far = (0..points.n).collect();
-                    far.sort_by(|&a, &b| assign[b].1.total_cmp(&assign[a].1).then(a.cmp(&b)));
+                    far = state
+                        .iter()
+                        .zip(points.rows())
+                        .enumerate()
+                        .map(|(i, (&(l, _, _), x))| (sqdist(x, old.row(l)), i))
+                        .collect();
+                    far.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
                 }
-                let pick = far.get(far_next).copied().unwrap_or(0);
+                let pick = far.get(far_next).map_or(0, |p| p.1);
                 far_next += 1;
-                row.copy_from_slice(points.row(pick));
+                centres.data[c * dim..(c + 1) * dim].copy_from_slice(points.row(pick));
+                reseeded = true;
             }
         }
+        // Centre movements, and half the distance from each centre to its nearest other one.
+        let moved: Vec<f64> = (0..k)
+            .map(|c| sqdist(old.row(c), centres.row(c)).sqrt())
+            .collect();
+        let (mut m1, mut m1_at, mut m2) = (0.0f64, 0usize, 0.0f64);
+        for (c, &m) in moved.iter().enumerate() {
+            if m > m1 {
+                m2 = m1;
+                m1 = m;
+                m1_at = c;
+            } else if m > m2 {
+                m2 = m;
+            }
+        }
+        let half_gap: Vec<f64> = (0..k)
+            .into_par_iter()
+            .map(|c| {
+                let mut best = f64::INFINITY;
+                for (o, row) in centres.rows().enumerate() {
+                    if o != c {
+                        best = best.min(sqdist(centres.row(c), row));
+                    }
+                }
+                0.5 * best.sqrt()
+            })
+            .collect();
+        let changed: usize = points
+            .data
+            .par_chunks(CHUNK * dim)
+            .zip(state.par_chunks_mut(CHUNK))
+            .map(|(xs, st)| {
+                let mut changed = 0;
+                for (x, s) in xs.chunks_exact(dim).zip(st.iter_mut()) {
+                    let (l, mut u, mut lo) = *s;
+                    if reseeded {
+                        lo = 0.0;
+                    }
+                    u += moved[l];
+                    lo -= if l == m1_at { m2 } else { m1 };
+                    let bound = half_gap[l].max(lo);
+                    if u > bound {
+                        u = sqdist(x, centres.row(l)).sqrt();
+                        if u > bound {
+                            let (b, d1, d2) = nearest_two(x, &centres);
+                            if b != l {
+                                changed += 1;
+                            }
+                            *s = (b, d1, d2);
+                            continue;
+                        }
+                    }
+                    *s = (l, u, lo);
+                }
+                changed
+            })
+            .sum();
+        if changed == 0 {
+            break;
+        }
+    }
+    let labels: Vec<usize> = state.iter().map(|s| s.0).collect();
+    let inertia_parts: Vec<f64> = points
+        .data
+        .par_chunks(CHUNK * dim)
+        .zip(labels.par_chunks(CHUNK))
+        .map(|(xs, ls)| {
+            xs.chunks_exact(dim)
+                .zip(ls)
+                .map(|(x, &l)| sqdist(x, centres.row(l)))
+                .sum::<f64>()
+        })
+        .collect();
+    KmeansFit {
+        centres,
+        inertia: inertia_parts.iter().sum(),
+        labels,
+        iterations,
     }
 }
 
