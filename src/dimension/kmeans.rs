@@ -69,6 +69,16 @@ pub fn distortion(points: &Points, centres: &Points) -> Result<f64> {
     Ok(parts.iter().sum::<f64>() / points.n as f64)
 }
 
+/// Squared distance from each point to its nearest centre, in point order (the summands of
+/// [`distortion`]). Callers pass points and centres of one dimension.
+pub(crate) fn point_errors(points: &Points, centres: &Points) -> Vec<f64> {
+    points
+        .data
+        .par_chunks_exact(points.dim.max(1))
+        .map(|x| nearest(x, centres).1)
+        .collect()
+}
+
 /// k-means++ seeding.
 fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
     let dim = points.dim;
