@@ -22,8 +22,7 @@ pub(crate) fn percentile_ci95(
     let mut draw = vec![0usize; n_units];
     let mut reps = Vec::with_capacity(resamples);
     for _ in 0..resamples {
-        draw.iter_mut()
-            .for_each(|d| *d = rng.gen_range(0..n_units));
+        draw.iter_mut().for_each(|d| *d = rng.gen_range(0..n_units));
         if let Some(v) = stat(&draw).filter(|v| v.is_finite()) {
             reps.push(v);
         }

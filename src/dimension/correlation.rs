@@ -8,8 +8,8 @@
 //! cost is O(n_ref·N·dim) instead of O(N²·dim).
 //!
 //! Radii (our rule): the pair-distance quantiles q_j spaced geometrically from
-//! q_lo = max(10⁻⁴, 500 / pairs) to q_hi = min(0.5, max(0.02, 10·q_lo)), so the smallest radius
-//! still holds at least 500 pairs. The local slope between neighbouring radii,
+//! q_lo = max(10⁻⁴, 200 / pairs) (at most 0.05, so at least 4000 pairs) to q_hi = min(0.5, max(0.02, 10·q_lo)), so the smallest radius
+//! still holds at least 200 pairs. The local slope between neighbouring radii,
 //! Δln C / Δln r, is the curve value at scale √(r_j·r_{j+1}); the estimate is the least-squares
 //! slope of ln C on ln r over all radii.
 
@@ -70,7 +70,14 @@ pub fn correlation_counts(
         })
         .collect();
     let pairs = (refs.len() * per) as f64;
-    let q_lo = (500.0 / pairs).max(1e-4);
+    let q_lo = (200.0 / pairs).max(1e-4);
+    if q_lo > 0.05 {
+        return Err(Error::Analysis(format!(
+            "correlation dimension needs at least 4000 pairs, got {pairs} ({} reference points \
+             × {per} others)",
+            refs.len()
+        )));
+    }
     let q_hi = (10.0 * q_lo).max(0.02).min(0.5);
     let mut all: Vec<f64> = rows.iter().flatten().copied().collect();
     let mut radii = Vec::with_capacity(n_radii);

@@ -37,7 +37,9 @@ pub fn average_mutual_information(x: &[f64], max_lag: usize, bins: usize) -> Res
     }
     let (lo, hi) = x
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| (a.min(v), b.max(v)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &v| {
+            (a.min(v), b.max(v))
+        });
     if hi <= lo {
         return Err(Error::Analysis(
             "mutual information: the series is constant".to_string(),

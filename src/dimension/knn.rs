@@ -119,7 +119,8 @@ pub fn knn_table(points: &Points, k: usize) -> Result<(Vec<usize>, Vec<f64>)> {
                         .filter(|&(j, _)| j != i)
                         .map(|(j, xj)| (sqdist(xi, xj), j)),
                 );
-                let cmp = |a: &(f64, usize), b: &(f64, usize)| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1));
+                let cmp =
+                    |a: &(f64, usize), b: &(f64, usize)| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1));
                 if buf.len() > k {
                     buf.select_nth_unstable_by(k - 1, cmp);
                     buf.truncate(k);

@@ -96,7 +96,9 @@ pub fn local_pca_counts(
                     }
                     let mut mean = vec![0.0; dim];
                     for row in x.chunks_exact(dim) {
-                        mean.iter_mut().zip(row).for_each(|(m, v)| *m += v / r as f64);
+                        mean.iter_mut()
+                            .zip(row)
+                            .for_each(|(m, v)| *m += v / r as f64);
                     }
                     for row in x.chunks_exact_mut(dim) {
                         row.iter_mut().zip(&mean).for_each(|(v, m)| *v -= m);
@@ -146,7 +148,10 @@ mod tests {
         // Never more than the two directions that exist; with 10 or more neighbours the two
         // spreads are comparable, so both are needed (a 4-point neighbourhood may be thin).
         assert!(counts.iter().all(|&c| c == 1.0 || c == 2.0), "{counts:?}");
-        assert!(counts.chunks(3).all(|r| r[1] == 2.0 && r[2] == 2.0), "{counts:?}");
+        assert!(
+            counts.chunks(3).all(|r| r[1] == 2.0 && r[2] == 2.0),
+            "{counts:?}"
+        );
         assert!(radii[0] < radii[1] && radii[1] < radii[2]);
         assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], 0.95).is_err());
         assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], 0.0).is_err());

@@ -5,8 +5,8 @@
 //! - TwoNN (Facco, d'Errico, Rodriguez & Laio 2017, Sci. Rep. 7:12140): the ratio μ = r₂/r₁ of
 //!   each point's second to first neighbour distance follows F(μ) = 1 − μ^(−d). Sorting μ and
 //!   setting F̂(μ₍ᵢ₎) = i/N, d is the least-squares slope through the origin of −ln(1 − F̂)
-//!   against ln μ, after discarding the largest `discard_fraction` of the μ; F̂(μ₍ᵢ₎) = i/N with
-//!   i counted from 0, as in scikit-dimension's `TwoNN`.
+//!   against ln μ, after discarding the largest `discard_fraction` of the μ (and always the
+//!   last, where F̂ = 1), as in scikit-dimension 0.5.0's `TwoNN`.
 //! - MLE (Levina & Bickel 2004, NIPS 17) with the MacKay & Ghahramani (2005) correction: for
 //!   each k in k1..=k2 and each point, m̂_k(x)⁻¹ = (k−1)⁻¹ Σ_{j<k} ln(T_k(x)/T_j(x)) with T_j the
 //!   distance to the j-th neighbour; these inverses are averaged over points and inverted, and
@@ -54,18 +54,20 @@ pub fn twonn(points: &Points, discard_fraction: f64) -> Result<f64> {
     })
 }
 
-/// The TwoNN fit on ascending ratios μ: N = `mu_sorted.len()`, keep the ⌊N·(1 − f)⌋ smallest,
-/// F̂(μ₍ᵢ₎) = i/N for i = 0, 1, …, slope through the origin of −ln(1 − F̂) on ln μ. This is the
-/// definition of scikit-dimension's `TwoNN(discard_fraction)` (checked against it in
-/// tests/dimension_skdim.rs). None when fewer than 2 ratios are kept or they are all 1.
+/// The TwoNN fit on ascending ratios μ: N = `mu_sorted.len()`, keep the ⌊N·(1 − f)⌋ smallest
+/// (at most N − 1), F̂(μ₍ᵢ₎) = i/N for i = 1, 2, …, slope through the origin of −ln(1 − F̂) on
+/// ln μ. This is the definition of scikit-dimension 0.5.0's `TwoNN(discard_fraction)` (default
+/// `method="linear"`, duplicates dropped; checked in tests/dimension_skdim.rs), except that at
+/// f = 0 we also drop the largest ratio, where F̂ = 1 and −ln(1 − F̂) is infinite. None when
+/// fewer than 2 ratios are kept or they are all 1.
 pub(crate) fn twonn_fit(mu_sorted: &[f64], discard_fraction: f64) -> Option<f64> {
     let n = mu_sorted.len();
     let keep = ((n as f64) * (1.0 - discard_fraction)).floor() as usize;
-    let keep = keep.min(n);
+    let keep = keep.min(n.saturating_sub(1));
     let (mut sxx, mut sxy) = (0.0, 0.0);
     for (i, &m) in mu_sorted[..keep].iter().enumerate() {
         let x = m.ln();
-        let y = -(1.0 - i as f64 / n as f64).ln();
+        let y = -(1.0 - (i + 1) as f64 / n as f64).ln();
         sxx += x * x;
         sxy += x * y;
     }

@@ -195,7 +195,11 @@ impl SuiteParams {
                 ),
             );
         }
-        if self.mle_curve_ks.iter().any(|&k| !(2..=10_000).contains(&k)) {
+        if self
+            .mle_curve_ks
+            .iter()
+            .any(|&k| !(2..=10_000).contains(&k))
+        {
             return bad(
                 "mle_curve_ks",
                 format!("{:?} neighbours; each 2 to 10000", self.mle_curve_ks),
@@ -217,7 +221,10 @@ impl SuiteParams {
             return bad("local_pca_centres", "0 centres; at least 1".into());
         }
         if self.local_pca_ks.is_empty()
-            || self.local_pca_ks.iter().any(|&k| !(2..=10_000).contains(&k))
+            || self
+                .local_pca_ks
+                .iter()
+                .any(|&k| !(2..=10_000).contains(&k))
         {
             return bad(
                 "local_pca_ks",
@@ -511,7 +518,9 @@ fn run_correlation(sub: &Points, p: &SuiteParams, rng: &mut ChaCha8Rng) -> Resul
     let (d, curve) = c.fit(&all).ok_or_else(|| {
         Error::Analysis("a radius of the correlation sum holds no pair".to_string())
     })?;
-    let ci95 = percentile_ci95(rng, refs.len(), p.bootstrap, |draw| c.fit(draw).map(|f| f.0));
+    let ci95 = percentile_ci95(rng, refs.len(), p.bootstrap, |draw| {
+        c.fit(draw).map(|f| f.0)
+    });
     Ok(MethodEstimate {
         method: Method::Correlation,
         d,
@@ -541,15 +550,8 @@ fn run_local_pca(
         )));
     }
     let centres: Vec<usize> = (0..p.local_pca_centres.min(sub.n)).collect();
-    let (counts, radii) = local_pca_counts(
-        sub,
-        &centres,
-        idx,
-        dist,
-        table_k,
-        &ks,
-        p.local_pca_variance,
-    )?;
+    let (counts, radii) =
+        local_pca_counts(sub, &centres, idx, dist, table_k, &ks, p.local_pca_variance)?;
     let nk = ks.len();
     let curve_of = |which: &[usize]| -> Vec<f64> {
         (0..nk)

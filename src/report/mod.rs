@@ -14,6 +14,7 @@
 //! Design", chosen to stay distinguishable under the common colour-vision deficiencies.
 //! The HDF5 layout is documented in `docs/results-format.md`.
 
+pub mod dimension_figure;
 mod figures;
 mod h5;
 mod html;

@@ -104,6 +104,7 @@ fn sample_analysis() -> Analysis {
             alpha: 1.0,
             t: 1.0,
         },
+        dimension_suite: None,
         dimension: ScalingCurve {
             ks: vec![2, 4, 8, 16],
             distortion: vec![0.5, 0.25, 0.125, 0.0625],
