@@ -6,9 +6,12 @@
 //! random, each next one drawn with probability proportional to the squared distance to the
 //! nearest centre chosen so far; then Lloyd's iterations (Lloyd 1982): assign every point to its
 //! nearest centre (in parallel), move each centre to the mean of its points, until no
-//! assignment changes or `max_iter` is reached. An emptied cluster is re-seeded at the point
-//! farthest from its centre. Sums are accumulated in fixed chunks and added in order, so results
-//! do not depend on the thread count.
+//! assignment changes, the summed squared centre movement falls below 10⁻⁴ × the mean
+//! per-coordinate variance (scikit-learn's `KMeans` default rule), or `max_iter` is reached.
+//! The assignments are exact; Hamerly's (2010) distance bounds only skip distance computations
+//! that cannot change them. An emptied cluster is re-seeded at the point farthest from its
+//! centre. Sums are accumulated in fixed chunks and added in order, so results do not depend on
+//! the thread count.
 
 use super::knn::sqdist;
 use crate::error::{Error, Result};
@@ -20,6 +23,24 @@ use serde::{Deserialize, Serialize};
 
 /// Points per chunk for the parallel centre sums (fixed, so sums are reproducible).
 const CHUNK: usize = 2048;
+/// Convergence tolerance: iterations stop when the summed squared centre movement falls below
+/// this times the mean per-coordinate variance of the points (the rule and default of
+/// scikit-learn's `KMeans(tol=1e-4)`), or when no assignment changes.
+const SHIFT_TOL: f64 = 1e-4;
+
+/// Mean over coordinates of the variance of the points (population variance).
+fn mean_feature_variance(points: &Points) -> f64 {
+    let (n, dim) = (points.n.max(1) as f64, points.dim.max(1));
+    let mut mean = vec![0.0; dim];
+    for row in points.rows() {
+        mean.iter_mut().zip(row).for_each(|(m, v)| *m += v / n);
+    }
+    let mut var = 0.0;
+    for row in points.rows() {
+        var += sqdist(row, &mean);
+    }
+    var / n / dim as f64
+}
 
 /// A k-means solution.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -72,10 +93,11 @@ pub fn distortion(points: &Points, centres: &Points) -> Result<f64> {
 /// Squared distance from each point to its nearest centre, in point order (the summands of
 /// [`distortion`]). Callers pass points and centres of one dimension.
 pub(crate) fn point_errors(points: &Points, centres: &Points) -> Vec<f64> {
-    points
-        .data
-        .par_chunks_exact(points.dim.max(1))
-        .map(|x| nearest(x, centres).1)
+    let c_norms = row_norms(centres);
+    let idx: Vec<usize> = (0..points.n).collect();
+    nearest_two_many(points, &idx, centres, &c_norms)
+        .into_iter()
+        .map(|(_, d, _)| d * d)
         .collect()
 }
 
@@ -117,22 +139,89 @@ fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
     Points { n: k, dim, data }
 }
 
-/// Nearest and second-nearest centre of `x`: (index, distance, second distance), distances not
-/// squared.
-fn nearest_two(x: &[f64], centres: &Points) -> (usize, f64, f64) {
-    let (mut b, mut d1, mut d2) = (0, f64::INFINITY, f64::INFINITY);
-    for (c, row) in centres.rows().enumerate() {
-        let d = sqdist(x, row);
-        if d < d1 {
-            d2 = d1;
-            d1 = d;
-            b = c;
-        } else if d < d2 {
-            d2 = d;
-        }
-    }
-    (b, d1.sqrt(), d2.sqrt())
+/// Rows per block of the matrix-product distance computation.
+const BLOCK: usize = 256;
+
+/// Squared norms of the rows of `p`.
+fn row_norms(p: &Points) -> Vec<f64> {
+    p.rows().map(|r| r.iter().map(|v| v * v).sum()).collect()
 }
+
+/// Nearest and second-nearest centre of each row of `xs` (row-major, `dim` columns):
+/// (index, distance, lower bound on the second distance). Squared distances come from the
+/// expansion |x|² + |c|² − 2x·c with x·c from one blocked matrix product (faer, sequential in
+/// the block; blocks run in parallel), which is what makes large k affordable; the distance to
+/// the chosen centre is then recomputed directly, and the second distance is lowered by a
+/// rounding allowance so that it stays a valid lower bound.
+fn block_nearest_two(
+    xs: &[f64],
+    dim: usize,
+    centres: &Points,
+    c_norms: &[f64],
+) -> Vec<(usize, f64, f64)> {
+    let b = xs.len() / dim.max(1);
+    let k = centres.n;
+    if b == 0 {
+        return Vec::new();
+    }
+    let x = faer::MatRef::from_row_major_slice(xs, b, dim);
+    let c = faer::MatRef::from_row_major_slice(&centres.data, k, dim);
+    let mut prod = faer::Mat::<f64>::zeros(b, k);
+    faer::linalg::matmul::matmul(
+        prod.as_mut(),
+        faer::Accum::Replace,
+        x,
+        c.transpose(),
+        1.0,
+        faer::Par::Seq,
+    );
+    let c_max = c_norms.iter().fold(0.0f64, |a, &v| a.max(v));
+    (0..b)
+        .map(|i| {
+            let row = &xs[i * dim..(i + 1) * dim];
+            let xn: f64 = row.iter().map(|v| v * v).sum();
+            let (mut best, mut d1, mut d2) = (0, f64::INFINITY, f64::INFINITY);
+            for j in 0..k {
+                let d = xn + c_norms[j] - 2.0 * prod[(i, j)];
+                if d < d1 {
+                    d2 = d1;
+                    d1 = d;
+                    best = j;
+                } else if d < d2 {
+                    d2 = d;
+                }
+            }
+            let exact = sqdist(row, centres.row(best)).sqrt();
+            let slack = 1e-10 * (xn + c_max);
+            let second = if d2.is_finite() {
+                (d2 - slack).max(0.0).sqrt()
+            } else {
+                f64::INFINITY
+            };
+            (best, exact, second)
+        })
+        .collect()
+}
+
+/// [`block_nearest_two`] over the rows `idx` of `points`, in parallel blocks, in `idx` order.
+fn nearest_two_many(
+    points: &Points,
+    idx: &[usize],
+    centres: &Points,
+    c_norms: &[f64],
+) -> Vec<(usize, f64, f64)> {
+    let dim = points.dim;
+    idx.par_chunks(BLOCK)
+        .flat_map_iter(|blk| {
+            let mut xs = Vec::with_capacity(blk.len() * dim);
+            for &i in blk {
+                xs.extend_from_slice(points.row(i));
+            }
+            block_nearest_two(&xs, dim, centres, c_norms)
+        })
+        .collect()
+}
+
 
 /// One k-means++ run followed by exact Lloyd iterations accelerated with Hamerly's (2010)
 /// bounds: every point keeps an upper bound on the distance to its centre and a lower bound on
@@ -143,11 +232,9 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
     let dim = points.dim;
     let mut centres = seed_centres(points, k, rng);
     // Per point: (label, upper bound, lower bound).
-    let mut state: Vec<(usize, f64, f64)> = points
-        .data
-        .par_chunks_exact(dim)
-        .map(|x| nearest_two(x, &centres))
-        .collect();
+    let all: Vec<usize> = (0..points.n).collect();
+    let mut state = nearest_two_many(points, &all, &centres, &row_norms(&centres));
+    let tol = SHIFT_TOL * mean_feature_variance(points);
     let mut iterations = 0;
     while iterations < max_iter {
         iterations += 1;
@@ -219,25 +306,35 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
                 m2 = m;
             }
         }
-        let half_gap: Vec<f64> = (0..k)
-            .into_par_iter()
-            .map(|c| {
-                let mut best = f64::INFINITY;
-                for (o, row) in centres.rows().enumerate() {
-                    if o != c {
-                        best = best.min(sqdist(centres.row(c), row));
-                    }
-                }
-                0.5 * best.sqrt()
-            })
-            .collect();
-        let changed: usize = points
+        let c_norms = row_norms(&centres);
+        let half_gap: Vec<f64> = if k == 1 {
+            vec![f64::INFINITY]
+        } else {
+            // Nearest other centre from the matrix product, then a rounding allowance so that
+            // the half gap stays a lower bound.
+            let cm = faer::MatRef::from_row_major_slice(&centres.data, k, dim);
+            let gram = cm * cm.transpose();
+            let c_max = c_norms.iter().fold(0.0f64, |a, &v| a.max(v));
+            (0..k)
+                .map(|c| {
+                    let best = (0..k)
+                        .filter(|&o| o != c)
+                        .map(|o| c_norms[c] + c_norms[o] - 2.0 * gram[(c, o)])
+                        .fold(f64::INFINITY, f64::min);
+                    0.5 * (best - 1e-10 * 2.0 * c_max).max(0.0).sqrt()
+                })
+                .collect()
+        };
+        let shift2: f64 = moved.iter().map(|m| m * m).sum();
+        // Phase 1: bounds; points that may have changed centre are collected in order.
+        let todo: Vec<usize> = points
             .data
             .par_chunks(CHUNK * dim)
             .zip(state.par_chunks_mut(CHUNK))
-            .map(|(xs, st)| {
-                let mut changed = 0;
-                for (x, s) in xs.chunks_exact(dim).zip(st.iter_mut()) {
+            .enumerate()
+            .flat_map_iter(|(ci, (xs, st))| {
+                let mut todo = Vec::new();
+                for (t, (x, s)) in xs.chunks_exact(dim).zip(st.iter_mut()).enumerate() {
                     let (l, mut u, mut lo) = *s;
                     if reseeded {
                         lo = 0.0;
@@ -248,20 +345,24 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
                     if u > bound {
                         u = sqdist(x, centres.row(l)).sqrt();
                         if u > bound {
-                            let (b, d1, d2) = nearest_two(x, &centres);
-                            if b != l {
-                                changed += 1;
-                            }
-                            *s = (b, d1, d2);
-                            continue;
+                            todo.push(ci * CHUNK + t);
                         }
                     }
                     *s = (l, u, lo);
                 }
-                changed
+                todo
             })
-            .sum();
-        if changed == 0 {
+            .collect();
+        // Phase 2: full nearest-two search for those points, by blocked matrix products.
+        let fresh = nearest_two_many(points, &todo, &centres, &c_norms);
+        let mut changed = 0usize;
+        for (&i, f) in todo.iter().zip(fresh) {
+            if f.0 != state[i].0 {
+                changed += 1;
+            }
+            state[i] = f;
+        }
+        if changed == 0 || (!reseeded && shift2 <= tol) {
             break;
         }
     }
