@@ -7,6 +7,7 @@
 //!    16 training points per centre, 30 % held out), and
 //! 2. all five estimates with bootstrap intervals (30 resamples) via `dimension_suite`, using the
 //!    same k-means settings and 5000 points for the neighbour-based estimators.
+//!
 //! Targets (DESIGN.md): ladder < 5 s; all five < 10 s.
 
 use beatfold::dimension::{dimension_suite, kmeans_scaling, KmeansScalingParams, SuiteParams};

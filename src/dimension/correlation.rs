@@ -78,7 +78,7 @@ pub fn correlation_counts(
             refs.len()
         )));
     }
-    let q_hi = (10.0 * q_lo).max(0.02).min(0.5);
+    let q_hi = (10.0 * q_lo).clamp(0.02, 0.5);
     let mut all: Vec<f64> = rows.iter().flatten().copied().collect();
     let mut radii = Vec::with_capacity(n_radii);
     for j in 0..n_radii {

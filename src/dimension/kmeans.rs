@@ -222,7 +222,6 @@ fn nearest_two_many(
         .collect()
 }
 
-
 /// One k-means++ run followed by exact Lloyd iterations accelerated with Hamerly's (2010)
 /// bounds: every point keeps an upper bound on the distance to its centre and a lower bound on
 /// the distance to any other centre; a point whose upper bound is below both its lower bound and

@@ -562,7 +562,7 @@ fn run_local_pca(
     let means = curve_of(&all);
     let d = crate::stats::median(means.iter().copied());
     let ci95 = percentile_ci95(rng, centres.len(), p.bootstrap, |draw| {
-        Some(crate::stats::median(curve_of(draw).into_iter()))
+        Some(crate::stats::median(curve_of(draw)))
     });
     let curve = radii
         .iter()
