@@ -182,7 +182,9 @@ fn draw<DB: DrawingBackend>(s: &DimensionSuite, root: &DrawingArea<DB, Shift>) -
         ))?;
         // The estimate and its interval as a band at the right edge.
         if let Some(e) = est.filter(|e| e.ci95[0].is_finite() && e.ci95[1].is_finite()) {
-            let xr = x1 - pad * 0.5;
+            // One bar per method, side by side in the right margin.
+            let slot = Method::ALL.iter().position(|&x| x == *m).unwrap_or(0) as f64;
+            let xr = x1 - pad * (0.15 + 0.17 * slot);
             ctx(chart.draw_series(std::iter::once(PathElement::new(
                 vec![(xr, e.ci95[0].min(D_TOP)), (xr, e.ci95[1].min(D_TOP))],
                 c.stroke_width(6),
