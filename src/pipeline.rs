@@ -3,7 +3,7 @@
 //! [`Analysis`] is everything the report writes; it is computed here and only read by `report`.
 
 use crate::beats::Score;
-use crate::dimension::ScalingCurve;
+use crate::dimension::{DimensionSuite, ScalingCurve};
 use crate::embed::Embedding;
 use crate::features::Features;
 use crate::record::{Annotations, Lead};
@@ -46,6 +46,10 @@ pub struct Analysis {
     pub embedding: Embedding,
     /// Scale-resolved dimension of the feature rows.
     pub dimension: ScalingCurve,
+    /// The five-estimator dimension suite of the feature rows (k-means scaling, TwoNN, MLE,
+    /// correlation dimension, local PCA, each with a curve and a bootstrap interval); None when
+    /// there were too few beats. Its k-means result is `dimension`.
+    pub dimension_suite: Option<DimensionSuite>,
     /// Time-domain variability of the NN series.
     pub variability: Variability,
     /// Poincaré SD1 and SD2 of the NN series, milliseconds (Brennan et al. 2001).
@@ -78,6 +82,9 @@ use crate::record::Record;
 use crate::rhythm;
 use crate::signal::{self, ConditionParams};
 use serde::Deserialize;
+
+/// Bootstrap resamples of the dimension suite in `analyze`.
+const SUITE_BOOTSTRAP: usize = 20;
 
 /// Fewest beats for which an embedding and a dimension estimate are attempted.
 pub const MIN_BEATS_FOR_GEOMETRY: usize = 30;
@@ -385,17 +392,25 @@ pub fn analyze(
         Err(e) => return Err(e),
     };
     progress(3, STAGES[3]);
-    let (embedding, dim) = if feats.points.n >= MIN_BEATS_FOR_GEOMETRY {
+    let (embedding, dim, dimension_suite) = if feats.points.n >= MIN_BEATS_FOR_GEOMETRY {
         let e = embed::diffusion_map(&feats.points, &p.diffusion)?;
         progress(4, STAGES[4]);
-        let d = dimension::kmeans_scaling(&feats.points, &p.dimension)?;
-        (e, d)
+        let sp = dimension::SuiteParams {
+            seed: p.dimension.seed,
+            bootstrap: SUITE_BOOTSTRAP,
+            kmeans: p.dimension.clone(),
+            ..dimension::SuiteParams::default()
+        };
+        let suite = dimension::dimension_suite(&feats.points, &sp)?;
+        notes.extend(suite.failures.iter().map(|f| format!("dimension: {f}")));
+        let d = suite.kmeans.clone().unwrap_or_else(empty_curve);
+        (e, d, Some(suite))
     } else {
         notes.push(format!(
             "only {} beats with complete windows: at least {MIN_BEATS_FOR_GEOMETRY} are needed for the embedding and the dimension estimate, which were not computed",
             feats.points.n
         ));
-        (empty_embedding(&p.diffusion), empty_curve())
+        (empty_embedding(&p.diffusion), empty_curve(), None)
     };
     progress(5, STAGES[5]);
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
@@ -445,6 +460,7 @@ pub fn analyze(
         features: feats,
         embedding,
         dimension: dim,
+        dimension_suite,
         variability,
         poincare_ms: (sd1_ms, sd2_ms),
         sample_entropy,

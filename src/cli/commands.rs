@@ -104,8 +104,28 @@ pub fn run(cli: Cli) -> Result<()> {
             input,
             method,
             seed,
+            bootstrap,
+            from,
+            embed_dim,
+            delay,
+            max_points,
+            figure,
             json,
-        } => dimension_cmd(&input, &method, seed, json, quiet),
+        } => dimension_cmd(
+            &input,
+            &DimensionOpts {
+                method,
+                seed,
+                bootstrap,
+                from,
+                embed_dim,
+                delay,
+                max_points,
+                figure,
+            },
+            json,
+            quiet,
+        ),
         Command::Rhythm { input, json } => rhythm_cmd(&input, json, quiet),
         Command::Inspect { file } => {
             let text = io::hdf5::inspect(&file)?;
@@ -669,51 +689,201 @@ fn out_path(p: &Option<PathBuf>) -> Option<&Path> {
     p.as_deref()
 }
 
-fn dimension_cmd(
-    input: &InputArgs,
-    method: &str,
+/// Options of the `dimension` command besides input and output switches.
+struct DimensionOpts {
+    method: String,
     seed: u64,
-    json: bool,
-    quiet: bool,
-) -> Result<()> {
+    bootstrap: usize,
+    from: String,
+    embed_dim: usize,
+    delay: Option<usize>,
+    max_points: usize,
+    figure: Option<PathBuf>,
+}
+
+/// Most samples of a conditioned signal that are delay-embedded (the estimators subsample
+/// anyway) and most used for the mutual-information delay.
+const SIGNAL_EMBED_MAX: usize = 2_000_000;
+const AMI_MAX: usize = 200_000;
+
+/// The point cloud of the `dimension` command and a description of where it came from.
+fn dimension_points(
+    input: &InputArgs,
+    opts: &DimensionOpts,
+    o: &Out,
+) -> Result<(beatfold::points::Points, serde_json::Value)> {
+    use beatfold::dimension::delay;
+    let from = opts.from.trim();
+    if !["features", "rr", "signal"].contains(&from) {
+        bail!("--from: `{from}` is not a source; use features, rr or signal");
+    }
+    if io::looks_like_points(&input.input) {
+        if from != "features" {
+            bail!(
+                "--from {from} needs a recording; {} is a point cloud",
+                input.input.display()
+            );
+        }
+        return Ok((io::read_points(&input.input)?, json!({"from": "points"})));
+    }
+    if from == "features" {
+        return Ok((points_of(input, o)?, json!({"from": "features"})));
+    }
+    let (rec, params, _) = load(input, o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let series: Vec<f64> = if from == "rr" {
+        b.rr_s
+    } else {
+        let mut c = b.conditioned;
+        c.truncate(SIGNAL_EMBED_MAX);
+        c
+    };
+    let delay = match opts.delay {
+        Some(d) => d,
+        None => {
+            let x = &series[..series.len().min(AMI_MAX)];
+            let cap = if from == "rr" {
+                50
+            } else {
+                rec.fs_hz.round().max(1.0) as usize
+            };
+            let max_lag = cap.min(x.len() / 4).max(1);
+            delay::ami_delay(x, max_lag, 16)?
+        }
+    };
+    let pts = delay::delay_embed(&series, opts.embed_dim, delay)?;
+    Ok((
+        pts,
+        json!({"from": from, "embed_dim": opts.embed_dim, "delay": delay,
+               "delay_from_ami": opts.delay.is_none(), "series_len": series.len()}),
+    ))
+}
+
+fn dimension_cmd(input: &InputArgs, opts: &DimensionOpts, json: bool, quiet: bool) -> Result<()> {
+    use beatfold::dimension::{dimension_suite, Method, SuiteParams};
     let o = Out {
         quiet: quiet || json,
     };
-    for m in method.split(',') {
-        if m.trim() != "kmeans" {
-            bail!("--method: `{m}` is not available; available: kmeans");
-        }
+    let methods = Method::parse_list(&opts.method)?;
+    let (pts, source) = dimension_points(input, opts, &o)?;
+    let mut kp = params_from(input)?.dimension;
+    kp.seed = opts.seed;
+    let p = SuiteParams {
+        methods,
+        bootstrap: opts.bootstrap,
+        seed: opts.seed,
+        max_points: opts.max_points,
+        kmeans: kp,
+        ..SuiteParams::default()
+    };
+    let s = dimension_suite(&pts, &p)?;
+    let mut written = Vec::new();
+    if let Some(stem) = &opts.figure {
+        written = report::dimension_figure::write_suite_figure(&s, stem)?;
     }
-    let pts = points_of(input, &o)?;
-    let mut p = params_from(input)?.dimension;
-    p.seed = seed;
-    let c = beatfold::dimension::kmeans_scaling(&pts, &p)?;
     if json {
-        let j = json!({
-            "n": pts.n, "ambient_dim": pts.dim,
-            "estimates": {"kmeans": {"d": c.d, "ci95": serde_json::Value::Null}},
-            "scale_curve": c.curve, "noise_scale": c.noise_scale, "notice": NOTICE,
-        });
-        println!("{}", serde_json::to_string_pretty(&j)?);
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&dimension_json(&s, source))?
+        );
         return Ok(());
     }
     o.notice();
-    o.line(format!("{} points in {} dimensions", pts.n, pts.dim));
-    o.line(format!("{:>8} {:>14}", "k", "held-out D(k)"));
-    for (k, d) in c.ks.iter().zip(&c.distortion) {
-        o.line(format!("{k:>8} {d:>14.6e}"));
-    }
-    o.line(format!("{:>12} {:>8}", "scale", "local d"));
-    for sp in &c.curve {
-        o.line(format!("{:>12.5} {:>8.2}", sp.scale, sp.d));
+    o.line(format!(
+        "{} points in {} dimensions ({} used by the neighbour-based estimators; {} bootstrap \
+         resamples)",
+        s.n, s.ambient_dim, s.n_used, s.bootstrap
+    ));
+    if source["from"] != "points" && source["from"] != "features" {
+        o.line(format!(
+            "delay embedding of the {} series: {} coordinates, delay {}{}",
+            source["from"].as_str().unwrap_or(""),
+            source["embed_dim"],
+            source["delay"],
+            if opts.delay.is_none() {
+                " (first minimum of the average mutual information)"
+            } else {
+                ""
+            }
+        ));
     }
     o.line(format!(
-        "plateau d ≈ {:.2}; noise scale {}",
-        c.d,
-        c.noise_scale
-            .map_or("not detected".into(), |s| format!("{s:.5}"))
+        "{:<14} {:>8} {:>18}",
+        "estimator", "d", "95 % interval"
     ));
+    for e in &s.estimates {
+        o.line(format!(
+            "{:<14} {:>8.2} {:>18}",
+            e.method.name(),
+            e.d,
+            if e.ci95[0].is_finite() {
+                format!("[{:.2}, {:.2}]", e.ci95[0], e.ci95[1])
+            } else {
+                "-".to_string()
+            }
+        ));
+    }
+    for e in &s.estimates {
+        let c: Vec<String> = e
+            .curve
+            .iter()
+            .map(|q| format!("{:.2}@{:.4}", q.d, q.scale))
+            .collect();
+        o.line(format!(
+            "{} curve (d@scale): {}",
+            e.method.name(),
+            c.join(" ")
+        ));
+    }
+    o.line(format!(
+        "noise scale (k-means): {}",
+        s.noise_scale
+            .map_or("not detected".into(), |v| format!("{v:.5}"))
+    ));
+    o.warn(&s.failures);
+    for w in written {
+        o.line(format!("wrote {}", w.display()));
+    }
     Ok(())
+}
+
+/// JSON of the `dimension` command (DESIGN.md keys plus one object per method with its curve).
+fn dimension_json(
+    s: &beatfold::dimension::DimensionSuite,
+    source: serde_json::Value,
+) -> serde_json::Value {
+    let num = |x: f64| {
+        if x.is_finite() {
+            json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    let curve = |c: &[beatfold::dimension::ScalePoint]| -> Vec<serde_json::Value> {
+        c.iter()
+            .map(|q| json!({"scale": num(q.scale), "d": num(q.d)}))
+            .collect()
+    };
+    let mut est = serde_json::Map::new();
+    for e in &s.estimates {
+        est.insert(
+            e.method.name().to_string(),
+            json!({"d": num(e.d), "estimate": num(e.d),
+                   "ci95": [num(e.ci95[0]), num(e.ci95[1])], "curve": curve(&e.curve)}),
+        );
+    }
+    json!({
+        "n": s.n,
+        "ambient_dim": s.ambient_dim,
+        "n_used": s.n_used,
+        "bootstrap": s.bootstrap,
+        "estimates": est,
+        "scale_curve": s.kmeans.as_ref().map_or(Vec::new(), |k| curve(&k.curve)),
+        "noise_scale": s.noise_scale.map_or(serde_json::Value::Null, num),
+        "failures": s.failures,
+        "source": source,
+        "notice": NOTICE,
+    })
 }
 
 fn rhythm_cmd(input: &InputArgs, json: bool, quiet: bool) -> Result<()> {

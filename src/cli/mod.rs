@@ -195,17 +195,38 @@ pub enum Command {
         #[command(flatten)]
         opts: EmbedOptions,
     },
-    /// Intrinsic dimension scale by scale (k-means quantization scaling).
+    /// Intrinsic dimension scale by scale: k-means quantization scaling, TwoNN, MLE, correlation
+    /// dimension and local PCA, each with a curve against scale and a bootstrap 95 % interval.
     Dimension {
         /// Input and reading options.
         #[command(flatten)]
         input: InputArgs,
-        /// Estimators, comma separated (available: kmeans).
-        #[arg(long, default_value = "kmeans")]
+        /// Estimators, comma separated (kmeans, twonn, mle, correlation, local_pca; default all).
+        #[arg(long, default_value = "kmeans,twonn,mle,correlation,local_pca")]
         method: String,
         /// Random seed (default 0).
         #[arg(long, default_value_t = 0)]
         seed: u64,
+        /// Bootstrap resamples per interval, 0 to 10000 (default 30; 0 = no intervals).
+        #[arg(long, value_name = "N", default_value_t = 30)]
+        bootstrap: usize,
+        /// Point cloud of a recording: beat features, or a delay embedding of the RR series or of
+        /// the conditioned signal (default features; ignored for a numeric CSV of points).
+        #[arg(long, value_name = "features|rr|signal", default_value = "features")]
+        from: String,
+        /// Delay-embedding dimension for --from rr|signal, 1 to 100 (default 3).
+        #[arg(long, value_name = "M", default_value_t = 3)]
+        embed_dim: usize,
+        /// Delay in beats (rr) or samples (signal), at least 1 (default: first minimum of the
+        /// average mutual information).
+        #[arg(long, value_name = "STEPS")]
+        delay: Option<usize>,
+        /// Most points used by the neighbour-based estimators (default 5000; at least 20).
+        #[arg(long, value_name = "N", default_value_t = 5000)]
+        max_points: usize,
+        /// Also write the figure of d against scale to PATH.svg and PATH.png.
+        #[arg(long, value_name = "PATH")]
+        figure: Option<PathBuf>,
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,

@@ -2,7 +2,12 @@
 //!
 //! In: [`Points`](crate::points::Points). Out: a [`ScalingCurve`] of dimension against scale
 //! from k-means quantization scaling (distortion D(k) ∝ k^(−2/d); Zador 1982, Graf & Luschgy
-//! 2000), measured on held-out points.
+//! 2000), measured on held-out points, and a [`DimensionSuite`] of five estimators — k-means
+//! scaling, TwoNN (Facco et al. 2017), MLE (Levina & Bickel 2004, MacKay & Ghahramani
+//! correction), correlation dimension (Grassberger & Procaccia 1983) and local PCA — each with a
+//! curve against scale and a bootstrap 95 % interval ([`dimension_suite`]). Point clouds from a
+//! scalar series come from a delay embedding (Takens 1981) whose delay is the first minimum of
+//! the average mutual information (Fraser & Swinney 1986) ([`delay`]).
 
 use serde::{Deserialize, Serialize};
 
@@ -45,3 +50,14 @@ mod nn_estimators;
 
 pub use knn::knn_distances;
 pub use nn_estimators::{mle, twonn};
+
+mod bootstrap;
+mod correlation;
+pub mod delay;
+mod local_pca;
+mod suite;
+
+pub use correlation::{correlation_counts, CorrelationCounts};
+pub use knn::knn_table;
+pub use local_pca::local_pca_counts;
+pub use suite::{dimension_suite, DimensionSuite, Method, MethodEstimate, SuiteParams};

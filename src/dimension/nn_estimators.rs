@@ -6,11 +6,12 @@
 //!   each point's second to first neighbour distance follows F(μ) = 1 − μ^(−d). Sorting μ and
 //!   setting F̂(μ₍ᵢ₎) = i/N, d is the least-squares slope through the origin of −ln(1 − F̂)
 //!   against ln μ, after discarding the largest `discard_fraction` of the μ (and always the
-//!   last, where F̂ = 1).
+//!   last, where F̂ = 1), as in scikit-dimension 0.5.0's `TwoNN`.
 //! - MLE (Levina & Bickel 2004, NIPS 17) with the MacKay & Ghahramani (2005) correction: for
 //!   each k in k1..=k2 and each point, m̂_k(x)⁻¹ = (k−1)⁻¹ Σ_{j<k} ln(T_k(x)/T_j(x)) with T_j the
 //!   distance to the j-th neighbour; these inverses are averaged over points and inverted, and
-//!   the per-k values are averaged over k.
+//!   the per-k values are averaged over k. For one k this is scikit-dimension's
+//!   `MLE().fit(X, n_neighbors=k, comb="mle")` (no noise model, `unbiased=False`).
 //!
 //! Points whose nearest neighbour is at distance 0 (duplicates) are left out of both. Both use
 //! exact brute-force neighbours ([`knn_distances`]).
@@ -44,22 +45,40 @@ pub fn twonn(points: &Points, discard_fraction: f64) -> Result<f64> {
         .map(|r| r[1] / r[0])
         .collect();
     mu.sort_by(f64::total_cmp);
-    let n = mu.len();
-    let keep = (((n as f64) * (1.0 - discard_fraction)).floor() as usize).min(n.saturating_sub(1));
+    twonn_fit(&mu, discard_fraction).ok_or_else(|| {
+        Error::Analysis(format!(
+            "TwoNN: too few usable neighbour ratios ({} after removing duplicates, \
+             {discard_fraction} discarded)",
+            mu.len()
+        ))
+    })
+}
+
+/// The TwoNN fit on ascending ratios μ: N = `mu_sorted.len()`, keep the ⌊N·(1 − f)⌋ smallest
+/// (at most N − 1), F̂(μ₍ᵢ₎) = i/N for i = 1, 2, …, slope through the origin of −ln(1 − F̂) on
+/// ln μ. This is the definition of scikit-dimension 0.5.0's `TwoNN(discard_fraction)` (default
+/// `method="linear"`, duplicates dropped; checked in tests/dimension_skdim.rs), except that at
+/// f = 0 we also drop the largest ratio, where F̂ = 1 and −ln(1 − F̂) is infinite. None when
+/// fewer than 2 ratios are kept or they are all 1.
+pub(crate) fn twonn_fit(mu_sorted: &[f64], discard_fraction: f64) -> Option<f64> {
+    let n = mu_sorted.len();
+    let keep = ((n as f64) * (1.0 - discard_fraction)).floor() as usize;
+    let keep = keep.min(n.saturating_sub(1));
     let (mut sxx, mut sxy) = (0.0, 0.0);
-    for (i, &m) in mu[..keep].iter().enumerate() {
+    for (i, &m) in mu_sorted[..keep].iter().enumerate() {
         let x = m.ln();
         let y = -(1.0 - (i + 1) as f64 / n as f64).ln();
         sxx += x * x;
         sxy += x * y;
     }
-    if keep < 2 || sxx <= 0.0 {
-        return Err(Error::Analysis(format!(
-            "TwoNN: only {keep} usable neighbour ratios (duplicates removed, {discard_fraction} \
-             discarded)"
-        )));
-    }
-    Ok(sxy / sxx)
+    (keep >= 2 && sxx > 0.0).then(|| sxy / sxx)
+}
+
+/// Levina–Bickel inverse local estimate at one point for k neighbours:
+/// (k − 1)⁻¹ Σ_{j<k} ln(T_k/T_j), from the ascending neighbour distances `t` (at least k).
+pub(crate) fn mle_inverse(t: &[f64], k: usize) -> f64 {
+    let tk = t[k - 1].ln();
+    t[..k - 1].iter().map(|x| tk - x.ln()).sum::<f64>() / (k - 1) as f64
 }
 
 /// Levina–Bickel maximum-likelihood dimension with the MacKay–Ghahramani correction, averaged
@@ -93,9 +112,7 @@ pub fn mle(points: &Points, k1: usize, k2: usize) -> Result<f64> {
     for k in k1..=k2 {
         let mut inv_sum = 0.0;
         for r in &rows {
-            let tk = r[k - 1].ln();
-            let s: f64 = r[..k - 1].iter().map(|t| tk - t.ln()).sum();
-            inv_sum += s / (k - 1) as f64;
+            inv_sum += mle_inverse(r, k);
         }
         let inv_mean = inv_sum / rows.len() as f64;
         if inv_mean <= 0.0 {

@@ -18,7 +18,7 @@
 //! scale of pair j (None when no such j). The least-squares line ln D = intercept + slope·ln k
 //! is fitted to the k values spanned by the plateau pairs.
 
-use super::kmeans::{distortion, kmeans};
+use super::kmeans::{kmeans, point_errors};
 use super::{ScalePoint, ScalingCurve};
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -51,6 +51,13 @@ pub struct KmeansScalingParams {
     /// before the split, which keeps a day of beats to seconds with plain Lloyd iterations;
     /// 3500 training points still leave more than 13 per centre at k = 256.
     pub max_points: usize,
+    /// Training points per centre (default None = all training points for every k). With
+    /// `Some(m)`, the fit for k uses only the first m·k of the (shuffled) training points, so the
+    /// cost of the ladder grows like Σ k² instead of N·Σ k; the held-out points are the same for
+    /// every k and never used for training, so D(k) stays an out-of-sample measure. A constant
+    /// number of points per centre keeps the small-sample excess of D(k) roughly a constant
+    /// factor, which cancels in the slopes Δln D. Allowed 4 to 1 000 000.
+    pub train_per_centre: Option<usize>,
 }
 
 impl Default for KmeansScalingParams {
@@ -62,6 +69,7 @@ impl Default for KmeansScalingParams {
             holdout_fraction: 0.3,
             seed: 0,
             max_points: 5_000,
+            train_per_centre: None,
         }
     }
 }
@@ -100,6 +108,14 @@ impl KmeansScalingParams {
                 format!("{}; allowed 0.01 to 0.99", self.holdout_fraction),
             ));
         }
+        if let Some(m) = self.train_per_centre {
+            if !(4..=1_000_000).contains(&m) {
+                return Err(Error::param(
+                    "train_per_centre",
+                    format!("{m} training points per centre; allowed 4 to 1000000"),
+                ));
+            }
+        }
         Ok(self)
     }
 }
@@ -119,6 +135,15 @@ fn noise_onset(d: &[f64], plateau: f64) -> usize {
 /// Errors: bad parameters; too few points for the split (at least 8 training and 1 held-out
 /// point); fewer than two usable k (k ≤ training points / 4 and D(k) > 0).
 pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<ScalingCurve> {
+    kmeans_scaling_errors(points, p).map(|(c, _)| c)
+}
+
+/// [`kmeans_scaling`] and, per usable k, the squared error of every held-out point (the
+/// summands of D(k)), for resampling.
+pub(crate) fn kmeans_scaling_errors(
+    points: &Points,
+    p: &KmeansScalingParams,
+) -> Result<(ScalingCurve, Vec<Vec<f64>>)> {
     p.check()?;
     let n_used = points.n.min(p.max_points.max(16));
     let n_hold = (n_used as f64 * p.holdout_fraction).round() as usize;
@@ -135,15 +160,19 @@ pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<Scalin
     idx.shuffle(&mut rng);
     idx.truncate(n_used);
     let (hold_idx, train_idx) = idx.split_at(n_hold);
-    let train = points.select(train_idx);
     let hold = points.select(hold_idx);
 
     let mut ks = Vec::new();
     let mut dist = Vec::new();
+    let mut errors = Vec::new();
     for (i, &k) in p.ks.iter().enumerate() {
         if k > n_train / 4 {
             break;
         }
+        let m = p
+            .train_per_centre
+            .map_or(n_train, |c| c.saturating_mul(k).min(n_train));
+        let train = points.select(&train_idx[..m]);
         let fit = kmeans(
             &train,
             k,
@@ -151,12 +180,14 @@ pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<Scalin
             p.max_iter,
             p.seed.wrapping_add(1 + i as u64),
         )?;
-        let dk = distortion(&hold, &fit.centres)?;
+        let e = point_errors(&hold, &fit.centres);
+        let dk = e.iter().sum::<f64>() / e.len() as f64;
         if dk <= 0.0 {
             break;
         }
         ks.push(k);
         dist.push(dk);
+        errors.push(e);
     }
     if ks.len() < 2 {
         return Err(Error::Analysis(format!(
@@ -167,7 +198,12 @@ pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<Scalin
             n_train / 4
         )));
     }
+    Ok((curve_from_distortion(&ks, &dist), errors))
+}
 
+/// The local-slope curve, plateau, noise scale and plateau fit of a distortion ladder (the rule
+/// of the module notes). `ks` strictly increasing, at least 2, `dist` positive, same length.
+pub(crate) fn curve_from_distortion(ks: &[usize], dist: &[f64]) -> ScalingCurve {
     let curve: Vec<ScalePoint> = ks
         .windows(2)
         .zip(dist.windows(2))
@@ -207,15 +243,15 @@ pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<Scalin
     let sxx: f64 = xs.iter().map(|x| (x - mx) * (x - mx)).sum();
     let sxy: f64 = xs.iter().zip(&ys).map(|(x, y)| (x - mx) * (y - my)).sum();
     let slope = sxy / sxx;
-    Ok(ScalingCurve {
-        ks,
-        distortion: dist,
+    ScalingCurve {
+        ks: ks.to_vec(),
+        distortion: dist.to_vec(),
         curve,
         d: plateau,
         fit_slope: slope,
         fit_intercept: my - slope * mx,
         noise_scale,
-    })
+    }
 }
 
 #[cfg(test)]
@@ -285,6 +321,7 @@ mod tests {
             holdout_fraction: 0.3,
             seed: 2,
             max_points: 20_000,
+            train_per_centre: None,
         };
         let c = kmeans_scaling(&pts, &p).unwrap();
         // Held-out D is a mean of n_hold = 1800 squared errors; for the optimal quantizer the
@@ -316,6 +353,7 @@ mod tests {
             holdout_fraction: 0.3,
             seed: 5,
             max_points: 20_000,
+            train_per_centre: None,
         };
         for (name, rows, want) in [
             ("square", cube(4000, 2, 31), 2.0),

@@ -40,7 +40,7 @@ pub(crate) const SIZE: (u32, u32) = (1800, 1000);
 /// Height of the strip at the bottom that carries the notice.
 const FOOT_PX: u32 = 48;
 /// Font family name the embedded font is registered under.
-pub(super) const FONT: &str = "sans-serif";
+pub(crate) const FONT: &str = "sans-serif";
 
 pub(super) const TITLE_PX: u32 = 40;
 pub(super) const DESC_PX: u32 = 34;
@@ -229,7 +229,7 @@ impl View {
 }
 
 /// Register the embedded font once; plotters looks fonts up by family name.
-fn ensure_font() -> std::result::Result<(), String> {
+pub(crate) fn ensure_font() -> std::result::Result<(), String> {
     static REGISTERED: OnceLock<bool> = OnceLock::new();
     let ok = *REGISTERED.get_or_init(|| {
         plotters::style::register_font(

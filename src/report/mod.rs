@@ -17,6 +17,7 @@
 //! Design", chosen to stay distinguishable under the common colour-vision deficiencies.
 //! The HDF5 layout is documented in `docs/results-format.md`.
 
+pub mod dimension_figure;
 mod figures;
 mod figures_more;
 mod h5;

@@ -15,6 +15,24 @@ fn num(x: f64) -> Value {
     }
 }
 
+/// Per estimator of the dimension suite: `{"d", "ci95": [lo, hi], "curve": [{"scale", "d"}]}`
+/// (an empty object when the suite was not computed).
+fn suite_methods(a: &Analysis) -> Value {
+    let mut m = serde_json::Map::new();
+    for e in a.dimension_suite.iter().flat_map(|s| &s.estimates) {
+        let curve: Vec<Value> = e
+            .curve
+            .iter()
+            .map(|p| json!({"scale": num(p.scale), "d": num(p.d)}))
+            .collect();
+        m.insert(
+            e.method.name().to_string(),
+            json!({"d": num(e.d), "ci95": [num(e.ci95[0]), num(e.ci95[1])], "curve": curve}),
+        );
+    }
+    Value::Object(m)
+}
+
 /// What `summary.json` holds for `a`: notice, version, provenance, beats, variability, detection
 /// score (or `null`), embedding, dimension, parameters and elapsed time.
 ///
@@ -91,6 +109,9 @@ pub fn summary_json(a: &Analysis) -> Value {
             "distortion": d.distortion.iter().map(|&x| num(x)).collect::<Vec<_>>(),
             "fit_slope": num(d.fit_slope),
             "fit_intercept": num(d.fit_intercept),
+            "n_used": a.dimension_suite.as_ref().map(|s| s.n_used),
+            "bootstrap": a.dimension_suite.as_ref().map(|s| s.bootstrap),
+            "methods": suite_methods(a),
         },
         "parameters": a.parameters,
         // Wall time is left out so that the same input and seed give a byte-identical file; it is

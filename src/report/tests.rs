@@ -105,6 +105,7 @@ fn sample_analysis() -> Analysis {
             t: 1.0,
             ..Embedding::default()
         },
+        dimension_suite: None,
         dimension: ScalingCurve {
             ks: vec![2, 4, 8, 16],
             distortion: vec![0.5, 0.25, 0.125, 0.0625],

@@ -151,6 +151,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
             t: 1.0,
             ..Embedding::default()
         },
+        dimension_suite: None,
         dimension: ScalingCurve {
             ks: vec![2, 4, 8, 16],
             distortion: vec![0.5, 0.25, 0.125, 0.0625],

@@ -1,0 +1,65 @@
+//! The `dimension` command: sources, JSON keys, figure, usage errors.
+
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn beatfold(args: &[&str], dir: &Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_beatfold"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("binary runs")
+}
+
+const DEMO: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data/telemetry-night.csv");
+
+#[test]
+fn dimension_command_json_figure_and_errors() {
+    let tmp = tempfile::tempdir().unwrap();
+    let o = beatfold(
+        &[
+            "dimension",
+            DEMO,
+            "--from",
+            "rr",
+            "--bootstrap",
+            "10",
+            "--json",
+            "--figure",
+            "dims",
+        ],
+        tmp.path(),
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    // DESIGN.md keys plus one object per method.
+    for k in [
+        "n",
+        "ambient_dim",
+        "estimates",
+        "scale_curve",
+        "noise_scale",
+    ] {
+        assert!(j.get(k).is_some(), "missing {k}");
+    }
+    assert_eq!(j["ambient_dim"], 3);
+    assert_eq!(j["source"]["from"], "rr");
+    for m in ["kmeans", "twonn", "mle", "correlation", "local_pca"] {
+        let e = &j["estimates"][m];
+        let d = e["d"].as_f64().unwrap();
+        let ci = e["ci95"].as_array().unwrap();
+        assert!(ci[0].as_f64().unwrap() <= ci[1].as_f64().unwrap(), "{m}");
+        // A delay embedding in 3 coordinates cannot exceed 3 dimensions by much at its plateau
+        // (common practice: the ambient dimension bounds the estimate; k-means may overshoot
+        // at fine scales, hence the margin).
+        assert!(d > 0.5 && d < 5.0, "{m}: {d}");
+        assert!(!e["curve"].as_array().unwrap().is_empty(), "{m}");
+    }
+    assert!(tmp.path().join("dims.svg").exists() && tmp.path().join("dims.png").exists());
+
+    let o = beatfold(&["dimension", DEMO, "--from", "beats"], tmp.path());
+    assert_eq!(o.status.code(), Some(2));
+    let o = beatfold(&["dimension", DEMO, "--method", "kmeans,nope"], tmp.path());
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("nope"));
+}
