@@ -263,6 +263,25 @@ fn analyze_and_write(
             "dimension (k-means quantization): d ≈ {:.2}, noise scale {noise}",
             a.dimension.d
         ));
+        if let Some(s) = &a.dimension_suite {
+            let parts: Vec<String> = s
+                .estimates
+                .iter()
+                .map(|e| {
+                    format!(
+                        "{} {:.2} [{:.2}, {:.2}]",
+                        e.method.name(),
+                        e.d,
+                        e.ci95[0],
+                        e.ci95[1]
+                    )
+                })
+                .collect();
+            o.line(format!(
+                "dimension estimates (95 % bootstrap intervals): {}",
+                parts.join(", ")
+            ));
+        }
     }
     for n in &a.notes {
         o.line(format!("note: {n}"));

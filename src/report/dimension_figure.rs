@@ -65,7 +65,11 @@ fn ctx<T, E: std::fmt::Display>(r: std::result::Result<T, E>) -> std::result::Re
     r.map_err(|e| format!("drawing failed: {e}"))
 }
 
-fn draw<DB: DrawingBackend>(s: &DimensionSuite, root: &DrawingArea<DB, Shift>) -> DrawResult {
+/// Draw the suite figure on a whole canvas of the report's figure size.
+pub(super) fn draw_suite<DB: DrawingBackend>(
+    s: &DimensionSuite,
+    root: &DrawingArea<DB, Shift>,
+) -> DrawResult {
     ctx(root.fill(&WHITE))?;
     let (body, foot) = root.split_vertically(SIZE.1 - 48);
     ctx(foot.draw(&Text::new(
@@ -210,7 +214,7 @@ pub fn render_suite_svg(s: &DimensionSuite) -> Result<String> {
     let mut out = String::new();
     {
         let root = SVGBackend::with_string(&mut out, SIZE).into_drawing_area();
-        draw(s, &root).map_err(Error::Analysis)?;
+        draw_suite(s, &root).map_err(Error::Analysis)?;
         root.present()
             .map_err(|e| Error::Analysis(format!("drawing failed: {e}")))?;
     }
@@ -229,7 +233,7 @@ pub fn write_suite_figure(s: &DimensionSuite, stem: &Path) -> Result<Vec<PathBuf
     let tmp = crate::io::temp_sibling(&png_path, ".png")?;
     let drawn = (|| {
         let root = BitMapBackend::new(&tmp, SIZE).into_drawing_area();
-        draw(s, &root)?;
+        draw_suite(s, &root)?;
         root.present().map_err(|e| format!("drawing failed: {e}"))
     })();
     if let Err(m) = drawn {

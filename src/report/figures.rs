@@ -123,7 +123,7 @@ impl Figure {
             Figure::Beats => "Beat windows aligned on the R peak (thin lines, at most 240 shown) and the median template of each beat class (bold; display only).",
             Figure::Embedding => "Diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3 of every beat (at most 3000 per panel, regular stride), coloured as chosen.",
             Figure::Trajectory => "Successive beats joined in diffusion coordinates over the chosen time range (default: the first 60 s), and the coordinates against time.",
-            Figure::Dimension => "Left: k-means quantization distortion against k with the fitted line. Right: local dimension against scale; the shaded band is the noise-dominated regime.",
+            Figure::Dimension => "Local dimension against scale for every estimator (k-means quantization scaling, TwoNN, MLE, correlation dimension, local PCA) with 95 % bootstrap intervals at the right; the shaded band is the noise-dominated regime. Without the estimator suite: k-means distortion against k (left) and its local dimension against scale (right).",
             Figure::Recurrence => "Left: recurrence plot of one window of the beat trajectory in diffusion coordinates. Right: recurrence rate, determinism and laminarity in sliding windows; the shaded band is the window on the left.",
             Figure::Rr => "Left: RR tachogram with irregular-rhythm research-screen episodes shaded (not a diagnosis). Right: Poincaré plot of successive RR intervals.",
         }
@@ -301,6 +301,10 @@ pub(crate) fn write_png(fig: Figure, a: &Analysis, view: &View, path: &Path) -> 
 
 /// Background, notice strip, then the figure body.
 fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<DB>) -> DrawResult {
+    // With the estimator suite computed, the dimension figure shows every estimator.
+    if let (Figure::Dimension, Some(s)) = (fig, a.dimension_suite.as_ref()) {
+        return super::dimension_figure::draw_suite(s, root);
+    }
     root.fill(&WHITE).ctx()?;
     let (body, foot) = root.split_vertically(SIZE.1 - FOOT_PX);
     foot.draw(&Text::new(

@@ -204,6 +204,22 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     g.create_dataset("scale_curve")
         .with_f64_data(&curve)
         .with_shape(&[d.curve.len() as u64, 2]);
+    // The estimator suite, when computed: per method an estimate, its bootstrap interval and
+    // its curve of local dimension against scale.
+    if let Some(s) = &a.dimension_suite {
+        g.set_attr("suite_bootstrap", AttrValue::U64(s.bootstrap as u64));
+        g.set_attr("suite_n_used", AttrValue::U64(s.n_used as u64));
+        for e in &s.estimates {
+            let name = e.method.name();
+            g.set_attr(&format!("{name}_d"), AttrValue::F64(e.d));
+            g.set_attr(&format!("{name}_ci95_low"), AttrValue::F64(e.ci95[0]));
+            g.set_attr(&format!("{name}_ci95_high"), AttrValue::F64(e.ci95[1]));
+            let c: Vec<f64> = e.curve.iter().flat_map(|p| [p.scale, p.d]).collect();
+            g.create_dataset(&format!("{name}_curve"))
+                .with_f64_data(&c)
+                .with_shape(&[e.curve.len() as u64, 2]);
+        }
+    }
     b.add_group(g.finish());
 
     // /rhythm
