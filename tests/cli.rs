@@ -27,7 +27,15 @@ fn summary(dir: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap()
 }
 
-const FIGURES: [&str; 5] = ["trace", "beats", "embedding", "dimension", "rr"];
+const FIGURES: [&str; 7] = [
+    "trace",
+    "beats",
+    "embedding",
+    "trajectory",
+    "dimension",
+    "recurrence",
+    "rr",
+];
 
 fn assert_outputs(dir: &Path) {
     for f in ["report.html", "summary.json", "results.h5"] {
@@ -392,4 +400,68 @@ fn hdf5_signal_input_and_inspect() {
             "inspect output lacks {needle}:\n{text}"
         );
     }
+}
+
+#[test]
+fn rhythm_windows_follow_the_synthetic_ground_truth() {
+    // A synthetic resting recording (exact beats known): the windowed mean heart rate of
+    // `beatfold rhythm` agrees with the rate computed from the ground-truth beats of the same
+    // window (Task Force 1996 definition: 60 / mean NN), within 1 bpm.
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    ok(&beatfold(
+        &[
+            "synth",
+            "--out",
+            "r.csv",
+            "--minutes",
+            "4",
+            "--seed",
+            "11",
+            "--quiet",
+        ],
+        d,
+    ));
+    let out = ok(&beatfold(
+        &[
+            "rhythm",
+            "r.csv",
+            "--window",
+            "60s",
+            "--windows-out",
+            "w.csv",
+            "--json",
+        ],
+        d,
+    ));
+    let j: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let wins = j["windows"].as_array().unwrap();
+    // 4 minutes, 60 s windows every 30 s: 7 windows (the last one may fall short of the end).
+    assert!((6..=7).contains(&wins.len()), "{} windows", wins.len());
+    let csv = std::fs::read_to_string(d.join("w.csv")).unwrap();
+    assert_eq!(csv.lines().count(), wins.len() + 1);
+    let ann = std::fs::read_to_string(d.join("r.annotations.csv")).unwrap();
+    let beats: Vec<f64> = ann
+        .lines()
+        .filter(|l| l.starts_with("beat,"))
+        .filter_map(|l| l.split(',').nth(2)?.parse().ok())
+        .collect();
+    assert!(beats.len() > 200);
+    for w in wins {
+        let (a, b) = (w["start_s"].as_f64().unwrap(), w["end_s"].as_f64().unwrap());
+        let rr: Vec<f64> = beats
+            .windows(2)
+            .filter(|p| p[1] > a && p[1] <= b)
+            .map(|p| p[1] - p[0])
+            .collect();
+        let truth = 60.0 * rr.len() as f64 / rr.iter().sum::<f64>();
+        let got = w["mean_hr_bpm"].as_f64().unwrap();
+        assert!(
+            (got - truth).abs() < 1.0,
+            "window {a}-{b}: {got} vs {truth}"
+        );
+    }
+    // A malformed window is refused before anything is read (exit 2).
+    let bad = beatfold(&["rhythm", "r.csv", "--window", "5x"], d);
+    assert_eq!(bad.status.code(), Some(2));
 }

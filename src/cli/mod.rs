@@ -241,6 +241,16 @@ pub enum Command {
         /// Input and reading options.
         #[command(flatten)]
         input: InputArgs,
+        /// Sliding window for variability: seconds (`300s`), minutes (`5m`) or RR intervals
+        /// (`128b`). Default 5m.
+        #[arg(long, default_value = "5m", value_name = "SPAN")]
+        window: String,
+        /// Step between windows, in the window's unit (default: half the window).
+        #[arg(long, value_name = "SPAN")]
+        step: Option<String>,
+        /// Write the per-window variability as CSV to this file.
+        #[arg(long, value_name = "CSV")]
+        windows_out: Option<PathBuf>,
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,

@@ -1,6 +1,7 @@
 //! Rhythm: time-domain variability of the RR series (Task Force of ESC/NASPE 1996), entropies
 //! and Poincaré descriptors ([`entropy`]), a windowed irregular-rhythm research screen
-//! ([`screen`]) and recurrence quantification of a beat trajectory ([`recurrence`]).
+//! ([`screen`]), recurrence quantification of a beat trajectory ([`recurrence`]) and
+//! variability in sliding windows ([`windowed`]).
 //!
 //! In: RR intervals in seconds (and, for recurrence, one point per beat). Out: [`Variability`],
 //! [`screen::Screen`], [`recurrence::RqaWindow`]s.
@@ -8,6 +9,7 @@
 pub mod entropy;
 pub mod recurrence;
 pub mod screen;
+pub mod windowed;
 
 use serde::{Deserialize, Serialize};
 
