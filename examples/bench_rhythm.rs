@@ -43,7 +43,10 @@ fn main() -> anyhow::Result<()> {
     let pts = Points { n, dim: 3, data };
     let p = RqaParams::default();
     let w = best_of_3(
-        &format!("RQA timeline, {n} beats, window {} step {}", p.window, p.step),
+        &format!(
+            "RQA timeline, {n} beats, window {} step {}",
+            p.window, p.step
+        ),
         || rqa_timeline(&pts, &p),
     )?;
     println!(
