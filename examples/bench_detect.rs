@@ -50,7 +50,7 @@ fn main() -> anyhow::Result<()> {
     best_of_3("Pan & Tompkins (1985) alone", || {
         beatfold::beats::pan_tompkins(x, rec.fs_hz, &p.pan_tompkins)
     })?;
-    best_of_3(
+    let (c, el) = best_of_3(
         "conditioning + primary detection (Elgendi), side by side",
         || {
             rayon::join(
@@ -59,6 +59,8 @@ fn main() -> anyhow::Result<()> {
             )
         },
     );
+    c?;
+    el?;
     let c = beatfold::signal::condition(x, rec.fs_hz, &p.condition)?;
     let el = beatfold::beats::elgendi(x, rec.fs_hz, &p.elgendi)?;
     best_of_3("heuristic beat labels", || {
