@@ -124,6 +124,10 @@ pub struct AnalyzeParams {
     pub screen: crate::rhythm::screen::ScreenParams,
     /// Recurrence quantification of the embedded beat trajectory.
     pub recurrence: crate::rhythm::recurrence::RqaParams,
+    /// Records with at most this many beats are embedded with the dense kernel (every pair of
+    /// beats; `diffusion.neighbors` is then ignored); larger ones on the kNN graph. Default
+    /// 2000; 0 always uses the graph.
+    pub dense_kernel_max_beats: usize,
     /// Diffusion coordinates used as the trajectory for recurrence (default 3).
     pub recurrence_components: usize,
     /// Quality segment length, seconds.
@@ -152,6 +156,7 @@ impl Default for AnalyzeParams {
             dimension: KmeansScalingParams::default(),
             screen: crate::rhythm::screen::ScreenParams::default(),
             recurrence: crate::rhythm::recurrence::RqaParams::default(),
+            dense_kernel_max_beats: 2000,
             recurrence_components: 3,
             quality_segment_s: 10.0,
             score_window_s: 0.150,
@@ -393,7 +398,18 @@ pub fn analyze(
     };
     progress(3, STAGES[3]);
     let (embedding, dim, dimension_suite) = if feats.points.n >= MIN_BEATS_FOR_GEOMETRY {
-        let e = embed::diffusion_map(&feats.points, &p.diffusion)?;
+        // Small records: every pair enters the kernel (the dense form of Coifman & Lafon 2006);
+        // a kNN graph of a few hundred beats splits into near-disconnected pieces.
+        let e = if feats.points.n <= p.dense_kernel_max_beats && p.diffusion.neighbors > 0 {
+            let dense = DiffusionParams {
+                neighbors: 0,
+                max_fit_points: feats.points.n.clamp(p.diffusion.components + 2, 5000),
+                ..p.diffusion.clone()
+            };
+            embed::diffusion_map(&feats.points, &dense)?
+        } else {
+            embed::diffusion_map(&feats.points, &p.diffusion)?
+        };
         progress(4, STAGES[4]);
         let sp = dimension::SuiteParams {
             seed: p.dimension.seed,
