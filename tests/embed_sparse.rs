@@ -215,3 +215,31 @@ fn pca_reduction_and_saved_model_round_trip() {
     let b = back.extend(&pts).unwrap();
     assert_eq!(a, b);
 }
+
+#[test]
+fn small_graphs_are_solved_densely_with_the_same_spectrum() {
+    // A 65-point graph (a one-minute record): the Krylov space would be as large as the matrix
+    // (this once panicked inside the solver); the dense path must give the circle's paired
+    // spectrum just as the iterative path does for large graphs. Source: Coifman & Lafon
+    // (2006), circle Laplace–Beltrami eigenvalues m² in pairs; evenly spaced points, so the
+    // pairs are exact and the ratios within ±25 % (ε m² corrections at these small N).
+    for n in [30usize, 65, 400] {
+        let data: Vec<f64> = (0..n)
+            .flat_map(|i| {
+                let t = 2.0 * PI * i as f64 / n as f64;
+                [t.cos(), t.sin()]
+            })
+            .collect();
+        let pts = Points { n, dim: 2, data };
+        let eps = (2.0 * PI / n as f64).powi(2) * 4.0;
+        let emb = diffusion_map(&pts, &sparse(eps, 12, 4)).unwrap();
+        assert!(emb.coords.iter().all(|v| v.is_finite()));
+        let e = &emb.eigenvalues;
+        let base = ((1.0 - e[0]) + (1.0 - e[1])) / 2.0;
+        let r: Vec<f64> = e.iter().map(|l| (1.0 - l) / base).collect();
+        for (x, w) in r.iter().zip([1.0, 1.0, 4.0, 4.0]) {
+            assert!((x / w - 1.0).abs() < 0.25, "n {n}: ratios {r:?}");
+        }
+        assert!(emb.residual < 1e-8, "n {n}: residual {}", emb.residual);
+    }
+}

@@ -269,7 +269,13 @@ pub enum Solver {
     ShiftInvert,
     /// Krylov–Schur on (I + S)/2 (after a failed factorisation).
     Direct,
+    /// Dense symmetric eigendecomposition (small graphs, where a Krylov space would be as large
+    /// as the matrix).
+    Dense,
 }
+
+/// Graphs up to this many points are solved densely (at most 8 MB of matrix).
+pub const DENSE_MAX_POINTS: usize = 1000;
 
 /// Top eigenpairs of a sparse symmetric S.
 #[derive(Debug, Clone)]
@@ -318,6 +324,37 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             "eigensolver: {nev} eigenpairs asked of a {n}-point graph"
         )));
     }
+    let (values, vectors, solver) = if n <= DENSE_MAX_POINTS || (2 * nev + 20).max(40) >= n {
+        dense_eigen(s, nev)?
+    } else {
+        iterative_eigen(s, nev, seed)?
+    };
+    finish(s, nev, values, vectors, solver)
+}
+
+/// All eigenpairs of the dense copy of `s`; the `nev` largest returned.
+fn dense_eigen(s: &SymCsr, nev: usize) -> Result<(Vec<f64>, Mat<f64>, Solver)> {
+    let n = s.n;
+    let mut a = Mat::<f64>::zeros(n, n);
+    for i in 0..n {
+        for e in s.ptr[i]..s.ptr[i + 1] {
+            a[(i, s.col[e])] = s.val[e];
+        }
+    }
+    let eig = a
+        .self_adjoint_eigen(faer::Side::Lower)
+        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    let vals = eig.S().column_vector();
+    let u = eig.U();
+    // Dense eigenvalues come in non-decreasing order.
+    let values = (0..nev).map(|l| vals[n - 1 - l]).collect();
+    let vectors = Mat::<f64>::from_fn(n, nev, |i, j| u[(i, n - 1 - j)]);
+    Ok((values, vectors, Solver::Dense))
+}
+
+/// Shift-invert or direct Krylov–Schur (see the module notes).
+fn iterative_eigen(s: &SymCsr, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>, Solver)> {
+    let n = s.n;
     // Lower triangle of A = (1+σ)I − S.
     let mut trip = Vec::with_capacity(s.nnz() / 2 + n);
     for i in 0..n {
@@ -362,6 +399,18 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             (lam, v, Solver::Direct)
         }
     };
+    Ok((values, vectors, solver))
+}
+
+/// Sort the pairs non-increasing and measure the residuals.
+fn finish(
+    s: &SymCsr,
+    nev: usize,
+    values: Vec<f64>,
+    vectors: Mat<f64>,
+    solver: Solver,
+) -> Result<TopEigen> {
+    let n = s.n;
     // Sort non-increasing.
     let mut order: Vec<usize> = (0..nev).collect();
     order.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
