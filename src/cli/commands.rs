@@ -127,6 +127,7 @@ pub fn run(cli: Cli) -> Result<()> {
             quiet,
         ),
         Command::Rhythm { input, json } => rhythm_cmd(&input, json, quiet),
+        Command::Cohort(args) => super::cohort::cohort_cmd(&args, quiet),
         Command::Inspect { file } => {
             let text = io::hdf5::inspect(&file)?;
             if !quiet {
