@@ -473,7 +473,22 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
     }
     // A stale manifest must not describe the files about to be replaced.
     let _ = std::fs::remove_file(dir.join(MANIFEST_FILE));
-    let result = hashes.and_then(|h| analyse_one(spec, &dir, opts).map(|row| (h, row)));
+    // A panic inside a stage (a bug, not bad data) must not take the other records down: it
+    // becomes this record's error row.
+    let result = hashes.and_then(|h| {
+        std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            analyse_one(spec, &dir, opts)
+        }))
+        .unwrap_or_else(|p| {
+            let what = p
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| p.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "no message".to_string());
+            Err(Error::Analysis(format!("internal failure (panic: {what})")))
+        })
+        .map(|row| (h, row))
+    });
     match result {
         Ok((h, row)) => {
             write_json(&dir.join(ROW_FILE), &row)?;

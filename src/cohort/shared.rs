@@ -28,10 +28,12 @@ pub struct SharedParams {
     pub seed: u64,
     /// Most beats sampled from one record (default 300; 1 to 100 000).
     pub per_record: usize,
-    /// Most beats in the whole fit sample (default 5000; at least 10, at most 200 000); the
-    /// share per record is `min(per_record, max_total / records)`.
+    /// Most beats in the whole fit sample (default 2000; 10 to 5000 with the dense kernel,
+    /// to 200 000 with a sparse one); the share per record is `min(per_record, max_total /
+    /// records)`.
     pub max_total: usize,
-    /// The diffusion map (default: `analyze`'s, with 5 coordinates).
+    /// The diffusion map (default: `analyze`'s local scaling with 5 coordinates and a dense
+    /// kernel, so that a fit beat extended by Nyström lands exactly on its fit coordinates).
     pub diffusion: DiffusionParams,
 }
 
@@ -40,10 +42,12 @@ impl Default for SharedParams {
         SharedParams {
             seed: 0,
             per_record: 300,
-            max_total: 5000,
+            max_total: 2000,
             diffusion: DiffusionParams {
                 components: 5,
                 landmark_check: 0,
+                neighbors: 0,
+                max_fit_points: embed::MAX_FIT_POINTS,
                 ..crate::pipeline::AnalyzeParams::default().diffusion
             },
         }
@@ -59,10 +63,23 @@ impl SharedParams {
                 format!("{} beats; allowed 1 to 100000", self.per_record),
             ));
         }
-        if !(10..=200_000).contains(&self.max_total) {
+        let cap = if self.diffusion.neighbors == 0 {
+            embed::MAX_FIT_POINTS
+        } else {
+            200_000
+        };
+        if !(10..=cap).contains(&self.max_total) {
             return Err(Error::param(
                 "max_total",
-                format!("{} beats; allowed 10 to 200000", self.max_total),
+                format!(
+                    "{} beats; allowed 10 to {cap} (the {} kernel)",
+                    self.max_total,
+                    if self.diffusion.neighbors == 0 {
+                        "dense"
+                    } else {
+                        "sparse"
+                    }
+                ),
             ));
         }
         self.diffusion.check()?;
@@ -189,7 +206,12 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
     let fit_pts = Points::new(members.len(), dim, sample)?;
     let mut dp = sp.diffusion.clone();
     dp.seed = sp.seed;
-    dp.max_fit_points = dp.max_fit_points.max(fit_pts.n);
+    let cap = if dp.neighbors == 0 {
+        embed::MAX_FIT_POINTS
+    } else {
+        embed::MAX_SPARSE_FIT_POINTS
+    };
+    dp.max_fit_points = fit_pts.n.clamp(dp.components + 2, cap);
     let model = embed::fit(&fit_pts, &dp)?;
     let c = model.components();
     // Fit coordinates of each sample member (landmark order → sample order).
