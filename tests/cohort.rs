@@ -154,6 +154,10 @@ fn resume_after_interruption_gives_identical_outputs() {
     let listed: Vec<&str> = m.files.iter().map(|f| f.0.as_str()).collect();
     assert!(listed.contains(&"results.h5") && listed.contains(&"row.json"));
     assert!(!listed.iter().any(|f| f.contains(".tmp-")));
+    assert!(
+        !dir.join(".results.h5.tmp-1-0").exists(),
+        "stale temporary removed"
+    );
     let h = m.files.iter().find(|f| f.0 == "results.h5").unwrap();
     assert_eq!(
         h.1,

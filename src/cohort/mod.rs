@@ -471,8 +471,11 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
             return Ok(Outcome::Skipped);
         }
     }
-    // A stale manifest must not describe the files about to be replaced.
+    // A stale manifest must not describe the files about to be replaced, and temporary files
+    // left by an interrupted run of this record are of no further use (no other run writes
+    // into this record's folder at the same time: shards own disjoint records).
     let _ = std::fs::remove_file(dir.join(MANIFEST_FILE));
+    remove_stale_temps(&dir);
     // A panic inside a stage (a bug, not bad data) must not take the other records down: it
     // becomes this record's error row.
     let result = hashes.and_then(|h| {
@@ -518,6 +521,22 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
             );
             write_json(&dir.join(ROW_FILE), &row)?;
             Ok(Outcome::Failed)
+        }
+    }
+}
+
+/// Remove hidden temporary files (`.name.tmp-…`, as `io::temp_sibling` makes them) from `dir`
+/// and its `figures/` folder; failures are ignored (they only leave clutter).
+fn remove_stale_temps(dir: &Path) {
+    for d in [dir.to_path_buf(), dir.join("figures")] {
+        let Ok(rd) = std::fs::read_dir(&d) else {
+            continue;
+        };
+        for ent in rd.flatten() {
+            let name = ent.file_name().to_string_lossy().into_owned();
+            if name.starts_with('.') && name.contains(".tmp-") {
+                let _ = std::fs::remove_file(ent.path());
+            }
         }
     }
 }
