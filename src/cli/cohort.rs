@@ -40,8 +40,8 @@ pub struct CohortArgs {
     /// Most beats sampled from one record for the shared embedding, 1 to 100000 (default 300).
     #[arg(long, value_name = "N", default_value_t = 300)]
     pub per_record: usize,
-    /// Most beats in the shared embedding's fit sample, 10 to 5000 (default 2000).
-    #[arg(long, value_name = "N", default_value_t = 2000)]
+    /// Most beats in the shared embedding's fit sample, 10 to 5000 (default 1000).
+    #[arg(long, value_name = "N", default_value_t = 1000)]
     pub max_total: usize,
 }
 

@@ -28,7 +28,7 @@ pub struct SharedParams {
     pub seed: u64,
     /// Most beats sampled from one record (default 300; 1 to 100 000).
     pub per_record: usize,
-    /// Most beats in the whole fit sample (default 2000; 10 to 5000 with the dense kernel,
+    /// Most beats in the whole fit sample (default 1000; 10 to 5000 with the dense kernel,
     /// to 200 000 with a sparse one); the share per record is `min(per_record, max_total /
     /// records)`.
     pub max_total: usize,
@@ -42,7 +42,7 @@ impl Default for SharedParams {
         SharedParams {
             seed: 0,
             per_record: 300,
-            max_total: 2000,
+            max_total: 1000,
             diffusion: DiffusionParams {
                 components: 5,
                 landmark_check: 0,
