@@ -13,6 +13,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 pub mod beats;
+pub mod cohort;
 pub mod dimension;
 pub mod embed;
 pub mod error;

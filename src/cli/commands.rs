@@ -140,6 +140,7 @@ pub fn run(cli: Cli) -> Result<()> {
             json,
             quiet,
         ),
+        Command::Cohort(args) => super::cohort::cohort_cmd(&args, quiet),
         Command::Inspect { file } => {
             let text = io::hdf5::inspect(&file)?;
             if !quiet {

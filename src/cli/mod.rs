@@ -2,6 +2,7 @@
 //! runs library stages and prints results. Every command prints the research-use notice unless
 //! `--json` (where the notice is a key) or `--quiet` is given.
 
+pub mod cohort;
 pub mod commands;
 
 use clap::{Args, Parser, Subcommand};
@@ -231,6 +232,10 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Analyse many records in parallel (a folder or a manifest CSV): per-record reports, a
+    /// cohort table (cohort.csv, cohort.h5), a cohort page and one shared embedding. Resumable;
+    /// `--shard I/N` for a cluster, then `beatfold cohort merge OUT`.
+    Cohort(cohort::CohortArgs),
     /// Print a readable summary of an HDF5 file, such as a results file.
     Inspect {
         /// The HDF5 file.

@@ -19,6 +19,8 @@
 
 pub mod dimension_figure;
 mod figures;
+/// The embedded figure font, shared with other figure writers (e.g. the cohort's).
+pub(crate) use figures::{ensure_font, FONT};
 mod figures_more;
 mod h5;
 mod html;

@@ -1,0 +1,150 @@
+//! `beatfold cohort`: flags and glue over [`beatfold::cohort`] (a run, one shard of a run, or the
+//! merge of shard outputs). No analysis happens here.
+
+use anyhow::{bail, Result};
+use beatfold::cohort::{self, CohortOptions, Shard, SharedParams, Status};
+use beatfold::pipeline::AnalyzeParams;
+use beatfold::NOTICE;
+use clap::{Args, Subcommand};
+use std::path::{Path, PathBuf};
+
+/// Options of `beatfold cohort`.
+#[derive(Debug, Args)]
+#[command(args_conflicts_with_subcommands = true)]
+pub struct CohortArgs {
+    /// `merge OUT`: build the table and shared embedding from shard outputs.
+    #[command(subcommand)]
+    pub action: Option<CohortAction>,
+    /// Folder of recordings, or a manifest CSV `path[,lead][,reference][,group]` (a folder
+    /// literally named `merge` must be written `./merge`).
+    pub input: Option<PathBuf>,
+    /// Output folder (required).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+    /// Worker threads, one record each at a time, 1 to 1024 (default: available cores).
+    #[arg(long, value_name = "N")]
+    pub jobs: Option<usize>,
+    /// Process only shard I of N (zero-based: 0/4 … 3/4; records at sorted positions i with
+    /// i mod N = I) and do not merge.
+    #[arg(long, value_name = "I/N")]
+    pub shard: Option<String>,
+    /// JSON file of analysis parameters applied to every record (see docs/methods.md).
+    #[arg(long, value_name = "FILE")]
+    pub config: Option<PathBuf>,
+    /// Sampling rate in Hz for files without one (no default).
+    #[arg(long = "fs", value_name = "HZ")]
+    pub fs_hz: Option<f64>,
+    /// Seed of the shared embedding's beat sample and fit (default 0).
+    #[arg(long, default_value_t = 0)]
+    pub seed: u64,
+    /// Most beats sampled from one record for the shared embedding, 1 to 100000 (default 300).
+    #[arg(long, value_name = "N", default_value_t = 300)]
+    pub per_record: usize,
+    /// Most beats in the shared embedding's fit sample, 10 to 5000 (default 1000).
+    #[arg(long, value_name = "N", default_value_t = 1000)]
+    pub max_total: usize,
+}
+
+/// Sub-actions of `beatfold cohort`.
+#[derive(Debug, Subcommand)]
+pub enum CohortAction {
+    /// Merge shard outputs in OUT into cohort.csv, cohort.h5, cohort.html and the shared
+    /// embedding.
+    Merge {
+        /// The output folder the shards wrote into.
+        out: PathBuf,
+    },
+}
+
+fn print_merge(m: &cohort::MergeSummary, out: &Path, quiet: bool) {
+    if quiet {
+        return;
+    }
+    let ok = m.rows.iter().filter(|r| r.status == Status::Ok).count();
+    println!(
+        "cohort: {} records, {ok} ok, {} with errors",
+        m.rows.len(),
+        m.rows.len() - ok
+    );
+    for r in m.rows.iter().filter(|r| r.status == Status::Error) {
+        println!("  error {}: {}", r.name, r.error);
+    }
+    if let Some(s) = &m.shared {
+        println!(
+            "shared embedding: {} beats from {} records, {} coordinates",
+            s.fit_points, s.records, s.components
+        );
+    }
+    for n in &m.notes {
+        println!("note: {n}");
+    }
+    println!("table: {}", out.join("cohort.csv").display());
+    println!("page: {}", out.join("cohort.html").display());
+}
+
+/// Run `beatfold cohort`.
+pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
+    if let Some(CohortAction::Merge { out }) = &a.action {
+        let m = cohort::merge(out)?;
+        if !quiet {
+            println!("NOTICE: {NOTICE}");
+        }
+        print_merge(&m, out, quiet);
+        return Ok(());
+    }
+    let Some(input) = &a.input else {
+        bail!("cohort: give a folder of recordings or a manifest CSV (or `merge OUT`)");
+    };
+    let Some(out) = &a.out else {
+        bail!("cohort: --out DIR is required");
+    };
+    let params = match &a.config {
+        Some(c) => AnalyzeParams::from_json_file(c)?,
+        None => AnalyzeParams::default(),
+    };
+    let jobs = a.jobs.unwrap_or_else(|| {
+        std::thread::available_parallelism()
+            .map(|n| n.get())
+            .unwrap_or(1)
+    });
+    let opts = CohortOptions {
+        params,
+        jobs,
+        shard: a.shard.as_deref().map(Shard::parse).transpose()?,
+        fs_hz: a.fs_hz,
+        shared: SharedParams {
+            seed: a.seed,
+            per_record: a.per_record,
+            max_total: a.max_total,
+            ..SharedParams::default()
+        },
+        ..CohortOptions::default()
+    };
+    if !quiet {
+        println!("NOTICE: {NOTICE}");
+    }
+    let progress = |done: usize, total: usize| {
+        if !quiet {
+            eprintln!("[{done}/{total}] records done");
+        }
+    };
+    let s = cohort::run_with_progress(input, out, &opts, &progress)?;
+    if !quiet {
+        println!(
+            "{} of {} records in this run: {} analysed, {} already complete, {} failed",
+            s.selected, s.total, s.analysed, s.skipped, s.failed
+        );
+    }
+    match &s.merged {
+        Some(m) => print_merge(m, out, quiet),
+        None => {
+            if !quiet {
+                println!(
+                    "shard done; when every shard has run: beatfold cohort merge {}",
+                    out.display()
+                );
+            }
+        }
+    }
+    Ok(())
+}
