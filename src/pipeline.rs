@@ -374,7 +374,7 @@ pub fn analyze(
     progress(1, STAGES[1]);
     let b = detect_beats(rec, p)?;
     progress(2, STAGES[2]);
-    let mut notes = Vec::new();
+    let mut notes = signal::quality::quality_notes(&quality);
     let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
         Ok(f) => f,
         Err(Error::Analysis(msg)) => {

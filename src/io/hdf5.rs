@@ -55,6 +55,35 @@ fn open(path: &Path) -> Result<File> {
 /// Every dataset path in the file (depth-first, sorted within each group).
 pub fn dataset_paths(path: &Path) -> Result<Vec<String>> {
     let f = open(path)?;
+    dataset_paths_of(path, &f)
+}
+
+/// Read a signal dataset (`dataset` like `/ecg` or `signals/lead2`) as a record.
+pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Result<Loaded> {
+    let f = open(path)?;
+    record_from_file(path, &f, dataset, fs_hz)
+}
+
+/// [`read_record`] on the file's bytes already in memory; `path` gives the record name and the
+/// file named in errors.
+pub fn read_record_from_bytes(
+    path: &Path,
+    bytes: &[u8],
+    dataset: Option<&str>,
+    fs_hz: Option<f64>,
+) -> Result<Loaded> {
+    let f = File::from_bytes(bytes.to_vec()).map_err(|e| {
+        Error::input(
+            path,
+            "HDF5 structure",
+            format!("not a readable HDF5 file: {e}"),
+        )
+    })?;
+    record_from_file(path, &f, dataset, fs_hz)
+}
+
+/// Every dataset path of an open file (depth-first, sorted within each group).
+fn dataset_paths_of(path: &Path, f: &File) -> Result<Vec<String>> {
     let mut out = Vec::new();
     let mut stack = vec![String::new()];
     while let Some(g) = stack.pop() {
@@ -76,19 +105,30 @@ pub fn dataset_paths(path: &Path) -> Result<Vec<String>> {
             .map_err(|e| Error::input(path, format!("group /{g}"), e.to_string()))?;
         gs.sort();
         for s in gs.into_iter().rev() {
+            // A corrupt file can make a group its own child; stop at a depth no real file has.
+            if stack.len() > 10_000 || s.len() + g.len() > 4096 {
+                return Err(Error::input(
+                    path,
+                    format!("group /{g}"),
+                    "group tree too deep or cyclic (corrupt file?)",
+                ));
+            }
             stack.push(if g.is_empty() { s } else { format!("{g}/{s}") });
         }
     }
     Ok(out)
 }
 
-/// Read a signal dataset (`dataset` like `/ecg` or `signals/lead2`) as a record.
-pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Result<Loaded> {
-    let f = open(path)?;
+fn record_from_file(
+    path: &Path,
+    f: &File,
+    dataset: Option<&str>,
+    fs_hz: Option<f64>,
+) -> Result<Loaded> {
     let name = match dataset {
         Some(d) => d.trim_start_matches('/').to_string(),
         None => {
-            let all = dataset_paths(path)?;
+            let all = dataset_paths_of(path, f)?;
             match all.as_slice() {
                 [only] => only.clone(),
                 _ => {
@@ -115,8 +155,13 @@ pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Re
     let shape = ds
         .shape()
         .map_err(|e| Error::input(path, &place, e.to_string()))?;
-    let total: u64 = shape.iter().product();
-    if total > 2 * super::edf::MAX_SAMPLES as u64 {
+    let limit = 2 * super::edf::MAX_SAMPLES as u64;
+    // Checked: a corrupt header can give dimensions whose product overflows.
+    let total: u64 = shape
+        .iter()
+        .try_fold(1u64, |acc, &d| acc.checked_mul(d))
+        .unwrap_or(u64::MAX);
+    if total > limit {
         return Err(Error::input(
             path,
             &place,
@@ -129,6 +174,16 @@ pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Re
     let data = ds
         .read_f64()
         .map_err(|e| Error::input(path, &place, format!("not numeric or unreadable: {e}")))?;
+    if data.len() as u64 != total {
+        return Err(Error::input(
+            path,
+            &place,
+            format!(
+                "shape {shape:?} promises {total} values but {} were read (corrupt file?)",
+                data.len()
+            ),
+        ));
+    }
     let attrs = ds.attrs().unwrap_or_default();
     let parent = name.rsplit_once('/').map(|(p, _)| p.to_string());
     let parent_attrs = match &parent {
