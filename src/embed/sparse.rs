@@ -269,6 +269,9 @@ pub enum Solver {
     ShiftInvert,
     /// Krylov–Schur on (I + S)/2 (after a failed factorisation).
     Direct,
+    /// Dense symmetric eigendecomposition, for graphs too small for a Krylov subspace (the
+    /// Krylov–Schur iteration needs a subspace smaller than the matrix).
+    Dense,
 }
 
 /// Top eigenpairs of a sparse symmetric S.
@@ -318,6 +321,31 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             "eigensolver: {nev} eigenpairs asked of a {n}-point graph"
         )));
     }
+    // faer's Krylov–Schur panics unless its subspace, max(our `max_dim`, 64, 2·nev) vectors
+    // (faer 0.24, `operator::eigen`), is smaller than the matrix. Small graphs (up to 256
+    // points, a 0.5 MB matrix) are decomposed densely instead.
+    if n <= 256usize.max(2 * nev + 21) {
+        let mut dense = Mat::<f64>::zeros(n, n);
+        for i in 0..n {
+            for e in s.ptr[i]..s.ptr[i + 1] {
+                dense[(i, s.col[e])] = s.val[e];
+            }
+        }
+        let eig = dense
+            .self_adjoint_eigen(Side::Lower)
+            .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+        let vals = eig.S().column_vector();
+        let u = eig.U();
+        // Dense eigenvalues come in non-decreasing order.
+        let values: Vec<f64> = (0..nev).map(|l| vals[n - 1 - l]).collect();
+        if values.iter().any(|v| !v.is_finite()) {
+            return Err(Error::Analysis(
+                "diffusion map eigensolver gave non-finite eigenvalues".into(),
+            ));
+        }
+        let vectors = Mat::<f64>::from_fn(n, nev, |i, j| u[(i, n - 1 - j)]);
+        return finish(s, values, vectors, Solver::Dense);
+    }
     // Lower triangle of A = (1+σ)I − S.
     let mut trip = Vec::with_capacity(s.nnz() / 2 + n);
     for i in 0..n {
@@ -362,6 +390,13 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             (lam, v, Solver::Direct)
         }
     };
+    finish(s, values, vectors, solver)
+}
+
+/// Sort eigenpairs non-increasing and measure the largest residual ‖S v − λ v‖.
+fn finish(s: &SymCsr, values: Vec<f64>, vectors: Mat<f64>, solver: Solver) -> Result<TopEigen> {
+    let n = s.n;
+    let nev = values.len();
     // Sort non-increasing.
     let mut order: Vec<usize> = (0..nev).collect();
     order.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));
