@@ -203,7 +203,9 @@ fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
     if len > budget {
         return None;
     }
-    let par = faer::get_global_parallelism();
+    // Sequential on purpose: parallel supernode updates sum in an order that depends on the
+    // thread count, and the eigenvalues then differ in their last bits between `--jobs` values.
+    let par = Par::Seq;
     let mut values = vec![0.0; len];
     let mut mem =
         MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(par, Default::default()))
@@ -288,7 +290,8 @@ pub struct TopEigen {
 }
 
 fn run_krylov(op: &dyn LinOp<f64>, n: usize, nev: usize, seed: u64) -> (Vec<f64>, Mat<f64>, usize) {
-    let par = faer::get_global_parallelism();
+    // Sequential so the result does not depend on the rayon pool's size (see `factor`).
+    let par = Par::Seq;
     let params = PartialEigenParams {
         max_restarts: 1000,
         max_dim: (2 * nev + 20).max(40).min(n),
@@ -331,11 +334,26 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
                 dense[(i, s.col[e])] = s.val[e];
             }
         }
-        let eig = dense
-            .self_adjoint_eigen(Side::Lower)
-            .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
-        let vals = eig.S().column_vector();
-        let u = eig.U();
+        // `Mat::self_adjoint_eigen` runs with the global (thread-count dependent) parallelism;
+        // the sequential decomposition gives the same bits for every `--jobs`.
+        let mut vals = faer::diag::Diag::<f64>::zeros(n);
+        let mut u = Mat::<f64>::zeros(n, n);
+        let mut mem = MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
+            n,
+            faer::linalg::evd::ComputeEigenvectors::Yes,
+            Par::Seq,
+            Default::default(),
+        ));
+        faer::linalg::evd::self_adjoint_evd(
+            dense.as_ref(),
+            vals.as_mut(),
+            Some(u.as_mut()),
+            Par::Seq,
+            MemStack::new(&mut mem),
+            Default::default(),
+        )
+        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+        let vals = vals.column_vector();
         // Dense eigenvalues come in non-decreasing order.
         let values: Vec<f64> = (0..nev).map(|l| vals[n - 1 - l]).collect();
         if values.iter().any(|v| !v.is_finite()) {
