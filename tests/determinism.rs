@@ -42,11 +42,17 @@ fn run_in_pool(rec: &Record, threads: usize, dir: &Path) {
 fn datasets(path: &Path) -> Vec<(String, Vec<u8>)> {
     let f = hdf5_pure::File::open(path).expect("results file opens");
     let names = beatfold::io::hdf5::dataset_paths(path).expect("dataset list");
-    assert!(names.len() >= 10, "results file has too few datasets: {names:?}");
+    assert!(
+        names.len() >= 10,
+        "results file has too few datasets: {names:?}"
+    );
     names
         .into_iter()
         .map(|n| {
-            let raw = f.dataset(&n).and_then(|d| d.read_raw()).expect("dataset reads");
+            let raw = f
+                .dataset(&n)
+                .and_then(|d| d.read_raw())
+                .expect("dataset reads");
             (n, raw)
         })
         .collect()
@@ -64,7 +70,10 @@ fn same_input_same_bytes_across_runs_and_thread_counts() {
         .map(|d| std::fs::read(d.path().join("summary.json")).unwrap())
         .collect();
     assert!(summary[0].len() > 500);
-    assert!(summary[0] == summary[1], "summary.json differs between two 1-thread runs");
+    assert!(
+        summary[0] == summary[1],
+        "summary.json differs between two 1-thread runs"
+    );
     if summary[0] != summary[2] {
         let (a, b) = (
             String::from_utf8_lossy(&summary[0]),

@@ -4,7 +4,7 @@
 //! an `Analysis` whose quality flags and notes say what happened, never a panic; and the whole
 //! report is written for each (docs/robustness.md has the table).
 
-use beatfold::pipeline::{analyze, AnalyzeParams, Analysis, InputInfo};
+use beatfold::pipeline::{analyze, Analysis, AnalyzeParams, InputInfo};
 use beatfold::record::{Annotations, Lead, Record};
 use beatfold::report::{self, ReportOptions};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
@@ -79,7 +79,11 @@ fn nan_and_inf_samples_are_flagged_and_beats_still_found() {
     assert!(a.quality[seg_at(&a, 33.0)].non_finite);
     assert!(!a.quality[seg_at(&a, 50.0)].non_finite);
     // 70 bpm for 60 s: about 70 beats; the half-second hole costs at most one.
-    assert!((60..=80).contains(&a.beat_samples.len()), "{}", a.beat_samples.len());
+    assert!(
+        (60..=80).contains(&a.beat_samples.len()),
+        "{}",
+        a.beat_samples.len()
+    );
     assert!(a.rr_s.iter().all(|v| v.is_finite()));
     assert!(notes_mention(&a, "non-finite"), "{:?}", a.notes);
 }
@@ -124,7 +128,11 @@ fn lead_off_is_flagged_and_beats_stop_there() {
     }
     let a = run(&r);
     let k = seg_at(&a, 35.0);
-    assert!(a.quality[k].lead_off && a.quality[k].flat, "{:?}", a.quality[k]);
+    assert!(
+        a.quality[k].lead_off && a.quality[k].flat,
+        "{:?}",
+        a.quality[k]
+    );
     assert_eq!(a.quality.iter().filter(|q| q.lead_off).count(), 1);
     let inside = a
         .beat_samples
@@ -149,7 +157,11 @@ fn sudden_gain_change_is_flagged() {
     assert_eq!(flagged, vec![seg_at(&a, 35.0)], "{:?}", a.quality);
     assert!(notes_mention(&a, "gain"), "{:?}", a.notes);
     // Detection adapts its thresholds: beats on both sides.
-    assert!((60..=80).contains(&a.beat_samples.len()), "{}", a.beat_samples.len());
+    assert!(
+        (60..=80).contains(&a.beat_samples.len()),
+        "{}",
+        a.beat_samples.len()
+    );
 }
 
 #[test]
@@ -178,18 +190,30 @@ fn record_shorter_than_a_window_is_analysed_with_notes() {
     assert!(a.beat_samples.len() <= 5);
     assert!(a.embedding.n == 0 && a.dimension_suite.is_none());
     assert!(notes_mention(&a, "at least 30"), "{:?}", a.notes);
-    assert!(notes_mention(&a, "irregular-rhythm screen"), "{:?}", a.notes);
+    assert!(
+        notes_mention(&a, "irregular-rhythm screen"),
+        "{:?}",
+        a.notes
+    );
 }
 
 #[test]
 fn tiny_records_are_refused_or_flagged_never_panic() {
     for n in [0usize, 1, 2, 7] {
         let r = record(vec![0.1; n], FS);
-        match analyze(&r, &InputInfo::default(), &AnalyzeParams::default(), &mut |_, _| {}) {
+        match analyze(
+            &r,
+            &InputInfo::default(),
+            &AnalyzeParams::default(),
+            &mut |_, _| {},
+        ) {
             Ok(a) => {
                 assert!(a.beat_samples.is_empty());
                 let dir = tempfile::tempdir().unwrap();
-                let opts = ReportOptions { png: false, ..ReportOptions::default() };
+                let opts = ReportOptions {
+                    png: false,
+                    ..ReportOptions::default()
+                };
                 report::write_all(&a, dir.path(), &opts).unwrap();
             }
             Err(e) => assert!(!e.to_string().is_empty()),
@@ -201,7 +225,12 @@ fn tiny_records_are_refused_or_flagged_never_panic() {
 fn absurd_sampling_rates_give_a_clear_answer() {
     // 1 Hz: one sample a second cannot carry a QRS complex (Nyquist 0.5 Hz).
     let slow: Vec<f64> = (0..600).map(|i| (i as f64).sin()).collect();
-    match analyze(&record(slow, 1.0), &InputInfo::default(), &AnalyzeParams::default(), &mut |_, _| {}) {
+    match analyze(
+        &record(slow, 1.0),
+        &InputInfo::default(),
+        &AnalyzeParams::default(),
+        &mut |_, _| {},
+    ) {
         Ok(a) => {
             assert!(a.beat_samples.len() < 2);
             assert!(!a.notes.is_empty());
@@ -218,10 +247,19 @@ fn absurd_sampling_rates_give_a_clear_answer() {
         .iter()
         .flat_map(|&v| std::iter::repeat_n(v, 4000))
         .collect();
-    match analyze(&record(fast, 1.0e6), &InputInfo::default(), &AnalyzeParams::default(), &mut |_, _| {}) {
+    match analyze(
+        &record(fast, 1.0e6),
+        &InputInfo::default(),
+        &AnalyzeParams::default(),
+        &mut |_, _| {},
+    ) {
         Ok(a) => {
             assert!(a.beat_samples.len() <= 4, "{}", a.beat_samples.len());
-            assert!(a.embedding.n == 0 && notes_mention(&a, "at least 30"), "{:?}", a.notes);
+            assert!(
+                a.embedding.n == 0 && notes_mention(&a, "at least 30"),
+                "{:?}",
+                a.notes
+            );
         }
         Err(e) => {
             let m = e.to_string();
@@ -254,7 +292,10 @@ fn a_single_beat_gives_no_rr_and_notes() {
     assert!(a.beat_samples.len() <= 1, "{:?}", a.beat_samples);
     assert!(a.rr_s.is_empty());
     assert_eq!(a.variability.n_rr, 0);
-    assert!(!a.variability.sdnn_ms.is_finite(), "SDNN of no interval must be NaN, not a number");
+    assert!(
+        !a.variability.sdnn_ms.is_finite(),
+        "SDNN of no interval must be NaN, not a number"
+    );
     assert!(!a.notes.is_empty());
 }
 

@@ -11,6 +11,9 @@ fuzz_target!(|data: &[u8]| {
     }
     // Whatever files the header names, offer 600 bytes of a slow ramp under the usual names.
     let dat: Vec<u8> = (0..600u32).map(|i| (i / 3) as u8).collect();
-    let files = ["f.dat", "s.dat", "100x.dat", "208x.dat", "105d.dat", "108d.dat", "203d.dat"].map(|n| (n, dat.as_slice()));
+    let files = [
+        "f.dat", "s.dat", "100x.dat", "208x.dat", "105d.dat", "108d.dat", "203d.dat",
+    ]
+    .map(|n| (n, dat.as_slice()));
     let _ = beatfold::io::physionet::record_from_bytes(hea, data, &files, None);
 });

@@ -23,11 +23,19 @@ fuzz_target!(|data: &[u8]| {
     // Without init value and checksum the decoded samples themselves are checked; with the
     // fixed zeros above most inputs end in a clear checksum error, so try both.
     let _ = beatfold::io::physionet::decode(Path::new("fuzz/f.dat"), dat, format, nsig);
-    let _ = beatfold::io::physionet::record_from_bytes(hea, header.as_bytes(), &[("f.dat", dat)], None);
+    let _ =
+        beatfold::io::physionet::record_from_bytes(hea, header.as_bytes(), &[("f.dat", dat)], None);
     let plain: String = header
         .lines()
         .enumerate()
-        .map(|(k, l)| if k == 0 { format!("{l}\n") } else { format!("f.dat {format} 200/mV\n") })
+        .map(|(k, l)| {
+            if k == 0 {
+                format!("{l}\n")
+            } else {
+                format!("f.dat {format} 200/mV\n")
+            }
+        })
         .collect();
-    let _ = beatfold::io::physionet::record_from_bytes(hea, plain.as_bytes(), &[("f.dat", dat)], None);
+    let _ =
+        beatfold::io::physionet::record_from_bytes(hea, plain.as_bytes(), &[("f.dat", dat)], None);
 });

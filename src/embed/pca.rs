@@ -72,14 +72,13 @@ impl Pca {
         // Sequential decomposition: the same bits for any thread count.
         let mut s = faer::diag::Diag::<f64>::zeros(dim);
         let mut u = Mat::<f64>::zeros(dim, dim);
-        let mut mem = faer::dyn_stack::MemBuffer::new(
-            faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
+        let mut mem =
+            faer::dyn_stack::MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
                 dim,
                 faer::linalg::evd::ComputeEigenvectors::Yes,
                 Par::Seq,
                 Default::default(),
-            ),
-        );
+            ));
         faer::linalg::evd::self_adjoint_evd(
             cov.as_ref(),
             s.as_mut(),

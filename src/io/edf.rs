@@ -311,7 +311,9 @@ pub fn read_record_from_bytes(path: &Path, bytes: &[u8]) -> Result<Loaded> {
         return Err(Error::input(
             path,
             "byte offset 236, field number of data records",
-            format!("{n_rec} data record(s) hold {total} sample(s) per signal; at least 2 are needed"),
+            format!(
+                "{n_rec} data record(s) hold {total} sample(s) per signal; at least 2 are needed"
+            ),
         ));
     }
     let mut leads: Vec<Lead> = keep

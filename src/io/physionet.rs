@@ -563,9 +563,7 @@ fn assemble(
                 format!("signal format {fmt} is not supported (beatfold reads formats 16 and 212)"),
             ));
         }
-        let need = h
-            .n_samples
-            .map_or(0, |n| bytes_needed(fmt, n, idx.len()));
+        let need = h.n_samples.map_or(0, |n| bytes_needed(fmt, n, idx.len()));
         let (fpath, bytes) = load(file, need)?;
         let dec = decode(&fpath, &bytes, fmt, idx.len())?;
         for (k, &i) in idx.iter().enumerate() {

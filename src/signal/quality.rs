@@ -150,8 +150,9 @@ pub fn quality(x: &[f64], fs_hz: f64, segment_s: f64) -> Vec<QualitySegment> {
         .map(|s| {
             let flat = is_flat(s);
             let lead_off = flat
-                && usual_level
-                    .is_some_and(|u| (s.level - u).abs() > LEAD_OFF_STEP * typical && typical > 0.0);
+                && usual_level.is_some_and(|u| {
+                    (s.level - u).abs() > LEAD_OFF_STEP * typical && typical > 0.0
+                });
             let usable = !flat && !s.non_finite;
             let gain_change = usable
                 && prev_range.is_some_and(|p| {
