@@ -312,3 +312,52 @@ fn no_beats_at_all_gives_empty_results_and_notes() {
     let s = serde_json::to_string(&a.notes).unwrap();
     assert!(!s.is_empty());
 }
+
+#[test]
+fn a_failed_write_leaves_the_old_file_and_no_temporary() {
+    let dir = tempfile::tempdir().unwrap();
+    let old = dir.path().join("summary.json");
+    std::fs::write(&old, b"{\"old\": true}").unwrap();
+    // The target is a non-empty folder: the temporary file is written, the rename fails.
+    let blocked = dir.path().join("results.h5");
+    std::fs::create_dir(&blocked).unwrap();
+    std::fs::write(blocked.join("keep"), b"x").unwrap();
+    let err = beatfold::io::write_atomic(&blocked, b"new bytes").unwrap_err();
+    assert!(err.to_string().contains("results.h5"), "{err}");
+    assert_eq!(std::fs::read(&old).unwrap(), b"{\"old\": true}");
+    let names: Vec<String> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(
+        names.iter().all(|n| !n.contains(".tmp")),
+        "temporary file left behind: {names:?}"
+    );
+    // A whole report into a folder where report.html cannot be replaced: the run fails and
+    // every file already there is either the old or a complete new one, never a partial one.
+    std::fs::create_dir(dir.path().join("report.html")).unwrap();
+    std::fs::write(dir.path().join("report.html").join("keep"), b"x").unwrap();
+    let a = analyze(
+        &base(),
+        &InputInfo::default(),
+        &AnalyzeParams::default(),
+        &mut |_, _| {},
+    )
+    .unwrap();
+    let opts = ReportOptions {
+        png: false,
+        ..ReportOptions::default()
+    };
+    assert!(report::write_all(&a, dir.path(), &opts).is_err());
+    let text = std::fs::read_to_string(&old).unwrap();
+    assert!(
+        serde_json::from_str::<serde_json::Value>(&text).is_ok(),
+        "summary.json is partial"
+    );
+    let left: Vec<String> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.contains(".tmp"))
+        .collect();
+    assert!(left.is_empty(), "temporary files left behind: {left:?}");
+}
