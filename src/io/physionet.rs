@@ -529,11 +529,7 @@ type SignalLoader<'a> = dyn FnMut(&str, usize) -> Result<(PathBuf, Vec<u8>)> + '
 
 /// Decode the signal files of a parsed header into a record. `load(file, bytes_needed)` returns
 /// a signal file's path (for messages) and bytes, refusing files shorter than needed.
-fn assemble(
-    hea: &Path,
-    h: &Header,
-    load: &mut SignalLoader<'_>,
-) -> Result<(Record, Vec<String>)> {
+fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Record, Vec<String>)> {
     if h.signals.is_empty() {
         return Err(Error::input(hea, "line 1", "record has no signals"));
     }
