@@ -62,3 +62,23 @@ fn csv_with_thousands_of_columns_is_refused_before_allocation() {
     let m = read_err("csv-5000-columns.csv");
     assert!(m.contains("5000 columns"), "{m}");
 }
+
+#[test]
+fn hdf5_found_by_the_fuzzer_finishes_quickly() {
+    // Found by the `hdf5` fuzz target: a mutated copy of tests/data/h5/signals.h5 on which one
+    // read ran for more than 10 s.
+    let p = dir().join("hdf5-slow-dataset.h5");
+    let t0 = std::time::Instant::now();
+    for ds in [None, Some("/ecg")] {
+        let opts = ReadOptions {
+            fs_hz: Some(250.0),
+            dataset: ds.map(str::to_string),
+            ..ReadOptions::default()
+        };
+        if let Err(e) = io::read_record(&p, &opts) {
+            assert!(e.to_string().contains("hdf5-slow-dataset.h5"), "{e}");
+        }
+    }
+    let secs = t0.elapsed().as_secs_f64();
+    assert!(secs < 5.0, "reading took {secs:.1} s");
+}

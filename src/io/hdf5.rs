@@ -14,6 +14,11 @@ use std::collections::HashMap;
 use std::fmt::Write as _;
 use std::path::Path;
 
+/// Deepest group nesting walked when listing datasets.
+const MAX_GROUP_DEPTH: usize = 32;
+/// Most groups (and datasets) walked when listing datasets.
+const MAX_GROUPS: usize = 10_000;
+
 const RATE_KEYS: [&str; 4] = ["fs_hz", "fs", "sampling_rate", "sample_rate"];
 
 fn attr_f64(a: &AttrValue) -> Option<f64> {
@@ -85,6 +90,7 @@ pub fn read_record_from_bytes(
 /// Every dataset path of an open file (depth-first, sorted within each group).
 fn dataset_paths_of(path: &Path, f: &File) -> Result<Vec<String>> {
     let mut out = Vec::new();
+    let mut visited = 0usize;
     let mut stack = vec![String::new()];
     while let Some(g) = stack.pop() {
         let group = if g.is_empty() {
@@ -104,13 +110,16 @@ fn dataset_paths_of(path: &Path, f: &File) -> Result<Vec<String>> {
             .groups()
             .map_err(|e| Error::input(path, format!("group /{g}"), e.to_string()))?;
         gs.sort();
+        visited += 1;
         for s in gs.into_iter().rev() {
-            // A corrupt file can make a group its own child; stop at a depth no real file has.
-            if stack.len() > 10_000 || s.len() + g.len() > 4096 {
+            // A corrupt file can make a group its own child (a cycle): stop at a depth, a
+            // number of groups or a number of datasets no real signal file has.
+            let depth = g.matches('/').count() + 1;
+            if depth > MAX_GROUP_DEPTH || visited > MAX_GROUPS || out.len() > MAX_GROUPS {
                 return Err(Error::input(
                     path,
                     format!("group /{g}"),
-                    "group tree too deep or cyclic (corrupt file?)",
+                    "group tree deeper than 32 levels, or more than 10 000 groups or datasets: cyclic or corrupt file? Name the signal with --dataset",
                 ));
             }
             stack.push(if g.is_empty() { s } else { format!("{g}/{s}") });
