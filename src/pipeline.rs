@@ -374,12 +374,23 @@ pub fn analyze(
             rec.name, rec.fs_hz
         )));
     }
+    // Fault: a rate too low for the conditioning band (e.g. 1 Hz) is a property of the data,
+    // not a bad option: an analysis failure with the numbers, before any filter is designed.
+    let high_hz = p.condition.band_hz.1;
+    if rec.fs_hz <= 2.0 * high_hz {
+        return Err(Error::Analysis(format!(
+            "record `{}` is sampled at {} Hz; the conditioning band reaches {high_hz} Hz, which needs a rate above {} Hz (Nyquist), so no beat can be detected",
+            rec.name,
+            rec.fs_hz,
+            2.0 * high_hz
+        )));
+    }
     progress(0, STAGES[0]);
     let quality = signal::quality(&rec.leads[li].samples, rec.fs_hz, p.quality_segment_s);
     progress(1, STAGES[1]);
     let b = detect_beats(rec, p)?;
     progress(2, STAGES[2]);
-    let mut notes = Vec::new();
+    let mut notes = signal::quality::quality_notes(&quality);
     let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
         Ok(f) => f,
         Err(Error::Analysis(msg)) => {

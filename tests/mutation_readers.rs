@@ -103,3 +103,56 @@ proptest! {
         check(io::read_record(&p, &ReadOptions::default()), "m.csv");
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 600, ..ProptestConfig::default() })]
+
+    #[test]
+    fn hdf5_mutations(e in edits(), cut in proptest::option::of(0.0f64..1.0)) {
+        let base = std::fs::read(
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/h5/signals.h5"),
+        )
+        .unwrap();
+        let bytes = mutate(&base, &e, cut);
+        let p = Path::new("m.h5");
+        check(io::hdf5::read_record_from_bytes(p, &bytes, Some("/ecg"), None), "m.h5");
+        check(io::hdf5::read_record_from_bytes(p, &bytes, None, Some(250.0)), "m.h5");
+    }
+
+    #[test]
+    fn annotation_csv_mutations(e in edits(), cut in proptest::option::of(0.0f64..1.0)) {
+        let base = b"kind,sample,time_s,end_s,label\nbeat,100,0.4,,N\nbeat,350,1.4,,V\nrhythm,,0.0,2.0,AFIB\n";
+        let bytes = mutate(base, &e, cut);
+        check(
+            io::annotations::read_from_bytes(Path::new("m.annotations.csv"), &bytes, 250.0),
+            "m.annotations.csv",
+        );
+    }
+
+    #[test]
+    fn physionet_signal_bytes_any_format(
+        bytes in proptest::collection::vec(any::<u8>(), 0..400),
+        fmt16 in any::<bool>(),
+        nsig in 1usize..4,
+        n in proptest::option::of(0usize..300),
+    ) {
+        let format = if fmt16 { 16 } else { 212 };
+        let mut header = format!("m {nsig} 250");
+        if let Some(n) = n {
+            header.push_str(&format!(" {n}"));
+        }
+        header.push('\n');
+        for i in 0..nsig {
+            header.push_str(&format!("m.dat {format} 200/mV 12 0 0 0 0 s{i}\n"));
+        }
+        let r = physionet::record_from_bytes(
+            Path::new("m.hea"),
+            header.as_bytes(),
+            &[("m.dat", bytes.as_slice())],
+            None,
+        );
+        if let Err(e) = r {
+            assert!(e.to_string().contains("m."), "{e}");
+        }
+    }
+}

@@ -8,7 +8,7 @@
 
 use crate::error::{Error, Result};
 use crate::points::Points;
-use faer::{Mat, Par, Side};
+use faer::{Mat, Par};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 
@@ -63,13 +63,32 @@ impl Pca {
                 );
                 c
             })
-            .reduce(|| Mat::<f64>::zeros(dim, dim), |a, b| a + b);
+            // Block products are summed in block order, not in rayon's reduction tree, whose
+            // shape (and so the float rounding) depends on the number of threads.
+            .collect::<Vec<_>>()
+            .into_iter()
+            .fold(Mat::<f64>::zeros(dim, dim), |a, b| a + b);
         let cov = cov * faer::Scale(1.0 / (n - 1) as f64);
-        let eig = cov
-            .self_adjoint_eigen(Side::Lower)
-            .map_err(|e| Error::Analysis(format!("PCA eigendecomposition failed: {e:?}")))?;
-        let s = eig.S().column_vector();
-        let u = eig.U();
+        // Sequential decomposition: the same bits for any thread count.
+        let mut s = faer::diag::Diag::<f64>::zeros(dim);
+        let mut u = Mat::<f64>::zeros(dim, dim);
+        let mut mem =
+            faer::dyn_stack::MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
+                dim,
+                faer::linalg::evd::ComputeEigenvectors::Yes,
+                Par::Seq,
+                Default::default(),
+            ));
+        faer::linalg::evd::self_adjoint_evd(
+            cov.as_ref(),
+            s.as_mut(),
+            Some(u.as_mut()),
+            Par::Seq,
+            faer::dyn_stack::MemStack::new(&mut mem),
+            Default::default(),
+        )
+        .map_err(|e| Error::Analysis(format!("PCA eigendecomposition failed: {e:?}")))?;
+        let s = s.column_vector();
         let mut axes = vec![0.0; dim * dim];
         let mut variance = vec![0.0; dim];
         for l in 0..dim {

@@ -203,7 +203,9 @@ fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
     if len > budget {
         return None;
     }
-    let par = faer::get_global_parallelism();
+    // Sequential on purpose: parallel supernode updates sum in an order that depends on the
+    // thread count, and the eigenvalues then differ in their last bits between `--jobs` values.
+    let par = Par::Seq;
     let mut values = vec![0.0; len];
     let mut mem =
         MemBuffer::try_new(symbolic.factorize_numeric_llt_scratch::<f64>(par, Default::default()))
@@ -269,8 +271,8 @@ pub enum Solver {
     ShiftInvert,
     /// Krylov–Schur on (I + S)/2 (after a failed factorisation).
     Direct,
-    /// Dense symmetric eigendecomposition (small graphs, where a Krylov space would be as large
-    /// as the matrix).
+    /// Dense symmetric eigendecomposition, for graphs too small for a Krylov subspace (the
+    /// Krylov–Schur iteration needs a subspace smaller than the matrix).
     Dense,
 }
 
@@ -291,7 +293,8 @@ pub struct TopEigen {
 }
 
 fn run_krylov(op: &dyn LinOp<f64>, n: usize, nev: usize, seed: u64) -> (Vec<f64>, Mat<f64>, usize) {
-    let par = faer::get_global_parallelism();
+    // Sequential so the result does not depend on the rayon pool's size (see `factor`).
+    let par = Par::Seq;
     let params = PartialEigenParams {
         max_restarts: 1000,
         max_dim: (2 * nev + 20).max(40).min(n),
@@ -324,37 +327,46 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             "eigensolver: {nev} eigenpairs asked of a {n}-point graph"
         )));
     }
-    let (values, vectors, solver) = if n <= DENSE_MAX_POINTS || (2 * nev + 20).max(40) >= n {
-        dense_eigen(s, nev)?
-    } else {
-        iterative_eigen(s, nev, seed)?
-    };
-    finish(s, nev, values, vectors, solver)
-}
-
-/// All eigenpairs of the dense copy of `s`; the `nev` largest returned.
-fn dense_eigen(s: &SymCsr, nev: usize) -> Result<(Vec<f64>, Mat<f64>, Solver)> {
-    let n = s.n;
-    let mut a = Mat::<f64>::zeros(n, n);
-    for i in 0..n {
-        for e in s.ptr[i]..s.ptr[i + 1] {
-            a[(i, s.col[e])] = s.val[e];
+    // faer's Krylov–Schur panics unless its subspace, max(our `max_dim`, 64, 2·nev) vectors
+    // (faer 0.24, `operator::eigen`), is smaller than the matrix. Small graphs (up to 1000
+    // points, an 8 MB matrix) are decomposed densely instead.
+    if n <= DENSE_MAX_POINTS.max(2 * nev + 21) {
+        let mut dense = Mat::<f64>::zeros(n, n);
+        for i in 0..n {
+            for e in s.ptr[i]..s.ptr[i + 1] {
+                dense[(i, s.col[e])] = s.val[e];
+            }
         }
-    }
-    let eig = a
-        .self_adjoint_eigen(faer::Side::Lower)
+        // `Mat::self_adjoint_eigen` runs with the global (thread-count dependent) parallelism;
+        // the sequential decomposition gives the same bits for every `--jobs`.
+        let mut vals = faer::diag::Diag::<f64>::zeros(n);
+        let mut u = Mat::<f64>::zeros(n, n);
+        let mut mem = MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
+            n,
+            faer::linalg::evd::ComputeEigenvectors::Yes,
+            Par::Seq,
+            Default::default(),
+        ));
+        faer::linalg::evd::self_adjoint_evd(
+            dense.as_ref(),
+            vals.as_mut(),
+            Some(u.as_mut()),
+            Par::Seq,
+            MemStack::new(&mut mem),
+            Default::default(),
+        )
         .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
-    let vals = eig.S().column_vector();
-    let u = eig.U();
-    // Dense eigenvalues come in non-decreasing order.
-    let values = (0..nev).map(|l| vals[n - 1 - l]).collect();
-    let vectors = Mat::<f64>::from_fn(n, nev, |i, j| u[(i, n - 1 - j)]);
-    Ok((values, vectors, Solver::Dense))
-}
-
-/// Shift-invert or direct Krylov–Schur (see the module notes).
-fn iterative_eigen(s: &SymCsr, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>, Solver)> {
-    let n = s.n;
+        let vals = vals.column_vector();
+        // Dense eigenvalues come in non-decreasing order.
+        let values: Vec<f64> = (0..nev).map(|l| vals[n - 1 - l]).collect();
+        if values.iter().any(|v| !v.is_finite()) {
+            return Err(Error::Analysis(
+                "diffusion map eigensolver gave non-finite eigenvalues".into(),
+            ));
+        }
+        let vectors = Mat::<f64>::from_fn(n, nev, |i, j| u[(i, n - 1 - j)]);
+        return finish(s, values, vectors, Solver::Dense);
+    }
     // Lower triangle of A = (1+σ)I − S.
     let mut trip = Vec::with_capacity(s.nnz() / 2 + n);
     for i in 0..n {
@@ -399,18 +411,13 @@ fn iterative_eigen(s: &SymCsr, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f
             (lam, v, Solver::Direct)
         }
     };
-    Ok((values, vectors, solver))
+    finish(s, values, vectors, solver)
 }
 
-/// Sort the pairs non-increasing and measure the residuals.
-fn finish(
-    s: &SymCsr,
-    nev: usize,
-    values: Vec<f64>,
-    vectors: Mat<f64>,
-    solver: Solver,
-) -> Result<TopEigen> {
+/// Sort eigenpairs non-increasing and measure the largest residual ‖S v − λ v‖.
+fn finish(s: &SymCsr, values: Vec<f64>, vectors: Mat<f64>, solver: Solver) -> Result<TopEigen> {
     let n = s.n;
+    let nev = values.len();
     // Sort non-increasing.
     let mut order: Vec<usize> = (0..nev).collect();
     order.sort_by(|&a, &b| values[b].total_cmp(&values[a]).then(a.cmp(&b)));

@@ -51,7 +51,13 @@ pub fn write(ann: &Annotations, fs_hz: f64, path: &Path) -> Result<()> {
 /// Read an annotation CSV (beatfold layout or a plain beat list). `fs_hz` converts times to
 /// samples.
 pub fn read(path: &Path, fs_hz: f64) -> Result<Annotations> {
-    let text = super::read_text(path)?;
+    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    read_from_bytes(path, &bytes, fs_hz)
+}
+
+/// [`read`] on the file's bytes already in memory; `path` names the file in errors.
+pub fn read_from_bytes(path: &Path, bytes: &[u8], fs_hz: f64) -> Result<Annotations> {
+    let text = super::text_from_bytes(path, bytes)?;
     let mut ann = Annotations::default();
     let mut header: Option<Vec<String>> = None;
     for (i, line) in text.lines().enumerate() {

@@ -13,6 +13,10 @@ use crate::record::{Annotations, Lead, Record};
 use std::fmt::Write as _;
 use std::path::Path;
 
+/// Most columns a recording may have (leads plus a time column); wider files are refused before
+/// any column is allocated.
+pub const MAX_COLUMNS: usize = 4096;
+
 const TIME_NAMES: [&str; 5] = ["time", "time_s", "t", "seconds", "time (s)"];
 
 fn split_fields(line: &str, delim: char) -> Vec<&str> {
@@ -43,7 +47,14 @@ fn parse_field(field: &str) -> Option<Option<f64>> {
 /// Read a CSV/TSV recording. `fs_hz` is used when the file has no time column and no `fs_hz=`
 /// comment; if both a time column and `fs_hz` are given they must agree within 1 %.
 pub fn read_record(path: &Path, fs_hz: Option<f64>) -> Result<Loaded> {
-    let text = super::read_text(path)?;
+    let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+    read_record_from_bytes(path, &bytes, fs_hz)
+}
+
+/// [`read_record`] on the file's bytes already in memory; `path` gives the record name, the
+/// `.tsv` delimiter choice and the file named in errors.
+pub fn read_record_from_bytes(path: &Path, bytes: &[u8], fs_hz: Option<f64>) -> Result<Loaded> {
+    let text = super::text_from_bytes(path, bytes)?;
     let is_tsv = path
         .extension()
         .and_then(|e| e.to_str())
@@ -82,6 +93,15 @@ pub fn read_record(path: &Path, fs_hz: Option<f64>) -> Result<Loaded> {
     let first_fields = split_fields(first, delim);
     let has_header = first_fields.iter().any(|f| parse_field(f).is_none());
     let ncol = first_fields.len();
+    if ncol > MAX_COLUMNS {
+        return Err(Error::input(
+            path,
+            format!("line {first_ln}"),
+            format!(
+                "{ncol} columns; beatfold reads at most {MAX_COLUMNS} (is the delimiter right? rows are samples, columns are leads)"
+            ),
+        ));
+    }
     let names: Vec<String> = if has_header {
         first_fields
             .iter()
@@ -97,7 +117,9 @@ pub fn read_record(path: &Path, fs_hz: Option<f64>) -> Result<Loaded> {
     } else {
         None
     };
-    let mut cols: Vec<Vec<f64>> = vec![Vec::with_capacity(data_lines.len()); ncol];
+    // No capacity up front: a first line of many empty fields must not reserve
+    // columns × rows before any row has been checked.
+    let mut cols: Vec<Vec<f64>> = vec![Vec::new(); ncol];
     let mut missing = vec![0usize; ncol];
     let rows = if has_header {
         &data_lines[1..]

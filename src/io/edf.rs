@@ -23,6 +23,9 @@ use std::path::Path;
 /// refused before allocation.
 pub const MAX_SAMPLES: usize = 24 * 3600 * 2000;
 
+/// Highest sampling rate a header may give, Hz.
+pub const MAX_FS_HZ: f64 = 1.0e6;
+
 struct SigHeader {
     label: String,
     unit: String,
@@ -71,7 +74,13 @@ fn num<T: std::str::FromStr>(
 /// Read an EDF or EDF+ file.
 pub fn read_record(path: &Path) -> Result<Loaded> {
     let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
-    let version = ascii(path, &bytes, 0, 8, "version")?;
+    read_record_from_bytes(path, &bytes)
+}
+
+/// [`read_record`] on the file's bytes already in memory; `path` gives the record name and the
+/// file named in errors.
+pub fn read_record_from_bytes(path: &Path, bytes: &[u8]) -> Result<Loaded> {
+    let version = ascii(path, bytes, 0, 8, "version")?;
     if version != "0" {
         return Err(Error::input(
             path,
@@ -79,13 +88,13 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
             format!("`{version}`: an EDF file starts with version \"0\""),
         ));
     }
-    let start_date = ascii(path, &bytes, 168, 8, "start date")?;
-    let start_time = ascii(path, &bytes, 176, 8, "start time")?;
-    let header_bytes: usize = num(path, &bytes, 184, 8, "number of header bytes")?;
-    let reserved = ascii(path, &bytes, 192, 44, "reserved")?;
-    let n_records: i64 = num(path, &bytes, 236, 8, "number of data records")?;
-    let duration: f64 = num(path, &bytes, 244, 8, "duration of a data record")?;
-    let ns: usize = num(path, &bytes, 252, 4, "number of signals")?;
+    let start_date = ascii(path, bytes, 168, 8, "start date")?;
+    let start_time = ascii(path, bytes, 176, 8, "start time")?;
+    let header_bytes: usize = num(path, bytes, 184, 8, "number of header bytes")?;
+    let reserved = ascii(path, bytes, 192, 44, "reserved")?;
+    let n_records: i64 = num(path, bytes, 236, 8, "number of data records")?;
+    let duration: f64 = num(path, bytes, 244, 8, "duration of a data record")?;
+    let ns: usize = num(path, bytes, 252, 4, "number of signals")?;
     if ns == 0 || ns > 4096 {
         return Err(Error::input(
             path,
@@ -114,49 +123,49 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
     for i in 0..ns {
         let label = ascii(
             path,
-            &bytes,
+            bytes,
             field_off(0) + 16 * i,
             16,
             &format!("signal {i} label"),
         )?;
         let unit = ascii(
             path,
-            &bytes,
+            bytes,
             field_off(2) + 8 * i,
             8,
             &format!("signal {i} physical dimension"),
         )?;
         let pmin: f64 = num(
             path,
-            &bytes,
+            bytes,
             field_off(3) + 8 * i,
             8,
             &format!("signal {i} physical minimum"),
         )?;
         let pmax: f64 = num(
             path,
-            &bytes,
+            bytes,
             field_off(4) + 8 * i,
             8,
             &format!("signal {i} physical maximum"),
         )?;
         let dmin: i32 = num(
             path,
-            &bytes,
+            bytes,
             field_off(5) + 8 * i,
             8,
             &format!("signal {i} digital minimum"),
         )?;
         let dmax: i32 = num(
             path,
-            &bytes,
+            bytes,
             field_off(6) + 8 * i,
             8,
             &format!("signal {i} digital maximum"),
         )?;
         let spr: usize = num(
             path,
-            &bytes,
+            bytes,
             field_off(8) + 8 * i,
             8,
             &format!("signal {i} samples per record"),
@@ -215,6 +224,15 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
     }
     let spr0 = sigs[first].spr;
     let fs = spr0 as f64 / duration;
+    if !(fs.is_finite() && fs > 0.0 && fs <= MAX_FS_HZ) {
+        return Err(Error::input(
+            path,
+            format!("signal {first} ({}), samples per record / duration", sigs[first].label),
+            format!(
+                "{spr0} samples per {duration} s record give {fs} Hz, outside 0 < fs ≤ {MAX_FS_HZ} Hz; check the header fields"
+            ),
+        ));
+    }
     let keep: Vec<usize> = ordinary
         .iter()
         .copied()
@@ -253,13 +271,17 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
                     Some((a, b)) => (a.to_string(), b.parse::<f64>().ok()),
                     None => (head.clone(), None),
                 };
-                let t: f64 = on_s.parse().map_err(|_| {
-                    Error::input(
-                        path,
-                        format!("data record {r}, annotation signal"),
-                        format!("onset `{on_s}` is not a number"),
-                    )
-                })?;
+                let t: f64 = on_s
+                    .parse()
+                    .ok()
+                    .filter(|t: &f64| t.is_finite() && t.abs() <= 1.0e9)
+                    .ok_or_else(|| {
+                        Error::input(
+                            path,
+                            format!("data record {r}, annotation signal"),
+                            format!("onset `{on_s}` is not a time in seconds (±1e9 s at most)"),
+                        )
+                    })?;
                 if first_in_record {
                     if discontinuous {
                         *onset = t;
@@ -283,6 +305,15 @@ pub fn read_record(path: &Path) -> Result<Loaded> {
             path,
             "header",
             format!("{total} samples per signal exceed the limit of {MAX_SAMPLES}"),
+        ));
+    }
+    if total < 2 {
+        return Err(Error::input(
+            path,
+            "byte offset 236, field number of data records",
+            format!(
+                "{n_rec} data record(s) hold {total} sample(s) per signal; at least 2 are needed"
+            ),
         ));
     }
     let mut leads: Vec<Lead> = keep

@@ -14,6 +14,11 @@ use std::collections::HashMap;
 use std::fmt::Write as _;
 use std::path::Path;
 
+/// Deepest group nesting walked when listing datasets.
+const MAX_GROUP_DEPTH: usize = 32;
+/// Most groups (and datasets) walked when listing datasets.
+const MAX_GROUPS: usize = 10_000;
+
 const RATE_KEYS: [&str; 4] = ["fs_hz", "fs", "sampling_rate", "sample_rate"];
 
 fn attr_f64(a: &AttrValue) -> Option<f64> {
@@ -55,7 +60,37 @@ fn open(path: &Path) -> Result<File> {
 /// Every dataset path in the file (depth-first, sorted within each group).
 pub fn dataset_paths(path: &Path) -> Result<Vec<String>> {
     let f = open(path)?;
+    dataset_paths_of(path, &f)
+}
+
+/// Read a signal dataset (`dataset` like `/ecg` or `signals/lead2`) as a record.
+pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Result<Loaded> {
+    let f = open(path)?;
+    record_from_file(path, &f, dataset, fs_hz)
+}
+
+/// [`read_record`] on the file's bytes already in memory; `path` gives the record name and the
+/// file named in errors.
+pub fn read_record_from_bytes(
+    path: &Path,
+    bytes: &[u8],
+    dataset: Option<&str>,
+    fs_hz: Option<f64>,
+) -> Result<Loaded> {
+    let f = File::from_bytes(bytes.to_vec()).map_err(|e| {
+        Error::input(
+            path,
+            "HDF5 structure",
+            format!("not a readable HDF5 file: {e}"),
+        )
+    })?;
+    record_from_file(path, &f, dataset, fs_hz)
+}
+
+/// Every dataset path of an open file (depth-first, sorted within each group).
+fn dataset_paths_of(path: &Path, f: &File) -> Result<Vec<String>> {
     let mut out = Vec::new();
+    let mut visited = 0usize;
     let mut stack = vec![String::new()];
     while let Some(g) = stack.pop() {
         let group = if g.is_empty() {
@@ -75,20 +110,34 @@ pub fn dataset_paths(path: &Path) -> Result<Vec<String>> {
             .groups()
             .map_err(|e| Error::input(path, format!("group /{g}"), e.to_string()))?;
         gs.sort();
+        visited += 1;
         for s in gs.into_iter().rev() {
+            // A corrupt file can make a group its own child (a cycle): stop at a depth, a
+            // number of groups or a number of datasets no real signal file has.
+            let depth = g.matches('/').count() + 1;
+            if depth > MAX_GROUP_DEPTH || visited > MAX_GROUPS || out.len() > MAX_GROUPS {
+                return Err(Error::input(
+                    path,
+                    format!("group /{g}"),
+                    "group tree deeper than 32 levels, or more than 10 000 groups or datasets: cyclic or corrupt file? Name the signal with --dataset",
+                ));
+            }
             stack.push(if g.is_empty() { s } else { format!("{g}/{s}") });
         }
     }
     Ok(out)
 }
 
-/// Read a signal dataset (`dataset` like `/ecg` or `signals/lead2`) as a record.
-pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Result<Loaded> {
-    let f = open(path)?;
+fn record_from_file(
+    path: &Path,
+    f: &File,
+    dataset: Option<&str>,
+    fs_hz: Option<f64>,
+) -> Result<Loaded> {
     let name = match dataset {
         Some(d) => d.trim_start_matches('/').to_string(),
         None => {
-            let all = dataset_paths(path)?;
+            let all = dataset_paths_of(path, f)?;
             match all.as_slice() {
                 [only] => only.clone(),
                 _ => {
@@ -115,8 +164,13 @@ pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Re
     let shape = ds
         .shape()
         .map_err(|e| Error::input(path, &place, e.to_string()))?;
-    let total: u64 = shape.iter().product();
-    if total > 2 * super::edf::MAX_SAMPLES as u64 {
+    let limit = 2 * super::edf::MAX_SAMPLES as u64;
+    // Checked: a corrupt header can give dimensions whose product overflows.
+    let total: u64 = shape
+        .iter()
+        .try_fold(1u64, |acc, &d| acc.checked_mul(d))
+        .unwrap_or(u64::MAX);
+    if total > limit {
         return Err(Error::input(
             path,
             &place,
@@ -129,6 +183,16 @@ pub fn read_record(path: &Path, dataset: Option<&str>, fs_hz: Option<f64>) -> Re
     let data = ds
         .read_f64()
         .map_err(|e| Error::input(path, &place, format!("not numeric or unreadable: {e}")))?;
+    if data.len() as u64 != total {
+        return Err(Error::input(
+            path,
+            &place,
+            format!(
+                "shape {shape:?} promises {total} values but {} were read (corrupt file?)",
+                data.len()
+            ),
+        ));
+    }
     let attrs = ds.attrs().unwrap_or_default();
     let parent = name.rsplit_once('/').map(|(p, _)| p.to_string());
     let parent_attrs = match &parent {

@@ -200,7 +200,18 @@ pub fn read_text(path: &Path) -> Result<String> {
         Error::input(
             path,
             format!("byte offset {}", e.utf8_error().valid_up_to()),
-            "not valid UTF-8 text",
+            "not valid UTF-8 text (save the file as UTF-8 or plain ASCII)",
+        )
+    })
+}
+
+/// View bytes already in memory as UTF-8 text; `path` names the file in the error.
+pub fn text_from_bytes<'a>(path: &Path, bytes: &'a [u8]) -> Result<&'a str> {
+    std::str::from_utf8(bytes).map_err(|e| {
+        Error::input(
+            path,
+            format!("byte offset {}", e.valid_up_to()),
+            "not valid UTF-8 text (save the file as UTF-8 or plain ASCII)",
         )
     })
 }

@@ -18,7 +18,7 @@
 use crate::error::{Error, Result};
 use crate::record::{Annotations, BeatAnnotation, Lead, Record};
 use std::collections::BTreeMap;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 /// One signal line of a header.
 #[derive(Debug, Clone, PartialEq)]
@@ -420,13 +420,119 @@ pub fn checksum(samples: &[i32]) -> i16 {
 
 /// Read a record from its header path (`.hea`); signal files are looked up beside it. The
 /// annotation file `<record>.<ann_ext>` is attached when `ann_ext` is given and exists.
+///
+/// A signal file shorter than the header promises is refused from its size alone, before it
+/// is read.
 pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<String>)> {
     let text = super::read_text(hea)?;
     let h = parse_header(hea, &text)?;
+    let dir = hea.parent().unwrap_or_else(|| Path::new("."));
+    let mut load = |file: &str, need: usize| -> Result<(PathBuf, Vec<u8>)> {
+        let fpath = dir.join(file);
+        let have = std::fs::metadata(&fpath)
+            .map_err(|e| {
+                Error::input(
+                    hea,
+                    format!("signal file `{file}`"),
+                    format!("cannot open {}: {e}", fpath.display()),
+                )
+            })?
+            .len();
+        if have < need as u64 {
+            return Err(short_file(&fpath, need, have as usize, h.n_samples));
+        }
+        let bytes = std::fs::read(&fpath).map_err(|e| {
+            Error::input(
+                hea,
+                format!("signal file `{file}`"),
+                format!("cannot read {}: {e}", fpath.display()),
+            )
+        })?;
+        Ok((fpath, bytes))
+    };
+    let (mut rec, mut warnings) = assemble(hea, &h, &mut load)?;
+    if let Some(ext) = ann_ext {
+        let ap = dir.join(format!("{}.{ext}", h.name));
+        if ap.exists() {
+            let bytes = std::fs::read(&ap).map_err(|e| Error::io(&ap, e))?;
+            let anns = parse_annotations(&ap, &bytes)?;
+            rec.annotations = to_annotations(&anns, h.fs_hz, rec.n_samples());
+        } else {
+            warnings.push(format!(
+                "{}: no annotation file `{}`",
+                hea.display(),
+                ap.display()
+            ));
+        }
+    }
+    Ok((rec, warnings))
+}
+
+/// [`read_record`] on bytes already in memory: the header text, the signal files by the names
+/// the header gives, and optionally an annotation file (its path for messages, its bytes).
+/// `hea` names the header in errors; signal files are named as if beside it.
+pub fn record_from_bytes(
+    hea: &Path,
+    header: &[u8],
+    signal_files: &[(&str, &[u8])],
+    annotations: Option<(&Path, &[u8])>,
+) -> Result<(Record, Vec<String>)> {
+    let text = super::text_from_bytes(hea, header)?;
+    let h = parse_header(hea, text)?;
+    let dir = hea.parent().unwrap_or_else(|| Path::new("."));
+    let mut load = |file: &str, need: usize| -> Result<(PathBuf, Vec<u8>)> {
+        let fpath = dir.join(file);
+        let Some((_, b)) = signal_files.iter().find(|(n, _)| *n == file) else {
+            return Err(Error::input(
+                hea,
+                format!("signal file `{file}`"),
+                format!("cannot open {}: not found", fpath.display()),
+            ));
+        };
+        if b.len() < need {
+            return Err(short_file(&fpath, need, b.len(), h.n_samples));
+        }
+        Ok((fpath, b.to_vec()))
+    };
+    let (mut rec, warnings) = assemble(hea, &h, &mut load)?;
+    if let Some((ap, bytes)) = annotations {
+        let anns = parse_annotations(ap, bytes)?;
+        rec.annotations = to_annotations(&anns, h.fs_hz, rec.n_samples());
+    }
+    Ok((rec, warnings))
+}
+
+fn short_file(fpath: &Path, need: usize, have: usize, n: Option<usize>) -> Error {
+    Error::input(
+        fpath,
+        format!("byte {have}"),
+        format!(
+            "file ends early: the header promises {} samples per signal ({need} bytes), the file has {have} bytes; check the header's sample count or re-copy the file",
+            n.unwrap_or(0)
+        ),
+    )
+}
+
+/// Bytes a signal file must hold for `n` samples of each of `nsig` signals in `format`.
+fn bytes_needed(format: u32, n: usize, nsig: usize) -> usize {
+    // n ≤ MAX_SAMPLES and nsig ≤ 256, so these products fit in 64 bits; saturate anyway.
+    let values = n.saturating_mul(nsig);
+    match format {
+        16 => values.saturating_mul(2),
+        212 => values.saturating_mul(3).div_ceil(2),
+        _ => 0,
+    }
+}
+
+/// Gives a signal file's path (for messages) and bytes from its name and the bytes it must hold.
+type SignalLoader<'a> = dyn FnMut(&str, usize) -> Result<(PathBuf, Vec<u8>)> + 'a;
+
+/// Decode the signal files of a parsed header into a record. `load(file, bytes_needed)` returns
+/// a signal file's path (for messages) and bytes, refusing files shorter than needed.
+fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Record, Vec<String>)> {
     if h.signals.is_empty() {
         return Err(Error::input(hea, "line 1", "record has no signals"));
     }
-    let dir = hea.parent().unwrap_or_else(|| Path::new("."));
     // Group signals by file, in header order.
     let mut groups: BTreeMap<String, Vec<usize>> = BTreeMap::new();
     for (i, s) in h.signals.iter().enumerate() {
@@ -449,33 +555,15 @@ pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<Str
                 "signal file must be a plain name beside the header",
             ));
         }
-        let fpath = dir.join(file);
-        if let Some(n) = h.n_samples {
-            let need = match fmt {
-                16 => n * idx.len() * 2,
-                212 => (n * idx.len() * 3).div_ceil(2),
-                _ => 0,
-            };
-            let have = std::fs::metadata(&fpath)
-                .map_err(|e| {
-                    Error::input(
-                        hea,
-                        format!("signal file `{file}`"),
-                        format!("cannot open {}: {e}", fpath.display()),
-                    )
-                })?
-                .len() as usize;
-            if need > 0 && have < need {
-                return Err(Error::input(&fpath, format!("byte {have}"), format!("file ends early: the header promises {n} samples per signal ({need} bytes), the file has {have} bytes")));
-            }
-        }
-        let bytes = std::fs::read(&fpath).map_err(|e| {
-            Error::input(
+        if fmt != 16 && fmt != 212 {
+            return Err(Error::input(
                 hea,
-                format!("signal file `{file}`"),
-                format!("cannot read {}: {e}", fpath.display()),
-            )
-        })?;
+                format!("signal file `{file}`, field format"),
+                format!("signal format {fmt} is not supported (beatfold reads formats 16 and 212)"),
+            ));
+        }
+        let need = h.n_samples.map_or(0, |n| bytes_needed(fmt, n, idx.len()));
+        let (fpath, bytes) = load(file, need)?;
         let dec = decode(&fpath, &bytes, fmt, idx.len())?;
         for (k, &i) in idx.iter().enumerate() {
             adu[i] = dec[k].clone();
@@ -537,27 +625,13 @@ pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<Str
             samples,
         });
     }
-    let mut rec = Record {
+    let rec = Record {
         name: h.name.clone(),
         fs_hz: h.fs_hz,
         leads,
         start_time: h.start_time.clone(),
         annotations: Annotations::default(),
     };
-    if let Some(ext) = ann_ext {
-        let ap = dir.join(format!("{}.{ext}", h.name));
-        if ap.exists() {
-            let bytes = std::fs::read(&ap).map_err(|e| Error::io(&ap, e))?;
-            let anns = parse_annotations(&ap, &bytes)?;
-            rec.annotations = to_annotations(&anns, h.fs_hz, n);
-        } else {
-            warnings.push(format!(
-                "{}: no annotation file `{}`",
-                hea.display(),
-                ap.display()
-            ));
-        }
-    }
     Ok((rec, warnings))
 }
 

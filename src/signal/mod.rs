@@ -37,11 +37,24 @@ pub struct QualitySegment {
     pub noisy: bool,
     /// Non-finite samples (NaN/Inf) were present and replaced.
     pub non_finite: bool,
+    /// Electrode off: the segment is flat at a level far from the lead's usual level (see
+    /// [`quality`](quality::quality) for the rule).
+    #[serde(default)]
+    pub lead_off: bool,
+    /// The segment's amplitude differs from the previous usable segment's by a large factor, as
+    /// a gain switch or a moved electrode gives.
+    #[serde(default)]
+    pub gain_change: bool,
 }
 
 impl QualitySegment {
     /// True when no flag is set.
     pub fn is_clean(&self) -> bool {
-        !(self.flat || self.clipped || self.noisy || self.non_finite)
+        !(self.flat
+            || self.clipped
+            || self.noisy
+            || self.non_finite
+            || self.lead_off
+            || self.gain_change)
     }
 }

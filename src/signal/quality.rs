@@ -13,6 +13,14 @@
 //! - `noisy`: power above `min(40 Hz, 0.4·fs)` (4th-order Butterworth high-pass) exceeds
 //!   [`NOISE_RATIO`] times the power in the QRS band 5–15 Hz (2nd-order Butterworth band-pass).
 //!   Filters run causally across segment boundaries, so memory stays O(segment).
+//! - `lead_off`: the segment is `flat` and its median level lies more than [`LEAD_OFF_STEP`]
+//!   typical robust ranges away from the median level of the segments that are not flat: an
+//!   electrode that came off leaves the amplifier stuck at an offset or a rail, not at the
+//!   baseline. (When every segment is flat there is no usual level and nothing is flagged.)
+//! - `gain_change`: neither this segment nor the previous usable one (not flat, no non-finite
+//!   sample) is flat, and their robust ranges differ by at least a factor [`GAIN_STEP`]; the
+//!   later segment is flagged. A strong noise burst can also trip it, which is why it is a flag
+//!   for review and not a correction.
 
 use super::filter::Sos;
 use crate::signal::QualitySegment;
@@ -23,11 +31,17 @@ pub const FLAT_FRACTION: f64 = 0.02;
 pub const CLIP_FRACTION: f64 = 0.01;
 /// High-frequency to QRS-band power ratio above which a segment is noisy.
 pub const NOISE_RATIO: f64 = 0.5;
+/// Distance of a flat segment's level from the usual level, in typical robust ranges, above
+/// which it is taken for a lead-off.
+pub const LEAD_OFF_STEP: f64 = 1.0;
+/// Ratio of robust ranges of consecutive usable segments that marks a gain change.
+pub const GAIN_STEP: f64 = 4.0;
 
 struct SegStats {
     start: usize,
     end: usize,
     range: f64,
+    level: f64,
     min: f64,
     max: f64,
     n_min: usize,
@@ -105,10 +119,12 @@ pub fn quality(x: &[f64], fs_hz: f64, segment_s: f64) -> Vec<QualitySegment> {
         work.clear();
         work.extend_from_slice(&buf);
         let range = robust_range(&mut work);
+        let level = median_of(&mut work);
         stats.push(SegStats {
             start,
             end,
             range,
+            level,
             min,
             max,
             n_min,
@@ -121,9 +137,31 @@ pub fn quality(x: &[f64], fs_hz: f64, segment_s: f64) -> Vec<QualitySegment> {
     let typical = median_of(&mut ranges);
     let gmin = stats.iter().fold(f64::INFINITY, |m, s| m.min(s.min));
     let gmax = stats.iter().fold(f64::NEG_INFINITY, |m, s| m.max(s.max));
+    let is_flat = |s: &SegStats| s.range <= FLAT_FRACTION * typical || s.range == 0.0;
+    let mut levels: Vec<f64> = stats
+        .iter()
+        .filter(|s| !is_flat(s))
+        .map(|s| s.level)
+        .collect();
+    let usual_level = (!levels.is_empty()).then(|| median_of(&mut levels));
+    let mut prev_range: Option<f64> = None;
     stats
         .iter()
         .map(|s| {
+            let flat = is_flat(s);
+            let lead_off = flat
+                && usual_level.is_some_and(|u| {
+                    (s.level - u).abs() > LEAD_OFF_STEP * typical && typical > 0.0
+                });
+            let usable = !flat && !s.non_finite;
+            let gain_change = usable
+                && prev_range.is_some_and(|p| {
+                    let ratio = s.range / p;
+                    !(ratio < GAIN_STEP && ratio > 1.0 / GAIN_STEP)
+                });
+            if usable {
+                prev_range = Some(s.range);
+            }
             let len = (s.end - s.start) as f64;
             let need = (CLIP_FRACTION * len).max(3.0);
             let clipped = gmax > gmin
@@ -132,13 +170,68 @@ pub fn quality(x: &[f64], fs_hz: f64, segment_s: f64) -> Vec<QualitySegment> {
             QualitySegment {
                 start_s: s.start as f64 / fs_hz,
                 end_s: s.end as f64 / fs_hz,
-                flat: s.range <= FLAT_FRACTION * typical || s.range == 0.0,
+                flat,
                 clipped,
                 noisy: s.noisy,
                 non_finite: s.non_finite,
+                lead_off,
+                gain_change,
             }
         })
         .collect()
+}
+
+/// Plain-language notes on the flagged segments of a lead, for the report: one line per flag
+/// that is set anywhere, with the count and the first time, and what beatfold did about it.
+/// Empty when every segment is clean.
+pub fn quality_notes(q: &[QualitySegment]) -> Vec<String> {
+    type Flag = fn(&QualitySegment) -> bool;
+    let rules: [(&str, Flag, &str); 6] = [
+        (
+            "non-finite samples (NaN/Inf, or gaps)",
+            |s| s.non_finite,
+            "filled by linear interpolation for conditioning and detection; beats inside are unreliable",
+        ),
+        (
+            "flat line",
+            |s| s.flat,
+            "no beats can be detected there",
+        ),
+        (
+            "lead off (flat, far from the usual level)",
+            |s| s.lead_off,
+            "no beats can be detected there; check the electrode",
+        ),
+        (
+            "clipping at the converter's limits",
+            |s| s.clipped,
+            "beat amplitudes there are cut off",
+        ),
+        (
+            "strong high-frequency noise",
+            |s| s.noisy,
+            "detections there may be false",
+        ),
+        (
+            "sudden amplitude (gain) change",
+            |s| s.gain_change,
+            "amplitude features before and after are not comparable",
+        ),
+    ];
+    let mut out = Vec::new();
+    for (what, flag, consequence) in rules {
+        let hits: Vec<&QualitySegment> = q.iter().filter(|s| flag(s)).collect();
+        if let Some(first) = hits.first() {
+            out.push(format!(
+                "signal quality: {what} in {} of {} segments, first at {:.1}–{:.1} s; {consequence}",
+                hits.len(),
+                q.len(),
+                first.start_s,
+                first.end_s
+            ));
+        }
+    }
+    out
 }
 
 /// 98th minus 2nd percentile (nearest rank); reorders `v`.
