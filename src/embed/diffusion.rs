@@ -475,7 +475,8 @@ fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)
     // release build); above that, Lanczos with a bounded number of restarts, falling back to dense
     // when it does not converge (the top of a diffusion spectrum can be tightly clustered).
     if m > 2000 {
-        let par = faer::get_global_parallelism();
+        // Sequential, so the result does not depend on the thread count.
+        let par = faer::Par::Seq;
         let params = PartialEigenParams {
             max_restarts: 200,
             ..PartialEigenParams::default()
@@ -508,16 +509,7 @@ fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)
 
 /// The `nev` largest eigenpairs by a dense symmetric eigendecomposition (non-increasing order).
 fn dense_top_eigen(s: &Mat<f64>, nev: usize) -> Result<(Vec<f64>, Mat<f64>)> {
-    let m = s.nrows();
-    let eig = s
-        .self_adjoint_eigen(Side::Lower)
-        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
-    let vals = eig.S().column_vector();
-    let u = eig.U();
-    // Dense eigenvalues come in non-decreasing order.
-    let sorted = (0..nev).map(|l| vals[m - 1 - l]).collect();
-    let top = Mat::<f64>::from_fn(m, nev, |i, j| u[(i, m - 1 - j)]);
-    Ok((sorted, top))
+    super::sparse::top_dense_seq(s, nev)
 }
 
 impl DiffusionModel {

@@ -276,6 +276,40 @@ pub enum Solver {
     Dense,
 }
 
+/// The `nev` largest eigenpairs of the dense symmetric `a` (non-increasing), by a sequential
+/// decomposition: `Mat::self_adjoint_eigen` runs with the global (thread-count dependent)
+/// parallelism, the sequential one gives the same bits for every thread count.
+pub(crate) fn top_dense_seq(a: &Mat<f64>, nev: usize) -> Result<(Vec<f64>, Mat<f64>)> {
+    let n = a.nrows();
+    let mut vals = faer::diag::Diag::<f64>::zeros(n);
+    let mut u = Mat::<f64>::zeros(n, n);
+    let mut mem = MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
+        n,
+        faer::linalg::evd::ComputeEigenvectors::Yes,
+        Par::Seq,
+        Default::default(),
+    ));
+    faer::linalg::evd::self_adjoint_evd(
+        a.as_ref(),
+        vals.as_mut(),
+        Some(u.as_mut()),
+        Par::Seq,
+        MemStack::new(&mut mem),
+        Default::default(),
+    )
+    .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    let vals = vals.column_vector();
+    // Dense eigenvalues come in non-decreasing order.
+    let values: Vec<f64> = (0..nev.min(n)).map(|l| vals[n - 1 - l]).collect();
+    if values.iter().any(|v| !v.is_finite()) {
+        return Err(Error::Analysis(
+            "diffusion map eigensolver gave non-finite eigenvalues".into(),
+        ));
+    }
+    let vectors = Mat::<f64>::from_fn(n, nev.min(n), |i, j| u[(i, n - 1 - j)]);
+    Ok((values, vectors))
+}
+
 /// Graphs up to this many points are solved densely (at most 8 MB of matrix).
 pub const DENSE_MAX_POINTS: usize = 1000;
 
@@ -337,34 +371,7 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
                 dense[(i, s.col[e])] = s.val[e];
             }
         }
-        // `Mat::self_adjoint_eigen` runs with the global (thread-count dependent) parallelism;
-        // the sequential decomposition gives the same bits for every `--jobs`.
-        let mut vals = faer::diag::Diag::<f64>::zeros(n);
-        let mut u = Mat::<f64>::zeros(n, n);
-        let mut mem = MemBuffer::new(faer::linalg::evd::self_adjoint_evd_scratch::<f64>(
-            n,
-            faer::linalg::evd::ComputeEigenvectors::Yes,
-            Par::Seq,
-            Default::default(),
-        ));
-        faer::linalg::evd::self_adjoint_evd(
-            dense.as_ref(),
-            vals.as_mut(),
-            Some(u.as_mut()),
-            Par::Seq,
-            MemStack::new(&mut mem),
-            Default::default(),
-        )
-        .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
-        let vals = vals.column_vector();
-        // Dense eigenvalues come in non-decreasing order.
-        let values: Vec<f64> = (0..nev).map(|l| vals[n - 1 - l]).collect();
-        if values.iter().any(|v| !v.is_finite()) {
-            return Err(Error::Analysis(
-                "diffusion map eigensolver gave non-finite eigenvalues".into(),
-            ));
-        }
-        let vectors = Mat::<f64>::from_fn(n, nev, |i, j| u[(i, n - 1 - j)]);
+        let (values, vectors) = top_dense_seq(&dense, nev)?;
         return finish(s, values, vectors, Solver::Dense);
     }
     // Lower triangle of A = (1+σ)I − S.
