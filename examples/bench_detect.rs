@@ -8,20 +8,10 @@
 
 use beatfold::pipeline::{self, AnalyzeParams};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
-use std::time::Instant;
 
-fn best_of_3<T>(label: &str, mut f: impl FnMut() -> T) -> T {
-    let mut best = f64::INFINITY;
-    let mut out = None;
-    for _ in 0..3 {
-        let t0 = Instant::now();
-        let v = f();
-        best = best.min(t0.elapsed().as_secs_f64());
-        out = Some(v);
-    }
-    println!("{label:<58} {best:>7.3} s");
-    out.expect("three runs")
-}
+#[path = "common/timing.rs"]
+mod timing;
+use timing::best_of_3;
 
 fn main() -> anyhow::Result<()> {
     let hours: f64 = std::env::args()
@@ -31,7 +21,7 @@ fn main() -> anyhow::Result<()> {
         .unwrap_or(24.0);
     let mut sp = SynthParams::for_scenario(Scenario::TelemetryNight, hours * 60.0, 250.0, 1);
     sp.leads = 1;
-    let t0 = Instant::now();
+    let t0 = std::time::Instant::now();
     let rec = synthesize(&sp)?;
     println!(
         "synthesised {hours} h, 1 lead, 250 Hz: {} samples in {:.1} s; {} threads",

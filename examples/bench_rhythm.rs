@@ -9,20 +9,10 @@ use beatfold::points::Points;
 use beatfold::rhythm::recurrence::{rqa_timeline, RqaParams};
 use beatfold::rhythm::windowed::{windowed_variability, Span};
 use rand::{Rng, SeedableRng};
-use std::time::Instant;
 
-fn best_of_3<T>(label: &str, mut f: impl FnMut() -> T) -> T {
-    let mut best = f64::INFINITY;
-    let mut out = None;
-    for _ in 0..3 {
-        let t0 = Instant::now();
-        let v = f();
-        best = best.min(t0.elapsed().as_secs_f64());
-        out = Some(v);
-    }
-    println!("{label:<62} {best:>7.3} s");
-    out.expect("three runs")
-}
+#[path = "common/timing.rs"]
+mod timing;
+use timing::best_of_3;
 
 fn main() -> anyhow::Result<()> {
     let n: usize = std::env::args()
