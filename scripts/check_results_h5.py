@@ -35,6 +35,8 @@ DATASETS = [
     ("signal/quality/clipped", "u1", 1),
     ("signal/quality/noisy", "u1", 1),
     ("signal/quality/non_finite", "u1", 1),
+    ("signal/quality/lead_off", "u1", 1),
+    ("signal/quality/gain_change", "u1", 1),
     ("beats/sample", "u8", 1),
     ("beats/time_s", "f8", 1),
     ("beats/rr_s", "f8", 1),
@@ -138,7 +140,7 @@ def check(path):
             if a in shapes and b in shapes:
                 need(shapes[a][0] == shapes[b][0], f"/{a} and /{b} differ in length: {shapes[a]} vs {shapes[b]}")
 
-        for col in ["end_s", "flat", "clipped", "noisy", "non_finite"]:
+        for col in ["end_s", "flat", "clipped", "noisy", "non_finite", "lead_off", "gain_change"]:
             same_len("signal/quality/start_s", f"signal/quality/{col}")
         same_len("beats/sample", "beats/time_s")
         same_len("beats/sample", "beats/label")

@@ -113,6 +113,10 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     q.create_dataset("clipped")
         .with_u8_data(&col(|s| s.clipped));
     q.create_dataset("noisy").with_u8_data(&col(|s| s.noisy));
+    q.create_dataset("lead_off")
+        .with_u8_data(&col(|s| s.lead_off));
+    q.create_dataset("gain_change")
+        .with_u8_data(&col(|s| s.gain_change));
     q.create_dataset("non_finite")
         .with_u8_data(&col(|s| s.non_finite));
     g.add_group(q.finish());
