@@ -324,6 +324,37 @@ fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<
     }
 }
 
+/// Shade time bands `[s, e]` across the full height `y0..y1` of a chart, with one legend entry
+/// (`label`); `fill` and `legend` are the alphas of the bands and of the legend swatch. Nothing
+/// is drawn (and no legend entry made) when there is no band.
+pub(super) fn shade_bands<DB: DrawingBackend>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    bands: &[(f64, f64)],
+    (y0, y1): (f64, f64),
+    colour: RGBColor,
+    (fill, legend): (f64, f64),
+    label: &str,
+) -> DrawResult {
+    if bands.is_empty() {
+        return Ok(());
+    }
+    chart
+        .draw_series(
+            bands
+                .iter()
+                .map(|&(s, e)| Rectangle::new([(s, y0), (e, y1)], colour.mix(fill).filled())),
+        )
+        .ctx()?
+        .label(label)
+        .legend(move |(x, y)| {
+            Rectangle::new(
+                [(x, y - 10), (x + GLYPH_PX, y + 10)],
+                colour.mix(legend).filled(),
+            )
+        });
+    Ok(())
+}
+
 /// A figure with only a title and a message in the middle.
 pub(super) fn draw_message<DB: DrawingBackend>(
     area: &Area<DB>,
@@ -735,22 +766,14 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
         .filter(|q| !q.is_clean() && q.end_s > x0 && q.start_s < x1)
         .map(|q| clip(q.start_s, q.end_s))
         .collect();
-    if !flagged.is_empty() {
-        chart
-            .draw_series(
-                flagged
-                    .iter()
-                    .map(|&(s, e)| Rectangle::new([(s, y0), (e, y1)], GREY.mix(0.18).filled())),
-            )
-            .ctx()?
-            .label("quality flag (flat, clipped, noisy or non-finite)")
-            .legend(|(x, y)| {
-                Rectangle::new(
-                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
-                    GREY.mix(0.3).filled(),
-                )
-            });
-    }
+    shade_bands(
+        &mut chart,
+        &flagged,
+        (y0, y1),
+        GREY,
+        (0.18, 0.3),
+        "quality flag (flat, clipped, noisy or non-finite)",
+    )?;
     let episodes: Vec<(f64, f64)> = a
         .screen
         .episodes
@@ -758,22 +781,14 @@ fn draw_trace<DB: DrawingBackend>(a: &Analysis, view: &View, area: &Area<DB>) ->
         .filter(|e| e.end_s > x0 && e.start_s < x1)
         .map(|e| clip(e.start_s, e.end_s))
         .collect();
-    if !episodes.is_empty() {
-        chart
-            .draw_series(
-                episodes.iter().map(|&(s, e)| {
-                    Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.22).filled())
-                }),
-            )
-            .ctx()?
-            .label("irregular-rhythm screen episode (research)")
-            .legend(|(x, y)| {
-                Rectangle::new(
-                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
-                    OI_ORANGE.mix(0.4).filled(),
-                )
-            });
-    }
+    shade_bands(
+        &mut chart,
+        &episodes,
+        (y0, y1),
+        OI_ORANGE,
+        (0.22, 0.4),
+        "irregular-rhythm screen episode (research)",
+    )?;
     let rhythms: Vec<(f64, f64, String)> = a
         .reference
         .rhythms

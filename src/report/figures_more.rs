@@ -410,22 +410,14 @@ pub(super) fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> Draw
         .filter(|e| e.end_s > x0 && e.start_s < x1)
         .map(|e| (e.start_s.max(x0), e.end_s.min(x1)))
         .collect();
-    if !episodes.is_empty() {
-        chart
-            .draw_series(
-                episodes.iter().map(|&(s, e)| {
-                    Rectangle::new([(s, y0), (e, y1)], OI_ORANGE.mix(0.25).filled())
-                }),
-            )
-            .ctx()?
-            .label("irregular-rhythm screen (research)")
-            .legend(|(x, y)| {
-                Rectangle::new(
-                    [(x, y - 10), (x + GLYPH_PX, y + 10)],
-                    OI_ORANGE.mix(0.45).filled(),
-                )
-            });
-    }
+    super::figures::shade_bands(
+        &mut chart,
+        &episodes,
+        (y0, y1),
+        OI_ORANGE,
+        (0.25, 0.45),
+        "irregular-rhythm screen (research)",
+    )?;
     let reference = crate::rhythm::screen::irregular_reference(&a.reference);
     let band = (y1 - 0.04 * (y1 - y0), y1);
     let reference: Vec<(f64, f64)> = reference
