@@ -60,6 +60,7 @@ fn main() {
         seed: 1,
         max_points: n,
         train_per_centre: Some(16),
+        finite_sample_correction: true,
     };
     let t = Instant::now();
     let c = kmeans_scaling(&pts, &kp).unwrap();

@@ -101,6 +101,16 @@ pub(crate) fn point_errors(points: &Points, centres: &Points) -> Vec<f64> {
         .collect()
 }
 
+/// Nearest centre index and squared distance of each point, in point order.
+pub(crate) fn point_cells(points: &Points, centres: &Points) -> Vec<(usize, f64)> {
+    let c_norms = row_norms(centres);
+    let idx: Vec<usize> = (0..points.n).collect();
+    nearest_two_many(points, &idx, centres, &c_norms)
+        .into_iter()
+        .map(|(c, d, _)| (c, d * d))
+        .collect()
+}
+
 /// k-means++ seeding.
 fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
     let dim = points.dim;
