@@ -9,6 +9,11 @@
 //!    same k-means settings and 5000 points for the neighbour-based estimators.
 //!
 //! Targets (DESIGN.md): ladder < 5 s; all five < 10 s.
+//!
+//! With `--dump DIR`, also writes the points for a reference library to time on the same
+//! numbers (`scripts/time_skdim_same_points.py DIR`): `points.f64` (row-major little-endian
+//! float64, N × DIM), `subset.u32` (the indices of the suite's neighbour-estimator subset,
+//! little-endian uint32) and `beatfold.json` (shape, our estimates and seconds per estimator).
 
 use beatfold::dimension::{dimension_suite, kmeans_scaling, KmeansScalingParams, SuiteParams};
 use beatfold::points::Points;
@@ -43,9 +48,14 @@ fn cloud(n: usize, ambient: usize, d: usize, seed: u64) -> Points {
 }
 
 fn main() {
-    let args: Vec<String> = std::env::args().collect();
-    let n: usize = args.get(1).and_then(|a| a.parse().ok()).unwrap_or(100_000);
-    let ambient: usize = args.get(2).and_then(|a| a.parse().ok()).unwrap_or(50);
+    let mut args: Vec<String> = std::env::args().skip(1).collect();
+    let dump = args.iter().position(|a| a == "--dump").map(|i| {
+        let dir = args.get(i + 1).cloned().unwrap_or_else(|| ".".into());
+        args.drain(i..(i + 2).min(args.len()));
+        std::path::PathBuf::from(dir)
+    });
+    let n: usize = args.first().and_then(|a| a.parse().ok()).unwrap_or(100_000);
+    let ambient: usize = args.get(1).and_then(|a| a.parse().ok()).unwrap_or(50);
     let t = Instant::now();
     let pts = cloud(n, ambient, 5, 2026);
     println!(
@@ -102,6 +112,7 @@ fn main() {
         println!("  failures: {:?}", s.failures);
     }
     // Each estimator alone, for the table in docs/performance.md.
+    let mut alone = Vec::new();
     for m in beatfold::dimension::Method::ALL {
         let p = SuiteParams {
             methods: vec![m],
@@ -109,10 +120,48 @@ fn main() {
         };
         let t = Instant::now();
         let _ = dimension_suite(&pts, &p).unwrap();
-        println!(
-            "  {:<12} alone: {:.2} s",
-            m.name(),
-            t.elapsed().as_secs_f64()
-        );
+        let secs = t.elapsed().as_secs_f64();
+        println!("  {:<12} alone: {secs:.2} s", m.name());
+        alone.push((m, secs));
     }
+    if let Some(dir) = dump {
+        write_dump(&dir, &pts, &sp, &s, &alone).expect("write the dump folder");
+        println!("points written to {}", dir.display());
+    }
+}
+
+/// The `--dump` files (see the module notes).
+fn write_dump(
+    dir: &std::path::Path,
+    pts: &Points,
+    sp: &SuiteParams,
+    s: &beatfold::dimension::DimensionSuite,
+    alone: &[(beatfold::dimension::Method, f64)],
+) -> std::io::Result<()> {
+    std::fs::create_dir_all(dir)?;
+    let bytes: Vec<u8> = pts.data.iter().flat_map(|v| v.to_le_bytes()).collect();
+    std::fs::write(dir.join("points.f64"), bytes)?;
+    let subset = beatfold::dimension::subset_indices(pts.n, sp.max_points, sp.seed);
+    let bytes: Vec<u8> = subset
+        .iter()
+        .flat_map(|&i| (i as u32).to_le_bytes())
+        .collect();
+    std::fs::write(dir.join("subset.u32"), bytes)?;
+    let estimates: serde_json::Map<String, serde_json::Value> = s
+        .estimates
+        .iter()
+        .map(|e| (e.method.name().to_string(), serde_json::json!(e.d)))
+        .collect();
+    let seconds: serde_json::Map<String, serde_json::Value> = alone
+        .iter()
+        .map(|(m, t)| (m.name().to_string(), serde_json::json!(t)))
+        .collect();
+    let meta = serde_json::json!({
+        "n": pts.n,
+        "dim": pts.dim,
+        "subset_n": subset.len(),
+        "estimates": estimates,
+        "seconds_alone": seconds,
+    });
+    std::fs::write(dir.join("beatfold.json"), format!("{meta:#}\n"))
 }

@@ -60,4 +60,6 @@ mod suite;
 pub use correlation::{correlation_counts, CorrelationCounts};
 pub use knn::knn_table;
 pub use local_pca::local_pca_counts;
-pub use suite::{dimension_suite, DimensionSuite, Method, MethodEstimate, SuiteParams};
+pub use suite::{
+    dimension_suite, subset_indices, DimensionSuite, Method, MethodEstimate, SuiteParams,
+};

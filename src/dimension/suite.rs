@@ -287,6 +287,15 @@ fn rng_for(seed: u64, m: Method) -> ChaCha8Rng {
     ChaCha8Rng::seed_from_u64(seed ^ (0x9E37_79B9_7F4A_7C15u64.wrapping_mul(m as u64 + 1)))
 }
 
+/// The point indices the neighbour-based estimators of [`dimension_suite`] use: a seeded
+/// shuffle of `0..n` cut to at most `max_points` (so other tools can be run on the same points).
+pub fn subset_indices(n: usize, max_points: usize, seed: u64) -> Vec<usize> {
+    let mut order: Vec<usize> = (0..n).collect();
+    order.shuffle(&mut ChaCha8Rng::seed_from_u64(seed));
+    order.truncate(n.min(max_points));
+    order
+}
+
 /// Run the chosen estimators (see the module notes).
 ///
 /// Errors: bad parameters; fewer than 20 points or points without coordinates. An estimator
@@ -311,9 +320,7 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
         failures: Vec::new(),
     };
     // Seeded subset for the neighbour-based estimators.
-    let mut order: Vec<usize> = (0..points.n).collect();
-    order.shuffle(&mut ChaCha8Rng::seed_from_u64(p.seed));
-    order.truncate(suite.n_used);
+    let order = subset_indices(points.n, p.max_points, p.seed);
     let sub = points.select(&order);
     let m = sub.n;
     let needs_table = p
