@@ -54,6 +54,7 @@ pub struct Embedding {
 }
 
 mod bandwidth;
+pub mod chebyshev;
 mod diffusion;
 pub mod knn;
 pub mod model_io;

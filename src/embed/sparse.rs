@@ -16,8 +16,10 @@
 //! definite for σ > 0, since the eigenvalues of S lie in [−1, 1]), the sparse Cholesky factor of
 //! A (faer, fill-reducing ordering) applies A⁻¹, whose largest eigenvalues μ = 1/(1+σ−λ) belong
 //! to the λ nearest 1 and are well separated. A Krylov–Schur partial eigensolver (Stewart 2002;
-//! faer's `partial_self_adjoint_eigen`) finds them; λ = 1 + σ − 1/μ. If the factorisation fails,
-//! the same solver runs on (I + S)/2 directly.
+//! faer's `partial_self_adjoint_eigen`) finds them; λ = 1 + σ − 1/μ. If the factor would exceed
+//! its memory budget (heavy fill-in, as for the kNN graph of a noisy high-dimensional cloud) or
+//! the factorisation fails, Chebyshev-filtered subspace iteration on S itself
+//! ([`super::chebyshev`]) finds them to a residual of 10⁻¹⁰.
 
 use super::knn::Neighbors;
 use crate::error::{Error, Result};
@@ -41,6 +43,8 @@ pub const SHIFT: f64 = 1e-5;
 pub const FILL_FACTOR: usize = 60;
 /// Convergence tolerance handed to the Krylov–Schur solver.
 const TOLERANCE: f64 = 1e-12;
+/// Residual bound ‖S v − λ v‖ of the Chebyshev-filtered subspace iteration.
+const CHEBYSHEV_TOLERANCE: f64 = 1e-10;
 
 /// A symmetric sparse matrix in compressed rows, both triangles and the diagonal stored.
 #[derive(Debug, Clone)]
@@ -228,49 +232,14 @@ fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
     })
 }
 
-/// (I + S)/2 applied by sparse products (eigenvalues in [0, 1], same order as S's).
-#[derive(Debug)]
-struct HalfShifted<'a> {
-    s: &'a SymCsr,
-}
-
-impl LinOp<f64> for HalfShifted<'_> {
-    fn apply_scratch(&self, _rhs_ncols: usize, _par: Par) -> StackReq {
-        StackReq::EMPTY
-    }
-    fn nrows(&self) -> usize {
-        self.s.n
-    }
-    fn ncols(&self) -> usize {
-        self.s.n
-    }
-    fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, _par: Par, _st: &mut MemStack) {
-        let mut out = out;
-        let n = self.s.n;
-        let mut x = vec![0.0; n];
-        let mut y = vec![0.0; n];
-        for c in 0..rhs.ncols() {
-            for (i, xi) in x.iter_mut().enumerate() {
-                *xi = rhs[(i, c)];
-            }
-            self.s.matvec(&x, &mut y);
-            for i in 0..n {
-                out[(i, c)] = 0.5 * (x[i] + y[i]);
-            }
-        }
-    }
-    fn conj_apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, s: &mut MemStack) {
-        self.apply(out, rhs, par, s);
-    }
-}
-
 /// Which solver produced the eigenpairs.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Solver {
     /// Shift-invert with a sparse Cholesky factor.
     ShiftInvert,
-    /// Krylov–Schur on (I + S)/2 (after a failed factorisation).
-    Direct,
+    /// Chebyshev-filtered subspace iteration on S (when the Cholesky factor would not fit its
+    /// budget or fails); see [`super::chebyshev`].
+    Chebyshev,
     /// Dense symmetric eigendecomposition, for graphs too small for a Krylov subspace (the
     /// Krylov–Schur iteration needs a subspace smaller than the matrix).
     Dense,
@@ -407,15 +376,8 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             (lam, v, Solver::ShiftInvert)
         }
         None => {
-            let op = HalfShifted { s };
-            let (mu, v, conv) = run_krylov(&op, n, nev, seed);
-            if conv < nev || mu.iter().any(|m| !m.is_finite()) {
-                return Err(Error::Analysis(format!(
-                    "diffusion map eigensolver converged on {conv} of {nev} eigenpairs"
-                )));
-            }
-            let lam: Vec<f64> = mu.iter().map(|m| 2.0 * m - 1.0).collect();
-            (lam, v, Solver::Direct)
+            let r = super::chebyshev::top_eigen_chebyshev(s, nev, seed, CHEBYSHEV_TOLERANCE)?;
+            (r.values, r.vectors, Solver::Chebyshev)
         }
     };
     finish(s, values, vectors, solver)
