@@ -78,10 +78,7 @@ fn screen_covers_the_synthetic_episode() {
             }
         }
         let share = |v: &[f64], hi: bool| {
-            v.iter()
-                .filter(|x| if hi { **x >= 0.5 } else { !(**x >= 0.5) })
-                .count() as f64
-                / v.len().max(1) as f64
+            v.iter().filter(|x| (**x >= 0.5) == hi).count() as f64 / v.len().max(1) as f64
         };
         let (s_in, s_out) = (share(&inside, false), share(&outside, true));
         eprintln!("seed {seed}: P-wave index < 0.5 on {s_in:.3} of episode beats, ≥ 0.5 on {s_out:.3} of others");

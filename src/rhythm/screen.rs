@@ -18,6 +18,16 @@
 //! the same 16 intervals. COSEn separates an irregularly irregular rhythm from rhythms whose
 //! intervals sit on a few discrete levels (sinus rhythm with dropped beats, bigeminy), which a
 //! large nRMSSD alone does not.
+//!
+//! Atrial veto ([`screen_beats_atrial`]): atrial fibrillation is an irregularly irregular RR
+//! *and* no discernible P waves (`common practice`), and some rhythms with P waves (sinus rhythm
+//! with frequent atrial premature beats) are as irregular by RR. Given a P-wave presence index
+//! per beat ([`super::atrial`], correlation of the pre-QRS segment with the record's own P-wave
+//! template, after Babaeizadeh et al. 2009, `from memory`), a run inside an episode where the
+//! running median of the index over [`ScreenParams::atrial_beats`] intervals stays at or above
+//! [`ScreenParams::atrial_min`] for at least [`ScreenParams::atrial_split_s`] is cut out like a
+//! locally regular run. Where the record yields no template the index is NaN and the veto does
+//! nothing.
 
 use super::entropy::{shannon_entropy, turning_point_ratio};
 use crate::error::{Error, Result};
@@ -70,8 +80,8 @@ pub struct ScreenParams {
     /// default equals `min_episode_s`: an interruption is reported on the same time scale as an
     /// episode. The 128-interval windows cannot see a regular stretch shorter than a window
     /// between two irregular ones; this beat-level rule can. On the open annotated records of
-    /// docs/validation.md, 15 / 30 / 45 s gave duration Sp 95.1 / 94.3 / 94.1 % and Se 95.4 /
-    /// 96.5 / 96.5 % (see its "Sensitivity" table).
+    /// docs/validation.md, before the atrial veto, 15 / 30 / 45 s gave duration Sp 95.1 / 94.3
+    /// / 94.1 % and Se 95.4 / 96.5 / 96.5 % (see its "Sensitivity" table for the current ones).
     pub split_regular_s: f64,
     /// Segment length of the local coefficient of sample entropy, RR intervals (default 16, the
     /// segment length of Lake & Moorman 2011, `from memory`; ≥ 4).
