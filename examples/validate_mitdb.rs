@@ -69,7 +69,7 @@ fn main() -> anyhow::Result<()> {
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);
     let mut worst: Vec<(String, f64, f64)> = Vec::new();
     let mut rhythm_md = String::from(
-        "| record | reference AF/AFL s | screened s | overlap s | duration Se % | duration Sp % |\n|---|---|---|---|---|---|\n",
+        "| record | reference AF/AFL s | screened s | overlap s | false s | missed s | duration Se % | duration Sp % | P-wave template (beats, agreement) |\n|---|---|---|---|---|---|---|---|---|\n",
     );
     let (mut af_ref, mut af_det, mut af_tp, mut af_total) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
     let t0 = std::time::Instant::now();
@@ -118,10 +118,19 @@ fn main() -> anyhow::Result<()> {
         let s_pt = score(&b.second);
         let s_fused = score(&fused.samples);
         // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
-        let sc = beatfold::rhythm::screen::screen_beats(
+        // P-wave presence index per beat, computed once and kept for the sensitivity table.
+        let pw = beatfold::rhythm::atrial::p_wave_index_with(
+            &b.conditioned,
+            &b.samples,
+            rec.fs_hz,
+            &beatfold::rhythm::atrial::AtrialParams::default(),
+        )?;
+        let atrial = pw.index;
+        let sc = beatfold::rhythm::screen::screen_beats_atrial(
             &b.samples,
             &b.rr_s,
             &b.labels,
+            &atrial,
             rec.fs_hz,
             &params.screen,
         )?;
@@ -133,6 +142,7 @@ fn main() -> anyhow::Result<()> {
             b.samples.clone(),
             b.rr_s.clone(),
             b.labels.clone(),
+            atrial,
             rec.fs_hz,
             truth.clone(),
             dur,
@@ -154,7 +164,9 @@ fn main() -> anyhow::Result<()> {
         af_total += dur;
         let _ = writeln!(
             rhythm_md,
-            "| {rec_name} | {rs:.0} | {ds:.0} | {overlap:.0} | {} | {} |",
+            "| {rec_name} | {rs:.0} | {ds:.0} | {overlap:.0} | {:.0} | {:.0} | {} | {} | {} |",
+            ds - overlap + 0.0,
+            rs - overlap + 0.0,
             if rs > 0.0 {
                 format!("{:.1}", 100.0 * overlap / rs)
             } else {
@@ -164,6 +176,11 @@ fn main() -> anyhow::Result<()> {
                 format!("{:.1}", 100.0 * (dur - rs - ds + overlap) / (dur - rs))
             } else {
                 "–".into()
+            },
+            if pw.accepted {
+                format!("{}, {:.2}", pw.template_beats, pw.agreement)
+            } else {
+                format!("none ({} beats, {:.2})", pw.template_beats, pw.agreement)
             }
         );
         let paced = PACED.contains(&rec_name);
@@ -295,15 +312,65 @@ fn main() -> anyhow::Result<()> {
                 ..base.clone()
             },
         ),
+        (
+            "atrial_veto = false".into(),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_veto: false,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_min = {:.2}", 0.5 * base.atrial_min),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_min: 0.5 * base.atrial_min,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_min = {:.2}", 1.5 * base.atrial_min),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_min: 1.5 * base.atrial_min,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_split_s = {}", 0.5 * base.atrial_split_s),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_split_s: 0.5 * base.atrial_split_s,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_split_s = {}", 1.5 * base.atrial_split_s),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_split_s: 1.5 * base.atrial_split_s,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_beats = {}", base.atrial_beats / 2),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_beats: base.atrial_beats / 2,
+                ..base.clone()
+            },
+        ),
+        (
+            format!("atrial_beats = {}", base.atrial_beats * 3 / 2),
+            beatfold::rhythm::screen::ScreenParams {
+                atrial_beats: base.atrial_beats * 3 / 2,
+                ..base.clone()
+            },
+        ),
     ];
     let mut sens_md = String::from(
-        "| screen parameters | duration Se % | duration Sp % | false s | missed s | false s 201 / 219 / 222 |\n|---|---|---|---|---|---|\n",
+        "| screen parameters | duration Se % | duration Sp % | false s | missed s | false s 201 / 219 / 222 | missed s 202 / 203 / 210 / 219 / 221 |\n|---|---|---|---|---|---|---|\n",
     );
     for (name, sp) in &variants {
         let (mut r_all, mut d_all, mut o_all, mut t_all) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
         let mut per = Vec::new();
-        for (k, (smp, rr, lab, fs, truth, dur)) in kept_beats.iter().enumerate() {
-            let sc = beatfold::rhythm::screen::screen_beats(smp, rr, lab, *fs, sp)?;
+        let mut per_missed = Vec::new();
+        for (k, (smp, rr, lab, atrial, fs, truth, dur)) in kept_beats.iter().enumerate() {
+            let sc = beatfold::rhythm::screen::screen_beats_atrial(smp, rr, lab, atrial, *fs, sp)?;
             let found = sc.episode_bounds();
             let (rs, ds, _, _) = beatfold::rhythm::screen::duration_agreement(truth, &found, *dur);
             let ov: f64 = truth
@@ -324,17 +391,21 @@ fn main() -> anyhow::Result<()> {
                 .and_then(|l| l.split(',').nth(c_rec))
                 .unwrap_or("");
             if ["201", "219", "222"].contains(&name_k) {
-                per.push(format!("{:.0}", ds - ov));
+                per.push(format!("{:.0}", ds - ov + 0.0));
+            }
+            if ["202", "203", "210", "219", "221"].contains(&name_k) {
+                per_missed.push(format!("{:.0}", rs - ov + 0.0));
             }
         }
         let _ = writeln!(
             sens_md,
-            "| {name} | {:.2} | {:.2} | {:.0} | {:.0} | {} |",
+            "| {name} | {:.2} | {:.2} | {:.0} | {:.0} | {} | {} |",
             100.0 * o_all / r_all.max(1e-9),
             100.0 * (t_all - r_all - d_all + o_all) / (t_all - r_all).max(1e-9),
             d_all - o_all,
             r_all - o_all,
-            per.join(" / ")
+            per.join(" / "),
+            per_missed.join(" / ")
         );
     }
     println!("{summary}");
@@ -349,8 +420,8 @@ fn main() -> anyhow::Result<()> {
              Data: MIT-BIH Arrhythmia Database 1.0.0 subset (Moody & Mark 2001; Goldberger et al. 2000; PhysioNet, \
              ODC-By 1.0), 18 records; see the folder's SOURCE.md.\n\n## Decoding and beat detection\n\n{summary}\n{md}\n\
              ## Irregular-rhythm research screen\n\n{rhythm_summary}\n{rhythm_md}\n\
-             ### Sensitivity\n\nThe same detected beats screened again with one parameter of the interior split \
-             (docs/methods.md) changed by ±50 %; false s = screened time outside the reference AF/AFL, missed s = \
+             ### Sensitivity\n\nThe same detected beats (and the same P-wave index) screened again with one parameter of the \
+             interior split or of the atrial veto (docs/methods.md) changed by ±50 %, or the veto off; false s = screened time outside the reference AF/AFL, missed s = \
              reference time not screened.\n\n{sens_md}\n\
              Research use only: these numbers describe beatfold on this benchmark, not on your data.\n",
             folder.display(),

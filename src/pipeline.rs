@@ -443,8 +443,10 @@ pub fn analyze(
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
     let variability = rhythm::variability(&nn);
     let (sd1_ms, sd2_ms, sample_entropy) = rhythm::entropy::nn_descriptors(&nn);
-    let screen =
-        rhythm::screen::screen_beats(&b.samples, &b.rr_s, &b.labels, rec.fs_hz, &p.screen)?;
+    let atrial = rhythm::atrial::p_wave_index(&b.conditioned, &b.samples, rec.fs_hz)?;
+    let screen = rhythm::screen::screen_beats_atrial(
+        &b.samples, &b.rr_s, &b.labels, &atrial, rec.fs_hz, &p.screen,
+    )?;
     if screen.windows.is_empty() {
         notes.push(format!(
             "irregular-rhythm screen: {} RR intervals, fewer than one window of {}",

@@ -6,6 +6,7 @@
 //! In: RR intervals in seconds (and, for recurrence, one point per beat). Out: [`Variability`],
 //! [`screen::Screen`], [`recurrence::RqaWindow`]s.
 
+pub mod atrial;
 pub mod entropy;
 pub mod recurrence;
 pub mod screen;
