@@ -6,6 +6,10 @@
 //! and a T-like Gaussian bump whose amplitude, width and timing vary smoothly with three seeded
 //! latent parameters, plus white noise (SD 0.01); k = 15 neighbours, local scaling with 7
 //! neighbours, 10 components. Peak resident memory is read from /proc/self/status (VmHWM).
+//!
+//! With `--dump DIR` the windows are also written to `DIR/points.f64` (row-major little-endian
+//! float64, N × 64) and the fit's seconds to `DIR/beatfold.json`, for
+//! `scripts/time_sklearn_embedding.py DIR` (a reference library on the same points).
 
 use beatfold::embed::{diffusion_map, knn, sparse, DiffusionParams, Pca};
 use beatfold::points::Points;
@@ -53,7 +57,12 @@ fn beats(n: usize, seed: u64) -> Points {
 }
 
 fn main() -> anyhow::Result<()> {
-    let args: Vec<String> = std::env::args().collect();
+    let mut args: Vec<String> = std::env::args().collect();
+    let dump = args.iter().position(|a| a == "--dump").map(|i| {
+        let dir = args.get(i + 1).cloned().unwrap_or_else(|| ".".into());
+        args.drain(i..(i + 2).min(args.len()));
+        std::path::PathBuf::from(dir)
+    });
     let n: usize = args
         .get(1)
         .map(|s| s.parse())
@@ -118,6 +127,7 @@ fn main() -> anyhow::Result<()> {
             peak_rss_mib()
         );
     }
+    let t_fit = std::time::Instant::now();
     let e = time(
         &format!(
             "diffusion map, k = 15, 10 components{}",
@@ -129,6 +139,23 @@ fn main() -> anyhow::Result<()> {
         ),
         || diffusion_map(&pts, &p),
     )?;
+    let fit_s = t_fit.elapsed().as_secs_f64();
+    if let Some(dir) = &dump {
+        std::fs::create_dir_all(dir)?;
+        let bytes: Vec<u8> = pts.data.iter().flat_map(|v| v.to_le_bytes()).collect();
+        std::fs::write(dir.join("points.f64"), bytes)?;
+        let meta = serde_json::json!({
+            "n": pts.n,
+            "dim": pts.dim,
+            "neighbors": 15,
+            "components": 10,
+            "landmarks": landmarks,
+            "fit_seconds": fit_s,
+            "eigenvalues": e.eigenvalues,
+        });
+        std::fs::write(dir.join("beatfold.json"), format!("{meta:#}\n"))?;
+        println!("points written to {}", dir.display());
+    }
     println!("eigenvalues: {:?}", e.eigenvalues);
     println!(
         "residual {:.2e}; fit points {}; landmark error {:?}; PCA axes in model {:?}",
