@@ -247,119 +247,64 @@ fn main() -> anyhow::Result<()> {
     );
     // Sensitivity of the screen to its interior-split parameters (each varied ±50 %).
     let base = params.screen.clone();
+    let variant = |label: String, set: &dyn Fn(&mut beatfold::rhythm::screen::ScreenParams)| {
+        let mut p = base.clone();
+        set(&mut p);
+        (label, p)
+    };
     let variants: Vec<(String, beatfold::rhythm::screen::ScreenParams)> = vec![
         ("defaults".into(), base.clone()),
-        (
-            "split_regular_s = 0 (no split)".into(),
-            beatfold::rhythm::screen::ScreenParams {
-                split_regular_s: 0.0,
-                ..base.clone()
-            },
-        ),
-        (
+        variant("split_regular_s = 0 (no split)".into(), &|p| {
+            p.split_regular_s = 0.0
+        }),
+        variant(
             format!("split_regular_s = {}", 0.5 * base.split_regular_s),
-            beatfold::rhythm::screen::ScreenParams {
-                split_regular_s: 0.5 * base.split_regular_s,
-                ..base.clone()
-            },
+            &|p| p.split_regular_s = 0.5 * base.split_regular_s,
         ),
-        (
+        variant(
             format!("split_regular_s = {}", 1.5 * base.split_regular_s),
-            beatfold::rhythm::screen::ScreenParams {
-                split_regular_s: 1.5 * base.split_regular_s,
-                ..base.clone()
-            },
+            &|p| p.split_regular_s = 1.5 * base.split_regular_s,
         ),
-        (
-            format!("cosen_min = {:.2}", 0.5 * base.cosen_min),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_min: 0.5 * base.cosen_min,
-                ..base.clone()
-            },
-        ),
-        (
-            format!("cosen_min = {:.2}", 1.5 * base.cosen_min),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_min: 1.5 * base.cosen_min,
-                ..base.clone()
-            },
-        ),
-        (
-            format!("cosen_beats = {}", base.cosen_beats / 2),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_beats: base.cosen_beats / 2,
-                ..base.clone()
-            },
-        ),
-        (
+        variant(format!("cosen_min = {:.2}", 0.5 * base.cosen_min), &|p| {
+            p.cosen_min = 0.5 * base.cosen_min
+        }),
+        variant(format!("cosen_min = {:.2}", 1.5 * base.cosen_min), &|p| {
+            p.cosen_min = 1.5 * base.cosen_min
+        }),
+        variant(format!("cosen_beats = {}", base.cosen_beats / 2), &|p| {
+            p.cosen_beats = base.cosen_beats / 2
+        }),
+        variant(
             format!("cosen_beats = {}", base.cosen_beats * 3 / 2),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_beats: base.cosen_beats * 3 / 2,
-                ..base.clone()
-            },
+            &|p| p.cosen_beats = base.cosen_beats * 3 / 2,
         ),
-        (
-            format!("cosen_r_s = {:.3}", 0.5 * base.cosen_r_s),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_r_s: 0.5 * base.cosen_r_s,
-                ..base.clone()
-            },
-        ),
-        (
-            format!("cosen_r_s = {:.3}", 1.5 * base.cosen_r_s),
-            beatfold::rhythm::screen::ScreenParams {
-                cosen_r_s: 1.5 * base.cosen_r_s,
-                ..base.clone()
-            },
-        ),
-        (
-            "atrial_veto = false".into(),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_veto: false,
-                ..base.clone()
-            },
-        ),
-        (
-            format!("atrial_min = {:.2}", 0.5 * base.atrial_min),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_min: 0.5 * base.atrial_min,
-                ..base.clone()
-            },
-        ),
-        (
-            format!("atrial_min = {:.2}", 1.5 * base.atrial_min),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_min: 1.5 * base.atrial_min,
-                ..base.clone()
-            },
-        ),
-        (
+        variant(format!("cosen_r_s = {:.3}", 0.5 * base.cosen_r_s), &|p| {
+            p.cosen_r_s = 0.5 * base.cosen_r_s
+        }),
+        variant(format!("cosen_r_s = {:.3}", 1.5 * base.cosen_r_s), &|p| {
+            p.cosen_r_s = 1.5 * base.cosen_r_s
+        }),
+        variant("atrial_veto = false".into(), &|p| p.atrial_veto = false),
+        variant(format!("atrial_min = {:.2}", 0.5 * base.atrial_min), &|p| {
+            p.atrial_min = 0.5 * base.atrial_min
+        }),
+        variant(format!("atrial_min = {:.2}", 1.5 * base.atrial_min), &|p| {
+            p.atrial_min = 1.5 * base.atrial_min
+        }),
+        variant(
             format!("atrial_split_s = {}", 0.5 * base.atrial_split_s),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_split_s: 0.5 * base.atrial_split_s,
-                ..base.clone()
-            },
+            &|p| p.atrial_split_s = 0.5 * base.atrial_split_s,
         ),
-        (
+        variant(
             format!("atrial_split_s = {}", 1.5 * base.atrial_split_s),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_split_s: 1.5 * base.atrial_split_s,
-                ..base.clone()
-            },
+            &|p| p.atrial_split_s = 1.5 * base.atrial_split_s,
         ),
-        (
-            format!("atrial_beats = {}", base.atrial_beats / 2),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_beats: base.atrial_beats / 2,
-                ..base.clone()
-            },
-        ),
-        (
+        variant(format!("atrial_beats = {}", base.atrial_beats / 2), &|p| {
+            p.atrial_beats = base.atrial_beats / 2
+        }),
+        variant(
             format!("atrial_beats = {}", base.atrial_beats * 3 / 2),
-            beatfold::rhythm::screen::ScreenParams {
-                atrial_beats: base.atrial_beats * 3 / 2,
-                ..base.clone()
-            },
+            &|p| p.atrial_beats = base.atrial_beats * 3 / 2,
         ),
     ];
     let mut sens_md = String::from(

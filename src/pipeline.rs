@@ -266,6 +266,18 @@ pub struct BeatsResult {
     pub conditioned: Vec<f64>,
 }
 
+/// The irregular-rhythm research screen of detected beats (sampled at `fs_hz`), with the
+/// atrial-activity veto from the P-wave index of the conditioned lead
+/// ([`rhythm::atrial::p_wave_index`], [`rhythm::screen::screen_beats_atrial`]).
+pub fn screen_rhythm(
+    b: &BeatsResult,
+    fs_hz: f64,
+    p: &rhythm::screen::ScreenParams,
+) -> Result<rhythm::screen::Screen> {
+    let atrial = rhythm::atrial::p_wave_index(&b.conditioned, &b.samples, fs_hz)?;
+    rhythm::screen::screen_beats_atrial(&b.samples, &b.rr_s, &b.labels, &atrial, fs_hz, p)
+}
+
 /// Choose the lead to analyse.
 pub fn choose_lead(rec: &Record, lead: Option<&str>) -> Result<usize> {
     if rec.leads.is_empty() {
@@ -443,10 +455,7 @@ pub fn analyze(
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
     let variability = rhythm::variability(&nn);
     let (sd1_ms, sd2_ms, sample_entropy) = rhythm::entropy::nn_descriptors(&nn);
-    let atrial = rhythm::atrial::p_wave_index(&b.conditioned, &b.samples, rec.fs_hz)?;
-    let screen = rhythm::screen::screen_beats_atrial(
-        &b.samples, &b.rr_s, &b.labels, &atrial, rec.fs_hz, &p.screen,
-    )?;
+    let screen = screen_rhythm(&b, rec.fs_hz, &p.screen)?;
     if screen.windows.is_empty() {
         notes.push(format!(
             "irregular-rhythm screen: {} RR intervals, fewer than one window of {}",

@@ -5,8 +5,7 @@ use anyhow::{bail, Context, Result};
 use beatfold::io::{self, ReadOptions};
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
 use beatfold::record::Record;
-use beatfold::rhythm::atrial::p_wave_index;
-use beatfold::rhythm::screen::{irregular_reference, screen_beats_atrial};
+use beatfold::rhythm::screen::irregular_reference;
 use beatfold::{report, synth, NOTICE};
 use serde_json::json;
 use std::io::IsTerminal;
@@ -586,15 +585,7 @@ fn rhythm_score(
     if rec.annotations.rhythms.is_empty() {
         return Ok(None);
     }
-    let atrial = p_wave_index(&b.conditioned, &b.samples, rec.fs_hz)?;
-    let sc = screen_beats_atrial(
-        &b.samples,
-        &b.rr_s,
-        &b.labels,
-        &atrial,
-        rec.fs_hz,
-        &params.screen,
-    )?;
+    let sc = pipeline::screen_rhythm(b, rec.fs_hz, &params.screen)?;
     let truth = irregular_reference(&rec.annotations);
     let found = sc.episode_bounds();
     let (r, d, se, sp) =
@@ -954,15 +945,7 @@ fn rhythm_cmd(
     let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
     let v = beatfold::rhythm::variability(&nn);
     let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
-    let atrial = p_wave_index(&b.conditioned, &b.samples, rec.fs_hz)?;
-    let sc = screen_beats_atrial(
-        &b.samples,
-        &b.rr_s,
-        &b.labels,
-        &atrial,
-        rec.fs_hz,
-        &params.screen,
-    )?;
+    let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params.screen)?;
     let t_end: Vec<f64> = b
         .samples
         .iter()

@@ -55,21 +55,6 @@ pub struct ChebyshevEigen {
     pub block_products: usize,
 }
 
-/// Y = S·X for row-major blocks of width `b`.
-fn spmm(s: &SymCsr, x: &[f64], y: &mut [f64], b: usize) {
-    y.par_chunks_mut(ROWS * b).enumerate().for_each(|(ci, yc)| {
-        for (ri, yr) in yc.chunks_exact_mut(b).enumerate() {
-            let i = ci * ROWS + ri;
-            yr.fill(0.0);
-            for e in s.ptr[i]..s.ptr[i + 1] {
-                let v = s.val[e];
-                let xr = &x[s.col[e] * b..(s.col[e] + 1) * b];
-                yr.iter_mut().zip(xr).for_each(|(o, &xv)| *o += v * xv);
-            }
-        }
-    });
-}
-
 /// One Chebyshev step in place: `prev` ← (2/e)·(S·cur − c·cur) − prev (or, with `first`,
 /// `prev` ← (S·cur − c·cur)/e, ignoring its old content).
 fn cheb_step(s: &SymCsr, cur: &[f64], prev: &mut [f64], b: usize, c: f64, e: f64, first: bool) {
@@ -328,7 +313,7 @@ fn solve(s: &SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen> 
         let q = refill(q, w, b, &mut rng);
         // Rayleigh–Ritz.
         let mut sq = prev;
-        spmm(s, &q, &mut sq, b);
+        cheb_step(s, &q, &mut sq, b, 0.0, 1.0, true); // S·q
         products += 1;
         let h = gram(&q, &sq, b);
         let (theta, u_small) = small_eigen(&h, b)?;

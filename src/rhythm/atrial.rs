@@ -160,19 +160,6 @@ pub struct PWaveIndex {
 /// memory on long recordings.
 const MAX_TEMPLATE_BEATS: usize = 2000;
 
-fn median(v: &mut [f64]) -> f64 {
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    v.sort_by(f64::total_cmp);
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
-}
-
 /// Remove the least-squares line from `v` in place.
 fn detrend(v: &mut [f64]) {
     let n = v.len() as f64;
@@ -287,7 +274,7 @@ pub fn p_wave_index_with(
         if rr.iter().any(|&v| v <= 0.0) {
             return false;
         }
-        let med = median(&mut rr);
+        let med = crate::stats::median_of_finite(&mut rr);
         rr.iter().all(|&v| (v - med).abs() <= p.regular_tol * med)
     };
     let mut chosen: Vec<usize> = (0..n)
@@ -303,13 +290,14 @@ pub fn p_wave_index_with(
         column.clear();
         for &k in &chosen {
             if let Some(j0) = starts[k] {
-                if j >= j0 {
-                    column.push(conditioned[samples[k] - lo + j]);
+                let v = conditioned[samples[k] - lo + j];
+                if j >= j0 && v.is_finite() {
+                    column.push(v);
                 }
             }
         }
         if column.len() >= p.min_template_beats {
-            *t = median(&mut column);
+            *t = crate::stats::median_of_finite(&mut column);
         }
     }
     // The template is used from its first position after which every position is covered.
@@ -337,7 +325,7 @@ pub fn p_wave_index_with(
         .map(|&k| index[k])
         .filter(|v| v.is_finite())
         .collect();
-    let agreement = median(&mut own);
+    let agreement = crate::stats::median_of_finite(&mut own);
     if !(agreement >= p.template_min_agreement) {
         return Ok(empty(template, chosen.len(), agreement));
     }
@@ -365,22 +353,23 @@ pub fn smoothed_index(v: &[f64], beats: usize) -> Vec<f64> {
             if 2 * buf.len() < e - s {
                 f64::NAN
             } else {
-                median(&mut buf)
+                crate::stats::median_of_finite(&mut buf)
             }
         })
         .collect()
 }
 
+/// Synthetic leads for the tests of this module and of the screen.
 #[cfg(test)]
-mod tests {
-    use super::*;
+pub(crate) mod test_signals {
     use rand::{Rng, SeedableRng};
     use std::f64::consts::PI;
 
-    const FS: f64 = 250.0;
+    /// Sampling rate of the test leads.
+    pub(crate) const FS: f64 = 250.0;
 
     /// Add a Gaussian bump of `amp` mV, width `sigma_s`, centred at `t_s`.
-    fn bump(x: &mut [f64], t_s: f64, amp: f64, sigma_s: f64) {
+    pub(crate) fn bump(x: &mut [f64], t_s: f64, amp: f64, sigma_s: f64) {
         let c = t_s * FS;
         let r = (4.0 * sigma_s * FS).ceil() as isize;
         for d in -r..=r {
@@ -395,7 +384,12 @@ mod tests {
     /// A lead with one beat per entry of `rr_s` (R peak, QRS 1 mV with 12 ms width, T wave 0.3 mV
     /// 300 ms after R). `p_wave[k]` puts a 0.15 mV P wave (σ 25 ms) 160 ms before R. Adds
     /// white noise of `noise_mv` RMS. Returns the signal and the R samples.
-    fn lead(rr_s: &[f64], p_wave: &[bool], noise_mv: f64, seed: u64) -> (Vec<f64>, Vec<usize>) {
+    pub(crate) fn lead(
+        rr_s: &[f64],
+        p_wave: &[bool],
+        noise_mv: f64,
+        seed: u64,
+    ) -> (Vec<f64>, Vec<usize>) {
         let total: f64 = rr_s.iter().sum::<f64>() + 2.0;
         let mut x = vec![0.0; (total * FS) as usize];
         let mut t = 1.0;
@@ -418,7 +412,7 @@ mod tests {
     }
 
     /// Fibrillatory waves: three sinusoids at 4–9 Hz with random phases, total ≈ `amp_mv` peak.
-    fn fibrillation(x: &mut [f64], from_s: f64, to_s: f64, amp_mv: f64, seed: u64) {
+    pub(crate) fn fibrillation(x: &mut [f64], from_s: f64, to_s: f64, amp_mv: f64, seed: u64) {
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
         let waves: Vec<(f64, f64)> = (0..3)
             .map(|_| (rng.gen_range(4.0..9.0), rng.gen_range(0.0..2.0 * PI)))
@@ -433,6 +427,13 @@ mod tests {
                 .sum::<f64>();
         }
     }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::test_signals::{fibrillation, lead, FS};
+    use super::*;
+    use rand::{Rng, SeedableRng};
 
     #[test]
     fn p_waves_give_an_index_near_one_even_with_irregular_rr() {
@@ -458,7 +459,7 @@ mod tests {
         let irr: Vec<f64> = pw.index[151..349].to_vec();
         let mut sorted: Vec<f64> = irr.iter().copied().filter(|v| v.is_finite()).collect();
         assert!(sorted.len() >= 190, "{} finite", sorted.len());
-        let med = median(&mut sorted.clone());
+        let med = crate::stats::median_of_finite(&mut sorted.clone());
         sorted.sort_by(f64::total_cmp);
         let p10 = sorted[sorted.len() / 10];
         eprintln!("P waves, irregular RR: median {med:.3}, 10th percentile {p10:.3}");

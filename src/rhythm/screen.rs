@@ -936,22 +936,8 @@ mod split_tests {
 mod atrial_tests {
     use super::*;
     use crate::rhythm::atrial::p_wave_index;
+    use crate::rhythm::atrial::test_signals::{fibrillation, lead, FS};
     use rand::{Rng, SeedableRng};
-    use std::f64::consts::PI;
-
-    const FS: f64 = 250.0;
-
-    fn bump(x: &mut [f64], t_s: f64, amp: f64, sigma_s: f64) {
-        let c = t_s * FS;
-        let r = (4.0 * sigma_s * FS).ceil() as isize;
-        for d in -r..=r {
-            let i = c.round() as isize + d;
-            if i >= 0 && (i as usize) < x.len() {
-                let z = (i as f64 - c) / (sigma_s * FS);
-                x[i as usize] += amp * (-0.5 * z * z).exp();
-            }
-        }
-    }
 
     /// A synthetic lead of our own: 150 regular beats with P waves (0.8 s ± 2 %), 300 irregular
     /// beats without P waves over fibrillatory waves (three 4–9 Hz sinusoids, ≈ 0.1 mV, random
@@ -972,37 +958,13 @@ mod atrial_tests {
             rr.push(r);
             has_p.push(pw);
         }
-        let total: f64 = rr.iter().sum::<f64>() + 2.0;
-        let mut x = vec![0.0; (total * FS) as usize];
-        let mut t = 1.0;
-        let mut r_samples = Vec::new();
-        let mut af_spans = Vec::new();
-        for k in 0..850 {
-            bump(&mut x, t, 1.0, 0.012);
-            bump(&mut x, t + 0.3, 0.3, 0.05);
-            if has_p[k] {
-                bump(&mut x, t - 0.16, 0.15, 0.025);
-            } else {
-                af_spans.push((t - rr[k - 1], t));
+        let (mut x, r_samples) = lead(&rr, &has_p, 0.01, seed);
+        // The same fibrillatory waves (one seed) over every beat without a P wave.
+        for k in 1..850 {
+            if !has_p[k] {
+                let t = r_samples[k] as f64 / FS;
+                fibrillation(&mut x, t - rr[k - 1], t, 0.1, seed + 100);
             }
-            r_samples.push((t * FS).round() as usize);
-            t += rr[k];
-        }
-        let waves: Vec<(f64, f64)> = (0..3)
-            .map(|_| (rng.gen_range(4.0..9.0), rng.gen_range(0.0..2.0 * PI)))
-            .collect();
-        for (a, b) in af_spans {
-            for i in (a * FS) as usize..((b * FS) as usize).min(x.len()) {
-                let ti = i as f64 / FS;
-                x[i] += waves
-                    .iter()
-                    .map(|(f, ph)| 0.1 / 3.0 * (2.0 * PI * f * ti + ph).sin())
-                    .sum::<f64>();
-            }
-        }
-        let normal = rand_distr::Normal::new(0.0, 0.01).unwrap();
-        for v in &mut x {
-            *v += rand_distr::Distribution::sample(&normal, &mut rng);
         }
         (x, r_samples)
     }
