@@ -122,6 +122,8 @@ pub struct AnalyzeParams {
     pub dimension: KmeansScalingParams,
     /// Irregular-rhythm screen.
     pub screen: crate::rhythm::screen::ScreenParams,
+    /// P-wave presence index feeding the screen's atrial veto (`screen.atrial_veto`).
+    pub atrial: crate::rhythm::atrial::AtrialParams,
     /// Recurrence quantification of the embedded beat trajectory.
     pub recurrence: crate::rhythm::recurrence::RqaParams,
     /// Records with at most this many beats are embedded with the dense kernel (every pair of
@@ -155,6 +157,7 @@ impl Default for AnalyzeParams {
             },
             dimension: KmeansScalingParams::default(),
             screen: crate::rhythm::screen::ScreenParams::default(),
+            atrial: crate::rhythm::atrial::AtrialParams::default(),
             recurrence: crate::rhythm::recurrence::RqaParams::default(),
             dense_kernel_max_beats: 2000,
             recurrence_components: 3,
@@ -186,6 +189,7 @@ impl AnalyzeParams {
         self.diffusion.check()?;
         self.dimension.check()?;
         self.screen.check()?;
+        self.atrial.check()?;
         self.recurrence.check()?;
         if self.recurrence_components == 0 {
             return Err(Error::param(
@@ -266,16 +270,23 @@ pub struct BeatsResult {
     pub conditioned: Vec<f64>,
 }
 
-/// The irregular-rhythm research screen of detected beats (sampled at `fs_hz`), with the
-/// atrial-activity veto from the P-wave index of the conditioned lead
-/// ([`rhythm::atrial::p_wave_index`], [`rhythm::screen::screen_beats_atrial`]).
+/// The irregular-rhythm research screen of detected beats (sampled at `fs_hz`) with
+/// `p.screen`, and its atrial-activity veto from the P-wave index of the conditioned lead with
+/// `p.atrial` ([`rhythm::atrial::p_wave_index_with`], [`rhythm::screen::screen_beats_atrial`]).
 pub fn screen_rhythm(
     b: &BeatsResult,
     fs_hz: f64,
-    p: &rhythm::screen::ScreenParams,
+    p: &AnalyzeParams,
 ) -> Result<rhythm::screen::Screen> {
-    let atrial = rhythm::atrial::p_wave_index(&b.conditioned, &b.samples, fs_hz)?;
-    rhythm::screen::screen_beats_atrial(&b.samples, &b.rr_s, &b.labels, &atrial, fs_hz, p)
+    let atrial = rhythm::atrial::p_wave_index_with(&b.conditioned, &b.samples, fs_hz, &p.atrial)?;
+    rhythm::screen::screen_beats_atrial(
+        &b.samples,
+        &b.rr_s,
+        &b.labels,
+        &atrial.index,
+        fs_hz,
+        &p.screen,
+    )
 }
 
 /// Choose the lead to analyse.
@@ -455,7 +466,7 @@ pub fn analyze(
     let nn = rhythm::nn_intervals(&b.rr_s, &b.labels);
     let variability = rhythm::variability(&nn);
     let (sd1_ms, sd2_ms, sample_entropy) = rhythm::entropy::nn_descriptors(&nn);
-    let screen = screen_rhythm(&b, rec.fs_hz, &p.screen)?;
+    let screen = screen_rhythm(&b, rec.fs_hz, p)?;
     if screen.windows.is_empty() {
         notes.push(format!(
             "irregular-rhythm screen: {} RR intervals, fewer than one window of {}",
@@ -534,5 +545,28 @@ fn empty_curve() -> ScalingCurve {
         fit_slope: f64::NAN,
         fit_intercept: f64::NAN,
         noise_scale: None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn atrial_block_of_the_configuration_is_read_and_checked() {
+        let p: AnalyzeParams =
+            serde_json::from_str(r#"{"atrial": {"window_start_ms": 250}}"#).unwrap();
+        assert_eq!(p.atrial.window_start_ms, 250.0);
+        assert_eq!(
+            p.atrial.window_end_ms,
+            rhythm::atrial::AtrialParams::default().window_end_ms
+        );
+        assert!(p.check().is_ok());
+        let bad: AnalyzeParams =
+            serde_json::from_str(r#"{"atrial": {"window_start_ms": 50}}"#).unwrap();
+        match bad.check() {
+            Err(Error::Param { name, .. }) => assert!(name.starts_with("atrial."), "{name}"),
+            other => panic!("expected a parameter error, got {other:?}"),
+        }
     }
 }

@@ -585,7 +585,7 @@ fn rhythm_score(
     if rec.annotations.rhythms.is_empty() {
         return Ok(None);
     }
-    let sc = pipeline::screen_rhythm(b, rec.fs_hz, &params.screen)?;
+    let sc = pipeline::screen_rhythm(b, rec.fs_hz, params)?;
     let truth = irregular_reference(&rec.annotations);
     let found = sc.episode_bounds();
     let (r, d, se, sp) =
@@ -945,7 +945,7 @@ fn rhythm_cmd(
     let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
     let v = beatfold::rhythm::variability(&nn);
     let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
-    let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params.screen)?;
+    let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params)?;
     let t_end: Vec<f64> = b
         .samples
         .iter()
