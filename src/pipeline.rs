@@ -270,6 +270,24 @@ pub struct BeatsResult {
     pub conditioned: Vec<f64>,
 }
 
+/// A note when the diffusion kernel falls into separate groups of beats: a non-trivial
+/// eigenvalue of the Markov matrix equal to 1 (within 1e-9) means one more group that no
+/// kernel weight connects (the multiplicity of eigenvalue 1 of a stochastic matrix counts its
+/// closed classes; Coifman & Lafon 2006), and the matching diffusion coordinates then only say
+/// which group a beat belongs to.
+pub fn separate_groups_note(eigenvalues: &[f64]) -> Option<String> {
+    let ones = eigenvalues.iter().filter(|&&l| l > 1.0 - 1e-9).count();
+    (ones > 0).then(|| {
+        format!(
+            "diffusion map: the beats fall into at least {} groups that the kernel does not connect (eigenvalue 1 repeated {ones} time{}); diffusion coordinate{} 1{} only mark group membership, and distances between groups are not measured",
+            ones + 1,
+            if ones == 1 { "" } else { "s" },
+            if ones == 1 { "" } else { "s" },
+            if ones == 1 { String::new() } else { format!("–{ones}") },
+        )
+    })
+}
+
 /// The irregular-rhythm research screen of detected beats (sampled at `fs_hz`) with
 /// `p.screen`, and its atrial-activity veto from the P-wave index of the conditioned lead with
 /// `p.atrial` ([`rhythm::atrial::p_wave_index_with`], [`rhythm::screen::screen_beats_atrial`]).
@@ -444,6 +462,7 @@ pub fn analyze(
         } else {
             embed::diffusion_map(&feats.points, &p.diffusion)?
         };
+        notes.extend(separate_groups_note(&e.eigenvalues));
         progress(4, STAGES[4]);
         let sp = dimension::SuiteParams {
             seed: p.dimension.seed,
@@ -551,6 +570,19 @@ fn empty_curve() -> ScalingCurve {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn repeated_unit_eigenvalue_is_reported_as_separate_groups() {
+        // A stochastic matrix has eigenvalue 1 once per closed class (Perron–Frobenius, common
+        // practice): one non-trivial eigenvalue 1 means two groups.
+        let two = separate_groups_note(&[1.0 - 1e-15, 0.98, 0.95]).unwrap();
+        assert!(two.contains("at least 2 groups"), "{two}");
+        assert!(two.contains("coordinate 1 only"), "{two}");
+        let three = separate_groups_note(&[1.0, 1.0 - 2e-12, 0.9]).unwrap();
+        assert!(three.contains("at least 3 groups"), "{three}");
+        assert!(three.contains("coordinates 1–2"), "{three}");
+        assert_eq!(separate_groups_note(&[0.9999, 0.99]), None);
+    }
 
     #[test]
     fn atrial_block_of_the_configuration_is_read_and_checked() {
