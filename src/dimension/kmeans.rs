@@ -90,18 +90,8 @@ pub fn distortion(points: &Points, centres: &Points) -> Result<f64> {
     Ok(parts.iter().sum::<f64>() / points.n as f64)
 }
 
-/// Squared distance from each point to its nearest centre, in point order (the summands of
-/// [`distortion`]). Callers pass points and centres of one dimension.
-pub(crate) fn point_errors(points: &Points, centres: &Points) -> Vec<f64> {
-    let c_norms = row_norms(centres);
-    let idx: Vec<usize> = (0..points.n).collect();
-    nearest_two_many(points, &idx, centres, &c_norms)
-        .into_iter()
-        .map(|(_, d, _)| d * d)
-        .collect()
-}
-
-/// Nearest centre index and squared distance of each point, in point order.
+/// Nearest centre index and squared distance of each point, in point order (the distances are
+/// the summands of [`distortion`]). Callers pass points and centres of one dimension.
 pub(crate) fn point_cells(points: &Points, centres: &Points) -> Vec<(usize, f64)> {
     let c_norms = row_norms(centres);
     let idx: Vec<usize> = (0..points.n).collect();

@@ -29,7 +29,7 @@
 //! pair j (None when no such j). The least-squares line ln D = intercept + slope·ln k is fitted
 //! to the k values spanned by the plateau pairs.
 
-use super::kmeans::{kmeans, point_cells, point_errors};
+use super::kmeans::{kmeans, point_cells};
 use super::{ScalePoint, ScalingCurve};
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -203,23 +203,24 @@ pub(crate) fn kmeans_scaling_errors(
             p.max_iter,
             p.seed.wrapping_add(1 + i as u64),
         )?;
-        let e: Vec<f64> = if p.finite_sample_correction {
-            let mut counts = vec![0usize; fit.centres.n];
-            for &l in &fit.labels {
-                if let Some(c) = counts.get_mut(l) {
-                    *c += 1;
-                }
+        // Training points per centre, for the finite-sample correction (module notes).
+        let mut counts = vec![0usize; fit.centres.n];
+        for &l in &fit.labels {
+            if let Some(c) = counts.get_mut(l) {
+                *c += 1;
             }
-            point_cells(&hold, &fit.centres)
-                .into_iter()
-                .map(|(c, e)| {
+        }
+        let e: Vec<f64> = point_cells(&hold, &fit.centres)
+            .into_iter()
+            .map(|(c, e)| {
+                if p.finite_sample_correction {
                     let n_c = counts.get(c).copied().unwrap_or(0).max(1) as f64;
                     e / (1.0 + 1.0 / n_c)
-                })
-                .collect()
-        } else {
-            point_errors(&hold, &fit.centres)
-        };
+                } else {
+                    e
+                }
+            })
+            .collect();
         let dk = e.iter().sum::<f64>() / e.len() as f64;
         if dk <= 0.0 {
             break;
