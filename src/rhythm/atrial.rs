@@ -290,9 +290,9 @@ pub fn p_wave_index_with(
         column.clear();
         for &k in &chosen {
             if let Some(j0) = starts[k] {
-                let v = conditioned[samples[k] - lo + j];
-                if j >= j0 && v.is_finite() {
-                    column.push(v);
+                // Finite: `first_pos` admits only segments without non-finite samples.
+                if j >= j0 {
+                    column.push(conditioned[samples[k] - lo + j]);
                 }
             }
         }

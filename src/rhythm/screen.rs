@@ -590,19 +590,10 @@ pub fn screen_beats_atrial(
         )));
     }
     let t_end: Vec<f64> = samples.iter().skip(1).map(|&s| s as f64 / fs_hz).collect();
-    // The index of the beat closing each interval.
-    let per_interval: Vec<f64> = if atrial.len() == t_end.len() + 1 {
-        atrial.iter().skip(1).copied().collect()
-    } else {
-        Vec::new()
-    };
+    // The index of the beat closing each interval (empty without an index).
+    let per_interval: &[f64] = atrial.get(1..).unwrap_or(&[]);
     if !p.exclude_ectopic || labels.len() != samples.len() || rr_s.len() != t_end.len() {
-        let a = if per_interval.len() == rr_s.len() {
-            per_interval.as_slice()
-        } else {
-            &[]
-        };
-        return screen_inner(rr_s, &t_end, a, p);
+        return screen_inner(rr_s, &t_end, per_interval, p);
     }
     let normal = |c: char| c == 'N' || c == 'A';
     let kept: Vec<usize> = (0..rr_s.len())
