@@ -8,10 +8,8 @@ use crate::error::{Error, Result};
 use crate::points::Points;
 use rayon::prelude::*;
 
-/// Distances from each point to its `k` nearest other points, ascending; row-major `n × k`.
-///
-/// Errors: k = 0, or k ≥ n (not enough other points), or points without coordinates.
-pub fn knn_distances(points: &Points, k: usize) -> Result<Vec<f64>> {
+/// `k` neighbours must exist (1 ≤ k < n) and the points must have coordinates.
+fn check_k(points: &Points, k: usize) -> Result<()> {
     if k == 0 || k >= points.n {
         return Err(Error::param(
             "k",
@@ -27,6 +25,14 @@ pub fn knn_distances(points: &Points, k: usize) -> Result<Vec<f64>> {
             "nearest neighbours need points with at least one coordinate".to_string(),
         ));
     }
+    Ok(())
+}
+
+/// Distances from each point to its `k` nearest other points, ascending; row-major `n × k`.
+///
+/// Errors: k = 0, or k ≥ n (not enough other points), or points without coordinates.
+pub fn knn_distances(points: &Points, k: usize) -> Result<Vec<f64>> {
+    check_k(points, k)?;
     let mut out = vec![0.0; points.n * k];
     out.par_chunks_mut(k).enumerate().for_each(|(i, best)| {
         // `best` holds squared distances, ascending; `filled` of them are valid.
@@ -86,21 +92,7 @@ pub(crate) fn sqdist(a: &[f64], b: &[f64]) -> f64 {
 ///
 /// Errors: as [`knn_distances`].
 pub fn knn_table(points: &Points, k: usize) -> Result<(Vec<usize>, Vec<f64>)> {
-    if k == 0 || k >= points.n {
-        return Err(Error::param(
-            "k",
-            format!(
-                "{k} neighbours; allowed 1 to n − 1 = {} for {} points",
-                points.n.saturating_sub(1),
-                points.n
-            ),
-        ));
-    }
-    if points.dim == 0 {
-        return Err(Error::Analysis(
-            "nearest neighbours need points with at least one coordinate".to_string(),
-        ));
-    }
+    check_k(points, k)?;
     let n = points.n;
     let mut idx = vec![0usize; n * k];
     let mut dist = vec![0.0; n * k];
