@@ -15,6 +15,8 @@
 //! float64, N × DIM), `subset.u32` (the indices of the suite's neighbour-estimator subset,
 //! little-endian uint32) and `beatfold.json` (shape, our estimates and seconds per estimator).
 
+#[path = "common/dump.rs"]
+mod dump;
 use beatfold::dimension::{dimension_suite, kmeans_scaling, KmeansScalingParams, SuiteParams};
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
@@ -49,11 +51,7 @@ fn cloud(n: usize, ambient: usize, d: usize, seed: u64) -> Points {
 
 fn main() {
     let mut args: Vec<String> = std::env::args().skip(1).collect();
-    let dump = args.iter().position(|a| a == "--dump").map(|i| {
-        let dir = args.get(i + 1).cloned().unwrap_or_else(|| ".".into());
-        args.drain(i..(i + 2).min(args.len()));
-        std::path::PathBuf::from(dir)
-    });
+    let dump = dump::take_dump_option(&mut args);
     let n: usize = args.first().and_then(|a| a.parse().ok()).unwrap_or(100_000);
     let ambient: usize = args.get(1).and_then(|a| a.parse().ok()).unwrap_or(50);
     let t = Instant::now();
@@ -138,9 +136,7 @@ fn write_dump(
     s: &beatfold::dimension::DimensionSuite,
     alone: &[(beatfold::dimension::Method, f64)],
 ) -> std::io::Result<()> {
-    std::fs::create_dir_all(dir)?;
-    let bytes: Vec<u8> = pts.data.iter().flat_map(|v| v.to_le_bytes()).collect();
-    std::fs::write(dir.join("points.f64"), bytes)?;
+    dump::write_points(dir, pts)?;
     let subset = beatfold::dimension::subset_indices(pts.n, sp.max_points, sp.seed);
     let bytes: Vec<u8> = subset
         .iter()

@@ -11,6 +11,8 @@
 //! float64, N × 64) and the fit's seconds to `DIR/beatfold.json`, for
 //! `scripts/time_sklearn_embedding.py DIR` (a reference library on the same points).
 
+#[path = "common/dump.rs"]
+mod dump;
 use beatfold::embed::{diffusion_map, knn, sparse, DiffusionParams, Pca};
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
@@ -58,11 +60,7 @@ fn beats(n: usize, seed: u64) -> Points {
 
 fn main() -> anyhow::Result<()> {
     let mut args: Vec<String> = std::env::args().collect();
-    let dump = args.iter().position(|a| a == "--dump").map(|i| {
-        let dir = args.get(i + 1).cloned().unwrap_or_else(|| ".".into());
-        args.drain(i..(i + 2).min(args.len()));
-        std::path::PathBuf::from(dir)
-    });
+    let dump = dump::take_dump_option(&mut args);
     let n: usize = args
         .get(1)
         .map(|s| s.parse())
@@ -141,9 +139,7 @@ fn main() -> anyhow::Result<()> {
     )?;
     let fit_s = t_fit.elapsed().as_secs_f64();
     if let Some(dir) = &dump {
-        std::fs::create_dir_all(dir)?;
-        let bytes: Vec<u8> = pts.data.iter().flat_map(|v| v.to_le_bytes()).collect();
-        std::fs::write(dir.join("points.f64"), bytes)?;
+        dump::write_points(dir, &pts)?;
         let meta = serde_json::json!({
             "n": pts.n,
             "dim": pts.dim,
