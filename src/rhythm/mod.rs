@@ -10,6 +10,7 @@ pub mod atrial;
 pub mod entropy;
 pub mod recurrence;
 pub mod screen;
+pub mod verdict;
 pub mod windowed;
 
 use serde::{Deserialize, Serialize};
