@@ -20,6 +20,8 @@ pub struct Analysis {
     pub input_sha256: Option<String>,
     /// Input file name as given, when the record came from a file.
     pub input_name: String,
+    /// The reader's warnings about the input (e.g. a checksum that does not match its header).
+    pub input_warnings: Vec<String>,
     /// Sampling rate, Hz.
     pub fs_hz: f64,
     /// Duration, seconds.
@@ -244,6 +246,8 @@ pub struct InputInfo {
     pub name: String,
     /// SHA-256 of the file, hex.
     pub sha256: Option<String>,
+    /// The reader's warnings (e.g. a checksum that does not match), kept in the provenance.
+    pub warnings: Vec<String>,
 }
 
 /// Detected beats of one lead, with RR intervals, heuristic labels and the agreement of a second
@@ -520,6 +524,7 @@ pub fn analyze(
         record_name: rec.name.clone(),
         input_sha256: input.sha256.clone(),
         input_name: input.name.clone(),
+        input_warnings: input.warnings.clone(),
         fs_hz: rec.fs_hz,
         duration_s: rec.duration_s(),
         raw: rec.leads[li].clone(),

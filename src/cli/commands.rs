@@ -180,12 +180,14 @@ fn load(input: &InputArgs, o: &Out) -> Result<(Record, AnalyzeParams, InputInfo)
             fs_hz: input.fs_hz,
             annotations: input.reference.clone(),
             dataset: input.dataset.clone(),
+            checksum: input.checksum,
         },
     )?;
     o.warn(&loaded.warnings);
     let info = InputInfo {
         name: input.input.display().to_string(),
         sha256: Some(io::sha256_file(&input.input)?),
+        warnings: loaded.warnings.clone(),
     };
     Ok((loaded.record, params, info))
 }
@@ -344,6 +346,7 @@ fn demo(out: &Path, seed: Option<u64>, minutes: f64, json: bool, quiet: bool) ->
         reference: None,
         config: None,
         dataset: None,
+        checksum: io::ChecksumPolicy::default(),
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
@@ -499,6 +502,7 @@ fn score_cmd(
             reference: reference.clone(),
             config: None,
             dataset: None,
+            checksum: io::ChecksumPolicy::default(),
         };
         let (rec, params, _) = load(&input, &o)?;
         if rec.annotations.beats.is_empty() {

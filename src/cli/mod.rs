@@ -85,6 +85,10 @@ pub struct InputArgs {
     /// For HDF5 input: the dataset holding the signal, e.g. /ecg (default: the only dataset).
     #[arg(long, value_name = "PATH")]
     pub dataset: Option<String>,
+    /// For PhysioNet-format input: a signal checksum that does not match its header is a
+    /// warning (`warn`, default: the reading goes on) or an error (`strict`).
+    #[arg(long, value_name = "warn|strict", default_value_t = beatfold::io::ChecksumPolicy::Warn)]
+    pub checksum: beatfold::io::ChecksumPolicy,
 }
 
 /// Commands.

@@ -576,11 +576,13 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
             fs_hz: opts.fs_hz,
             annotations: spec.reference.clone(),
             dataset: None,
+            ..ReadOptions::default()
         },
     )?;
     let info = InputInfo {
         name: spec.path.display().to_string(),
         sha256: Some(io::sha256_file(&spec.path)?),
+        warnings: loaded.warnings.clone(),
     };
     let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
     report::write_all(&a, dir, &opts.report)?;

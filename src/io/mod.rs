@@ -9,7 +9,10 @@ pub mod annotations;
 pub mod csv;
 pub mod edf;
 pub mod hdf5;
+pub mod matv4;
 pub mod physionet;
+
+pub use physionet::ChecksumPolicy;
 
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -31,6 +34,8 @@ pub struct ReadOptions {
     pub annotations: Option<PathBuf>,
     /// For HDF5 input: the dataset holding the signal.
     pub dataset: Option<String>,
+    /// For PhysioNet-format input: what a checksum mismatch does (default: a warning).
+    pub checksum: ChecksumPolicy,
 }
 
 /// A record with the warnings its reader raised (e.g. missing values).
@@ -70,7 +75,8 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
                 (None, Some(_)) => None,
                 (None, None) => Some("atr"),
             };
-            let (mut record, mut warnings) = physionet::read_record(path, ann_ext)?;
+            let (mut record, mut warnings) =
+                physionet::read_record_checked(path, ann_ext, opts.checksum)?;
             if ext_given.is_none() && file_given.is_none() {
                 // The default annotation file is optional.
                 warnings.retain(|w| !w.contains("no annotation file"));

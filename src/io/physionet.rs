@@ -12,8 +12,12 @@
 //! - annotations: 16-bit little-endian words, 6-bit code and 10-bit time increment, with the
 //!   pseudo-codes SKIP (59), NUM (60), SUB (61), CHN (62) and AUX (63).
 //!
-//! On reading, each signal's initial value and 16-bit checksum are verified against the samples;
-//! a mismatch is an error naming the file and signal.
+//! - the format field may carry samples per frame, skew and a byte offset,
+//!   `format[xspf][:skew][+offset]`; a signal file named `*.mat` is a MATLAB v4 matrix (see
+//!   [`super::matv4`]) whose data start at the byte offset.
+//!
+//! On reading, each signal's initial value is verified (a mismatch is an error) and its 16-bit
+//! checksum (a mismatch is a warning, or an error under [`ChecksumPolicy::Strict`]).
 
 use crate::error::{Error, Result};
 use crate::record::{Annotations, BeatAnnotation, Lead, Record};
@@ -25,7 +29,7 @@ use std::path::{Path, PathBuf};
 pub struct SignalSpec {
     /// Signal file name (relative to the header).
     pub file: String,
-    /// Storage format (16 or 212 are supported).
+    /// Storage format (16, 32 and 212 are supported).
     pub format: u32,
     /// ADC units per physical unit.
     pub gain: f64,
@@ -43,6 +47,12 @@ pub struct SignalSpec {
     pub checksum: Option<i16>,
     /// Description (lead name).
     pub description: String,
+    /// Samples of this signal in each frame (`format x n`; 1 when absent).
+    pub samples_per_frame: usize,
+    /// Skew in frames (`format : n`): sample `t` of the signal is stored in frame `t + skew`.
+    pub skew: usize,
+    /// Bytes before the first sample in the signal file (`format + n`; 0 when absent).
+    pub byte_offset: u64,
 }
 
 /// A parsed header.
@@ -62,6 +72,38 @@ pub struct Header {
     pub comments: Vec<String>,
 }
 
+/// What a signal whose samples do not sum to the header's checksum does to the reading.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ChecksumPolicy {
+    /// A warning naming the file and signal; the samples are used (default: converters such as
+    /// the one behind the short-record challenge files write 0 there).
+    #[default]
+    Warn,
+    /// An error naming the file and signal.
+    Strict,
+}
+
+impl std::str::FromStr for ChecksumPolicy {
+    type Err = String;
+    fn from_str(s: &str) -> std::result::Result<Self, String> {
+        match s {
+            "warn" => Ok(ChecksumPolicy::Warn),
+            "strict" => Ok(ChecksumPolicy::Strict),
+            other => Err(format!("`{other}`: expected `warn` or `strict`")),
+        }
+    }
+}
+
+impl std::fmt::Display for ChecksumPolicy {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            ChecksumPolicy::Warn => "warn",
+            ChecksumPolicy::Strict => "strict",
+        })
+    }
+}
+
 /// Largest sample count accepted from a header (24 h at 2 kHz); larger values are refused
 /// before any allocation.
 pub const MAX_SAMPLES: usize = 24 * 3600 * 2000;
@@ -76,6 +118,69 @@ fn field<'a>(
     toks.get(i)
         .copied()
         .ok_or_else(|| Error::input(path, format!("line {line_no}, field {what}"), "missing"))
+}
+
+/// Largest samples-per-frame factor accepted from a header.
+pub const MAX_SAMPLES_PER_FRAME: usize = 1024;
+
+/// Split a signal line's format field, `format[xspf][:skew][+offset]` (the header syntax of the
+/// WFDB documentation), into (format, samples per frame, skew in frames, byte offset).
+fn parse_format(path: &Path, line_no: usize, tok: &str) -> Result<(u32, usize, usize, u64)> {
+    let place = format!("line {line_no}, field format");
+    let bad = |what: &str| {
+        Error::input(
+            path,
+            place.clone(),
+            format!("`{tok}`: {what} (expected format[xsamples-per-frame][:skew][+byte-offset], e.g. 16+24)"),
+        )
+    };
+    // Markers 'x', ':' and '+', each at most once and in this order.
+    let split_digits = |s: &str| -> (String, String) {
+        let end = s.find(|c: char| !c.is_ascii_digit()).unwrap_or(s.len());
+        (s[..end].to_string(), s[end..].to_string())
+    };
+    let (fmt, mut rest) = split_digits(tok);
+    let format: u32 = fmt.parse().map_err(|_| bad("not a format number"))?;
+    let mut spf = 1usize;
+    let mut skew = 0usize;
+    let mut offset = 0u64;
+    for (marker, what) in [('x', 0), (':', 1), ('+', 2)] {
+        let Some(r) = rest.strip_prefix(marker) else {
+            continue;
+        };
+        let (num, tail) = split_digits(r);
+        rest = tail;
+        match what {
+            0 => {
+                spf = num
+                    .parse()
+                    .map_err(|_| bad("samples per frame is not a whole number"))?;
+                if spf == 0 || spf > MAX_SAMPLES_PER_FRAME {
+                    return Err(bad(&format!(
+                        "samples per frame must be 1..={MAX_SAMPLES_PER_FRAME}"
+                    )));
+                }
+            }
+            1 => {
+                skew = num.parse().map_err(|_| bad("skew is not a whole number"))?;
+                if skew > MAX_SAMPLES {
+                    return Err(bad(&format!("skew exceeds {MAX_SAMPLES} frames")));
+                }
+            }
+            _ => {
+                offset = num
+                    .parse()
+                    .map_err(|_| bad("byte offset is not a whole number"))?;
+                if offset > u32::MAX as u64 {
+                    return Err(bad("byte offset exceeds 4 GiB"));
+                }
+            }
+        }
+    }
+    if !rest.is_empty() {
+        return Err(bad(&format!("unexpected `{rest}`")));
+    }
+    Ok((format, spf, skew, offset))
 }
 
 /// Parse header text. `path` is used in error messages only.
@@ -182,21 +287,7 @@ pub fn parse_header(path: &Path, text: &str) -> Result<Header> {
         let t: Vec<&str> = lt.split_whitespace().collect();
         let file = field(path, ln, &t, 0, "file name")?.to_string();
         let fmt_tok = field(path, ln, &t, 1, "format")?;
-        let fmt_digits: String = fmt_tok.chars().take_while(|c| c.is_ascii_digit()).collect();
-        if fmt_digits.len() != fmt_tok.len() {
-            return Err(Error::input(
-                path,
-                format!("line {ln}, field format"),
-                format!("`{fmt_tok}`: sample multiplicity, skew and byte offset are not supported"),
-            ));
-        }
-        let format: u32 = fmt_digits.parse().map_err(|_| {
-            Error::input(
-                path,
-                format!("line {ln}, field format"),
-                format!("`{fmt_tok}` is not a format number"),
-            )
-        })?;
+        let (format, samples_per_frame, skew, byte_offset) = parse_format(path, ln, fmt_tok)?;
         let adc_zero: i32 = match t.get(4) {
             Some(s) => s.parse().map_err(|_| {
                 Error::input(
@@ -296,6 +387,9 @@ pub fn parse_header(path: &Path, text: &str) -> Result<Header> {
             init_value,
             checksum,
             description,
+            samples_per_frame,
+            skew,
+            byte_offset,
         });
     }
     for (_, l) in lines {
@@ -313,15 +407,32 @@ pub fn parse_header(path: &Path, text: &str) -> Result<Header> {
     })
 }
 
-/// Decode interleaved samples of `nsig` signals stored in `format` (16 or 212).
+/// Decode interleaved samples of `nsig` signals stored in `format` (16, 32 or 212).
 pub fn decode(path: &Path, bytes: &[u8], format: u32, nsig: usize) -> Result<Vec<Vec<i32>>> {
     if nsig == 0 {
         return Ok(Vec::new());
     }
-    let flat: Vec<i32> = match format {
+    let flat = decode_flat(path, bytes, format)?;
+    let frames = flat.len() / nsig;
+    let mut out = vec![Vec::with_capacity(frames); nsig];
+    for f in flat.chunks_exact(nsig) {
+        for (s, &v) in f.iter().enumerate() {
+            out[s].push(v);
+        }
+    }
+    Ok(out)
+}
+
+/// Decode a stream of samples stored in `format` (16, 32 or 212), in storage order.
+fn decode_flat(path: &Path, bytes: &[u8], format: u32) -> Result<Vec<i32>> {
+    Ok(match format {
         16 => bytes
             .chunks_exact(2)
             .map(|c| i16::from_le_bytes([c[0], c[1]]) as i32)
+            .collect(),
+        32 => bytes
+            .chunks_exact(4)
+            .map(|c| i32::from_le_bytes([c[0], c[1], c[2], c[3]]))
             .collect(),
         212 => {
             let mut v = Vec::with_capacity(bytes.len() / 3 * 2 + 1);
@@ -343,19 +454,11 @@ pub fn decode(path: &Path, bytes: &[u8], format: u32, nsig: usize) -> Result<Vec
                 path,
                 "format",
                 format!(
-                    "signal format {other} is not supported (beatfold reads formats 16 and 212)"
+                    "signal format {other} is not supported (beatfold reads formats 16, 32 and 212)"
                 ),
             ))
         }
-    };
-    let frames = flat.len() / nsig;
-    let mut out = vec![Vec::with_capacity(frames); nsig];
-    for f in flat.chunks_exact(nsig) {
-        for (s, &v) in f.iter().enumerate() {
-            out[s].push(v);
-        }
-    }
-    Ok(out)
+    })
 }
 
 /// Encode interleaved samples of several equally long signals in `format` (16 or 212). Values
@@ -423,7 +526,19 @@ pub fn checksum(samples: &[i32]) -> i16 {
 ///
 /// A signal file shorter than the header promises is refused from its size alone, before it
 /// is read.
+///
+/// A checksum that does not match is a warning ([`ChecksumPolicy::Warn`]); use
+/// [`read_record_checked`] to choose.
 pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<String>)> {
+    read_record_checked(hea, ann_ext, ChecksumPolicy::default())
+}
+
+/// [`read_record`] with the handling of checksum mismatches chosen by `policy`.
+pub fn read_record_checked(
+    hea: &Path,
+    ann_ext: Option<&str>,
+    policy: ChecksumPolicy,
+) -> Result<(Record, Vec<String>)> {
     let text = super::read_text(hea)?;
     let h = parse_header(hea, &text)?;
     let dir = hea.parent().unwrap_or_else(|| Path::new("."));
@@ -450,7 +565,7 @@ pub fn read_record(hea: &Path, ann_ext: Option<&str>) -> Result<(Record, Vec<Str
         })?;
         Ok((fpath, bytes))
     };
-    let (mut rec, mut warnings) = assemble(hea, &h, &mut load)?;
+    let (mut rec, mut warnings) = assemble(hea, &h, &mut load, policy)?;
     if let Some(ext) = ann_ext {
         let ap = dir.join(format!("{}.{ext}", h.name));
         if ap.exists() {
@@ -494,7 +609,7 @@ pub fn record_from_bytes(
         }
         Ok((fpath, b.to_vec()))
     };
-    let (mut rec, warnings) = assemble(hea, &h, &mut load)?;
+    let (mut rec, warnings) = assemble(hea, &h, &mut load, ChecksumPolicy::default())?;
     if let Some((ap, bytes)) = annotations {
         let anns = parse_annotations(ap, bytes)?;
         rec.annotations = to_annotations(&anns, h.fs_hz, rec.n_samples());
@@ -519,6 +634,7 @@ fn bytes_needed(format: u32, n: usize, nsig: usize) -> usize {
     let values = n.saturating_mul(nsig);
     match format {
         16 => values.saturating_mul(2),
+        32 => values.saturating_mul(4),
         212 => values.saturating_mul(3).div_ceil(2),
         _ => 0,
     }
@@ -527,9 +643,23 @@ fn bytes_needed(format: u32, n: usize, nsig: usize) -> usize {
 /// Gives a signal file's path (for messages) and bytes from its name and the bytes it must hold.
 type SignalLoader<'a> = dyn FnMut(&str, usize) -> Result<(PathBuf, Vec<u8>)> + 'a;
 
+/// Invalid-sample marker of a format: its most negative value.
+fn invalid_value(format: u32) -> i32 {
+    match format {
+        212 => -2048,
+        32 => i32::MIN,
+        _ => -32768,
+    }
+}
+
 /// Decode the signal files of a parsed header into a record. `load(file, bytes_needed)` returns
 /// a signal file's path (for messages) and bytes, refusing files shorter than needed.
-fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Record, Vec<String>)> {
+fn assemble(
+    hea: &Path,
+    h: &Header,
+    load: &mut SignalLoader<'_>,
+    policy: ChecksumPolicy,
+) -> Result<(Record, Vec<String>)> {
     if h.signals.is_empty() {
         return Err(Error::input(hea, "line 1", "record has no signals"));
     }
@@ -537,15 +667,39 @@ fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Reco
     let mut groups: BTreeMap<String, Vec<usize>> = BTreeMap::new();
     for (i, s) in h.signals.iter().enumerate() {
         groups.entry(s.file.clone()).or_default().push(i);
+        if let Some(n) = h.n_samples {
+            if n.saturating_mul(s.samples_per_frame) > MAX_SAMPLES {
+                return Err(Error::input(
+                    hea,
+                    format!("signal {i} ({}), field samples per frame", s.description),
+                    format!(
+                        "{n} frames of {} samples exceed the limit of {MAX_SAMPLES} samples per signal",
+                        s.samples_per_frame
+                    ),
+                ));
+            }
+        }
     }
+    let mut warnings = Vec::new();
     let mut adu: Vec<Vec<i32>> = vec![Vec::new(); h.signals.len()];
     for (file, idx) in &groups {
-        let fmt = h.signals[idx[0]].format;
+        let first = &h.signals[idx[0]];
+        let fmt = first.format;
         if idx.iter().any(|&i| h.signals[i].format != fmt) {
             return Err(Error::input(
                 hea,
                 format!("signals in `{file}`"),
                 "signals sharing a file must share a format",
+            ));
+        }
+        if idx
+            .iter()
+            .any(|&i| h.signals[i].byte_offset != first.byte_offset)
+        {
+            return Err(Error::input(
+                hea,
+                format!("signals in `{file}`, field format"),
+                "signals sharing a file must share a byte offset",
             ));
         }
         if file.contains("..") || file.starts_with('/') || file == "-" {
@@ -555,36 +709,98 @@ fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Reco
                 "signal file must be a plain name beside the header",
             ));
         }
-        if fmt != 16 && fmt != 212 {
+        if !matches!(fmt, 16 | 212 | 32) {
             return Err(Error::input(
                 hea,
                 format!("signal file `{file}`, field format"),
-                format!("signal format {fmt} is not supported (beatfold reads formats 16 and 212)"),
+                format!(
+                    "signal format {fmt} is not supported (beatfold reads formats 16, 32 and 212)"
+                ),
             ));
         }
-        let need = h.n_samples.map_or(0, |n| bytes_needed(fmt, n, idx.len()));
-        let (fpath, bytes) = load(file, need)?;
-        let dec = decode(&fpath, &bytes, fmt, idx.len())?;
+        // Values per frame in this file.
+        let frame: usize = idx.iter().map(|&i| h.signals[i].samples_per_frame).sum();
+        let need_data = h
+            .n_samples
+            .map_or(0, |n| bytes_needed(fmt, n.saturating_mul(frame), 1));
+        let is_mat = file.to_ascii_lowercase().ends_with(".mat");
+        let offset = usize::try_from(first.byte_offset).unwrap_or(usize::MAX);
+        let (fpath, bytes) = load(file, offset.saturating_add(need_data))?;
+        let (start, end) = if is_mat {
+            let m = super::matv4::parse_header(&fpath, &bytes)?;
+            let (start, end) =
+                mat_data_range(&fpath, &m, fmt, frame, offset, h.n_samples, bytes.len())?;
+            if offset == 0 {
+                warnings.push(format!(
+                    "{}: signal file `{file}` is a MATLAB v4 matrix but the header gives no byte offset; samples are read from the matrix data at byte {start}",
+                    hea.display()
+                ));
+            }
+            (start, end)
+        } else {
+            if offset > bytes.len() {
+                return Err(Error::input(
+                    &fpath,
+                    format!("byte {offset}"),
+                    format!(
+                        "the header's byte offset {offset} is past the end of the file ({} bytes)",
+                        bytes.len()
+                    ),
+                ));
+            }
+            (offset, bytes.len())
+        };
+        let flat = decode_flat(&fpath, &bytes[start..end], fmt)?;
+        let mut per: Vec<Vec<i32>> = idx
+            .iter()
+            .map(|&i| Vec::with_capacity(flat.len() / frame * h.signals[i].samples_per_frame))
+            .collect();
+        for f in flat.chunks_exact(frame) {
+            let mut o = 0;
+            for (k, &i) in idx.iter().enumerate() {
+                let spf = h.signals[i].samples_per_frame;
+                per[k].extend_from_slice(&f[o..o + spf]);
+                o += spf;
+            }
+        }
         for (k, &i) in idx.iter().enumerate() {
-            adu[i] = dec[k].clone();
+            adu[i] = std::mem::take(&mut per[k]);
         }
     }
-    let n = h
-        .n_samples
-        .unwrap_or_else(|| adu.iter().map(Vec::len).min().unwrap_or(0));
-    let mut warnings = Vec::new();
+    // Frames per signal.
+    let n = h.n_samples.unwrap_or_else(|| {
+        h.signals
+            .iter()
+            .zip(&adu)
+            .map(|(s, a)| (a.len() / s.samples_per_frame).saturating_sub(s.skew))
+            .min()
+            .unwrap_or(0)
+    });
     let mut leads = Vec::with_capacity(h.signals.len());
     for (i, s) in h.signals.iter().enumerate() {
-        let a = &mut adu[i];
-        a.truncate(n);
-        if a.len() < n {
-            return Err(Error::input(
-                hea,
-                format!("signal {i} ({})", s.description),
-                format!("{} samples found, {n} expected", a.len()),
+        let spf = s.samples_per_frame;
+        let want = n * spf;
+        let a = &adu[i];
+        let from = s.skew.saturating_mul(spf).min(a.len());
+        let avail = &a[from..a.len().min(from.saturating_add(want))];
+        let mut padded = 0;
+        if avail.len() < want {
+            if s.skew == 0 {
+                return Err(Error::input(
+                    hea,
+                    format!("signal {i} ({})", s.description),
+                    format!("{} samples found, {want} expected", avail.len()),
+                ));
+            }
+            padded = want - avail.len();
+            warnings.push(format!(
+                "{}: signal {i} ({}): a skew of {} frames leaves the last {padded} samples without data; they are marked missing",
+                hea.display(),
+                s.description,
+                s.skew
             ));
         }
-        if let (Some(iv), Some(&first)) = (s.init_value, a.first()) {
+        if let (Some(iv), Some(&first)) = (s.init_value, avail.first()) {
             if iv != first {
                 return Err(Error::input(
                     hea,
@@ -594,9 +810,18 @@ fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Reco
             }
         }
         if let Some(cs) = s.checksum {
-            let got = checksum(a);
+            let got = checksum(avail);
             if got != cs {
-                return Err(Error::input(hea, format!("signal {i} ({}), checksum", s.description), format!("header says {cs}, samples sum to {got}: the signal file does not match its header")));
+                let place = format!("signal {i} ({}), field checksum", s.description);
+                match policy {
+                    ChecksumPolicy::Strict => {
+                        return Err(Error::input(hea, place, format!("header says {cs}, samples sum to {got}: the signal file does not match its header (checksum policy `strict`)")));
+                    }
+                    ChecksumPolicy::Warn => warnings.push(format!(
+                        "{}: {place}: header says {cs}, samples sum to {got}; reading goes on (checksum policy `warn`; `strict` makes this an error)",
+                        hea.display()
+                    )),
+                }
             }
         }
         if s.gain <= 0.0 {
@@ -608,11 +833,13 @@ fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Reco
         }
         let base = s.baseline as f64;
         let g = s.gain;
-        let samples = a
+        let bad = invalid_value(s.format);
+        let samples: Vec<f64> = avail
             .iter()
+            .chain(std::iter::repeat(&bad).take(padded))
             .map(|&v| {
                 // WFDB marks invalid samples with the format's most negative value.
-                if (s.format == 212 && v == -2048) || (s.format == 16 && v == -32768) {
+                if v == bad {
                     f64::NAN
                 } else {
                     (v as f64 - base) / g
@@ -625,14 +852,144 @@ fn assemble(hea: &Path, h: &Header, load: &mut SignalLoader<'_>) -> Result<(Reco
             samples,
         });
     }
+    // One rate per record: all signals at the sample rate when they share a samples-per-frame
+    // factor, otherwise at the frame rate with oversampled signals averaged over each frame.
+    let spf0 = h.signals[0].samples_per_frame;
+    let fs_hz = if h.signals.iter().all(|s| s.samples_per_frame == spf0) {
+        h.fs_hz * spf0 as f64
+    } else {
+        let list: Vec<String> = h
+            .signals
+            .iter()
+            .map(|s| s.samples_per_frame.to_string())
+            .collect();
+        warnings.push(format!(
+            "{}: signals have different samples per frame ({}); all are read at the frame rate {} Hz, oversampled signals averaged over each frame",
+            hea.display(),
+            list.join(", "),
+            h.fs_hz
+        ));
+        for (l, s) in leads.iter_mut().zip(&h.signals) {
+            if s.samples_per_frame > 1 {
+                l.samples = frame_means(&l.samples, s.samples_per_frame);
+            }
+        }
+        h.fs_hz
+    };
     let rec = Record {
         name: h.name.clone(),
-        fs_hz: h.fs_hz,
+        fs_hz,
         leads,
         start_time: h.start_time.clone(),
         annotations: Annotations::default(),
     };
     Ok((rec, warnings))
+}
+
+/// Mean of each run of `k` samples, skipping missing ones (NaN when all are missing).
+fn frame_means(x: &[f64], k: usize) -> Vec<f64> {
+    x.chunks(k)
+        .map(|c| {
+            let (sum, n) = c
+                .iter()
+                .filter(|v| v.is_finite())
+                .fold((0.0, 0usize), |(s, n), v| (s + v, n + 1));
+            if n == 0 {
+                f64::NAN
+            } else {
+                sum / n as f64
+            }
+        })
+        .collect()
+}
+
+/// Byte range of the samples in a MATLAB v4 signal file, after checking the matrix against the
+/// header: byte order and element type match the format, one row per value of a frame, enough
+/// columns, and the header's byte offset (if any) at the matrix data.
+fn mat_data_range(
+    fpath: &Path,
+    m: &super::matv4::MatV4Header,
+    fmt: u32,
+    frame: usize,
+    offset: usize,
+    n_samples: Option<usize>,
+    file_len: usize,
+) -> Result<(usize, usize)> {
+    if m.big_endian {
+        return Err(Error::input(
+            fpath,
+            "MAT header, field type",
+            format!("the matrix is stored big-endian; the header's format {fmt} is little-endian"),
+        ));
+    }
+    let want_p = match fmt {
+        16 => 3,
+        32 => 2,
+        _ => {
+            return Err(Error::input(
+                fpath,
+                "MAT header",
+                format!("format {fmt} cannot be stored in a MATLAB v4 matrix (use 16 or 32)"),
+            ))
+        }
+    };
+    if m.precision != want_p {
+        return Err(Error::input(
+            fpath,
+            "MAT header, field type",
+            format!(
+                "the matrix holds {}; the header's format {fmt} needs {}-bit integers",
+                m.precision_name(),
+                fmt
+            ),
+        ));
+    }
+    if m.rows as usize != frame {
+        return Err(Error::input(
+            fpath,
+            "MAT header, field mrows",
+            format!(
+                "the matrix has {} rows; the header describes {frame} values per frame in this file",
+                m.rows
+            ),
+        ));
+    }
+    if let Some(n) = n_samples {
+        if (m.cols as usize) < n {
+            return Err(Error::input(
+                fpath,
+                "MAT header, field ncols",
+                format!(
+                    "the matrix has {} columns (frames); the header promises {n} samples per signal",
+                    m.cols
+                ),
+            ));
+        }
+    }
+    if offset != 0 && offset != m.data_start {
+        return Err(Error::input(
+            fpath,
+            "byte offset",
+            format!(
+                "the header's byte offset {offset} does not match the start of the matrix data (byte {})",
+                m.data_start
+            ),
+        ));
+    }
+    let end = (m.data_start as u64).saturating_add(m.data_len());
+    if end > file_len as u64 {
+        return Err(Error::input(
+            fpath,
+            format!("byte {file_len}"),
+            format!(
+                "file ends early: a {}×{} matrix of {} needs {end} bytes, the file has {file_len}",
+                m.rows,
+                m.cols,
+                m.precision_name()
+            ),
+        ));
+    }
+    Ok((m.data_start, end as usize))
 }
 
 /// One decoded annotation of an MIT-format annotation file.
@@ -956,10 +1313,23 @@ mod tests {
         let mut b = std::fs::read(&dat).unwrap();
         b[4] ^= 0x01;
         std::fs::write(&dat, &b).unwrap();
-        let err = read_record(&dir.path().join("cs.hea"), None)
+        // Default: a warning naming the file and field, and the samples are read.
+        let (back, warnings) = read_record(&dir.path().join("cs.hea"), None).unwrap();
+        assert_eq!(back.n_samples(), 4);
+        assert!(
+            warnings
+                .iter()
+                .any(|w| w.contains("cs.hea") && w.contains("field checksum")),
+            "{warnings:?}"
+        );
+        // Strict: an error naming the file and field.
+        let err = read_record_checked(&dir.path().join("cs.hea"), None, ChecksumPolicy::Strict)
             .unwrap_err()
             .to_string();
-        assert!(err.contains("checksum"), "{err}");
+        assert!(
+            err.contains("cs.hea") && err.contains("field checksum"),
+            "{err}"
+        );
         std::fs::write(&dat, &b[..5]).unwrap();
         let err = read_record(&dir.path().join("cs.hea"), None)
             .unwrap_err()
@@ -1079,5 +1449,153 @@ mod tests {
         for (i, (a, b)) in rec.leads[0].samples.iter().zip(&reference).enumerate() {
             assert!((a - b).abs() < 1e-9, "sample {i}: {a} vs {b}");
         }
+    }
+
+    #[test]
+    fn format_field_syntax_and_its_errors() {
+        // Syntax: format[xspf][:skew][+offset], WFDB header documentation (Moody, WFDB
+        // Programmer's Guide, header(5)).
+        let p = Path::new("f.hea");
+        assert_eq!(parse_format(p, 2, "16+24").unwrap(), (16, 1, 0, 24));
+        assert_eq!(parse_format(p, 2, "212x2:3+512").unwrap(), (212, 2, 3, 512));
+        assert_eq!(parse_format(p, 2, "16:5").unwrap(), (16, 1, 5, 0));
+        for bad in ["16+", "16x0", "16+24x2", "16y", "x2", "16:-1"] {
+            let e = parse_format(p, 2, bad).unwrap_err().to_string();
+            assert!(
+                e.contains("f.hea") && e.contains("field format"),
+                "{bad}: {e}"
+            );
+        }
+    }
+
+    #[test]
+    fn skew_offset_and_samples_per_frame_are_applied() {
+        // Two signals in one format-16 file after 6 bytes of padding: signal a with two samples
+        // per frame, signal b one; b is skewed by one frame. Frames: (a0 a1 b?) ...
+        let vals: Vec<i16> = vec![10, 11, 99, 20, 21, 200, 30, 31, 300, 40, 41, 400];
+        let mut bytes = vec![0u8; 6];
+        for v in &vals {
+            bytes.extend_from_slice(&v.to_le_bytes());
+        }
+        let hea = "s 2 100 4\ns.dat 16x2+6 1 16 0\ns.dat 16:1+6 1 16 0\n";
+        let (rec, w) = record_from_bytes(
+            Path::new("s.hea"),
+            hea.as_bytes(),
+            &[("s.dat", &bytes)],
+            None,
+        )
+        .unwrap();
+        // Different samples per frame: read at the frame rate, a averaged over each frame.
+        assert_eq!(rec.fs_hz, 100.0);
+        assert_eq!(rec.leads[0].samples, vec![10.5, 20.5, 30.5, 40.5]);
+        assert_eq!(&rec.leads[1].samples[..3], &[200.0, 300.0, 400.0]);
+        assert!(rec.leads[1].samples[3].is_nan());
+        assert!(w.iter().any(|m| m.contains("skew")), "{w:?}");
+        assert!(w.iter().any(|m| m.contains("frame rate")), "{w:?}");
+        // Equal factors: the sample rate is the frame rate times the factor.
+        let hea = "s 1 100 2\ns.dat 16x2+6 1 16 0\n";
+        let (rec, _) = record_from_bytes(
+            Path::new("s.hea"),
+            hea.as_bytes(),
+            &[("s.dat", &bytes[..14])],
+            None,
+        )
+        .unwrap();
+        assert_eq!(rec.fs_hz, 200.0);
+        assert_eq!(rec.leads[0].samples, vec![10.0, 11.0, 99.0, 20.0]);
+        let e = record_from_bytes(
+            Path::new("s.hea"),
+            "s 1 100\ns.dat 16+999 1 16 0\n".as_bytes(),
+            &[("s.dat", &bytes)],
+            None,
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(
+            e.contains("ends early") || e.contains("past the end"),
+            "{e}"
+        );
+    }
+
+    fn cinc(name: &str) -> std::path::PathBuf {
+        Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("tests/data/cinc2017-excerpt")
+            .join(name)
+    }
+
+    #[test]
+    fn short_challenge_records_match_an_independent_matlab_decoding() {
+        // Source: PhysioNet/CinC Challenge 2017 validation records (ODC-By 1.0), copied by
+        // scripts/make_cinc_excerpt.py with the matrix `val` as decoded by scipy.io.loadmat
+        // (SciPy 1.11.4). Gain 1000 ADC units per mV, baseline 0: mV = adu / 1000.
+        let text = std::fs::read_to_string(cinc("scipy_loadmat.json")).unwrap();
+        let j: serde_json::Value = serde_json::from_str(&text).unwrap();
+        for (name, n) in [
+            ("A00093", 3002),
+            ("A00405", 3020),
+            ("A00139", 3760),
+            ("A03549", 3064),
+        ] {
+            let (rec, warnings) = read_record(&cinc(&format!("{name}.hea")), None).unwrap();
+            assert_eq!(rec.fs_hz, 300.0);
+            assert_eq!(rec.n_samples(), n);
+            assert_eq!(rec.leads.len(), 1);
+            let r = &j["records"][name];
+            assert_eq!(r["shape"][1].as_u64().unwrap() as usize, n);
+            let adu: Vec<f64> = r["adu"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|v| v.as_f64().unwrap())
+                .collect();
+            for (i, (a, b)) in rec.leads[0].samples.iter().zip(&adu).enumerate() {
+                assert!(
+                    (a - b / 1000.0).abs() < 1e-12,
+                    "{name} sample {i}: {a} vs {b}"
+                );
+            }
+            // The converter wrote checksum 0: a warning, and the record is read.
+            assert!(
+                warnings
+                    .iter()
+                    .any(|w| w.contains(name) && w.contains("field checksum")),
+                "{warnings:?}"
+            );
+            let e =
+                read_record_checked(&cinc(&format!("{name}.hea")), None, ChecksumPolicy::Strict)
+                    .unwrap_err()
+                    .to_string();
+            assert!(
+                e.contains(&format!("{name}.hea")) && e.contains("field checksum"),
+                "{e}"
+            );
+        }
+    }
+
+    #[test]
+    fn bad_matlab_signal_files_are_refused_by_field() {
+        let hea = std::fs::read(cinc("A00093.hea")).unwrap();
+        let mat = std::fs::read(cinc("A00093.mat")).unwrap();
+        let run = |m: &[u8], h: &[u8]| {
+            record_from_bytes(Path::new("d/A00093.hea"), h, &[("A00093.mat", m)], None)
+                .map(|_| ())
+                .unwrap_err()
+                .to_string()
+        };
+        let mut m = mat.clone();
+        m[0] = 20; // type 20: int32 elements, format 16 expects int16
+        assert!(run(&m, &hea).contains("field type"));
+        let mut m = mat.clone();
+        m[4] = 2; // two rows for one signal
+        assert!(run(&m, &hea).contains("field mrows"));
+        let e = run(&mat[..3000], &hea);
+        assert!(e.contains("ends early"), "{e}");
+        let h2 = String::from_utf8(hea.clone())
+            .unwrap()
+            .replace("16+24", "16+20");
+        assert!(run(&mat, h2.as_bytes()).contains("byte offset"));
+        // Shorter than the byte offset: refused from its size, naming the signal file.
+        let e = run(&mat[..12], b"A00093 1 300\nA00093.mat 16+24 1000/mV 16 0\n");
+        assert!(e.contains("A00093.mat") && e.contains("ends early"), "{e}");
     }
 }

@@ -87,6 +87,7 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
         "input_sha256",
         text(a.input_sha256.as_deref().unwrap_or("")),
     );
+    b.set_attr("input_warnings", text(&a.input_warnings.join("\n")));
     b.set_attr("record", text(&a.record_name));
     b.set_attr("parameters", text(&params));
     b.set_attr("notice", text(crate::NOTICE));

@@ -66,6 +66,7 @@ pub fn summary_json(a: &Analysis) -> Value {
         "record": a.record_name,
         "input_name": a.input_name,
         "input_sha256": a.input_sha256,
+        "input_warnings": a.input_warnings,
         "fs_hz": num(a.fs_hz),
         "duration_s": num(a.duration_s),
         "beats": {

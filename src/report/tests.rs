@@ -61,6 +61,7 @@ fn sample_analysis() -> Analysis {
         record_name: "rec-100".into(),
         input_sha256: Some("ab".repeat(32)),
         input_name: "rec-100.csv".into(),
+        input_warnings: vec!["rec-100.hea: signal 0 (II), field checksum: header says 0".into()],
         fs_hz,
         duration_s: 20.0,
         raw: Lead {
@@ -404,6 +405,10 @@ fn summary_json_has_keys_and_values() {
     assert_eq!(s["record"], "rec-100");
     assert_eq!(s["input_name"], "rec-100.csv");
     assert_eq!(s["input_sha256"], "ab".repeat(32));
+    assert_eq!(
+        s["input_warnings"][0],
+        "rec-100.hea: signal 0 (II), field checksum: header says 0"
+    );
     assert_eq!(s["fs_hz"], 250.0);
     assert_eq!(s["duration_s"], 20.0);
     assert_eq!(s["beats"]["n_beats"], 24);
@@ -506,6 +511,10 @@ fn results_h5_reads_back() {
     );
     assert_eq!(attr_str(&root, "input_name"), "rec-100.csv");
     assert_eq!(attr_str(&root, "input_sha256"), "ab".repeat(32));
+    assert_eq!(
+        attr_str(&root, "input_warnings"),
+        "rec-100.hea: signal 0 (II), field checksum: header says 0"
+    );
     let params: serde_json::Value = serde_json::from_str(&attr_str(&root, "parameters")).unwrap();
     assert_eq!(params, a.parameters);
     let created = attr_str(&root, "created_utc");

@@ -123,6 +123,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
         record_name: name.into(),
         input_sha256: Some("cd".repeat(32)),
         input_name: format!("{name}.csv"),
+        input_warnings: Vec::new(),
         fs_hz: fs,
         duration_s,
         raw: Lead {
