@@ -836,7 +836,7 @@ fn assemble(
         let bad = invalid_value(s.format);
         let samples: Vec<f64> = avail
             .iter()
-            .chain(std::iter::repeat(&bad).take(padded))
+            .chain(std::iter::repeat_n(&bad, padded))
             .map(|&v| {
                 // WFDB marks invalid samples with the format's most negative value.
                 if v == bad {
