@@ -145,7 +145,7 @@ mod tests {
         // beats: bSQI = 10 / (10 + 20 − 10) = 0.5 < 0.8 (Li, Mark & Clifford 2008 definition).
         let a: Vec<usize> = (0..30).map(|k| k * 100 + 50).collect();
         let mut b = a.clone();
-        b.extend((10..20).map(|k| k * 100 + 0));
+        b.extend((10..20).map(|k| k * 100));
         b.sort_unstable();
         let p = ReadableParams {
             use_quality_flags: false,
