@@ -10,10 +10,13 @@
 
 use serde::{Deserialize, Serialize};
 
+pub mod ec57;
 pub mod elgendi;
 pub mod fusion;
 pub mod labels;
+pub mod noise_stress;
 pub mod pan_tompkins;
+pub mod readable;
 pub mod scoring;
 #[cfg(test)]
 mod testsig;

@@ -56,6 +56,23 @@ fn match_pairs(
     pairs
 }
 
+/// Which reference beats and which detections are paired by the EC57 rule of [`score`]:
+/// `(reference_paired, detected_paired)`, one flag per beat of each list (both sorted increasing).
+pub fn paired_flags(
+    reference: &[usize],
+    detected: &[usize],
+    fs_hz: f64,
+    window_s: f64,
+) -> (Vec<bool>, Vec<bool>) {
+    let mut r = vec![false; reference.len()];
+    let mut d = vec![false; detected.len()];
+    for (ri, di) in match_pairs(reference, detected, fs_hz, window_s) {
+        r[ri] = true;
+        d[di] = true;
+    }
+    (r, d)
+}
+
 fn ratio(num: usize, den: usize) -> f64 {
     if den == 0 {
         1.0

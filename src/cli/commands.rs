@@ -97,8 +97,18 @@ pub fn run(cli: Cli) -> Result<()> {
             reference,
             fs_hz,
             lead,
+            learning_s,
+            leave_out,
             json,
-        } => score_cmd(&inputs, reference, fs_hz, lead, json, quiet),
+        } => {
+            let rules = beatfold::beats::ec57::Ec57Rules {
+                learning_s,
+                leave_out,
+                ..Default::default()
+            };
+            rules.check()?;
+            score_cmd(&inputs, reference, fs_hz, lead, json, quiet, &rules)
+        }
         Command::Embed { input, opts } => embed_cmd(&input, &opts, quiet),
         Command::Dimension {
             input,
@@ -480,6 +490,7 @@ fn score_cmd(
     lead: Option<String>,
     json: bool,
     quiet: bool,
+    rules: &beatfold::beats::ec57::Ec57Rules,
 ) -> Result<()> {
     let o = Out {
         quiet: quiet || json,
@@ -488,8 +499,9 @@ fn score_cmd(
         bail!("--reference names one file, but {} recordings were given; leave it out to use each recording's `<stem>.annotations.csv`", inputs.len());
     }
     let mut rows = Vec::new();
-    let (mut tp, mut fp, mut fn_) = (0usize, 0usize, 0usize);
+    let mut scores = Vec::new();
     o.notice();
+    o.line(rules.describe());
     o.line(format!(
         "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8} {:>8}",
         "record", "ref", "detected", "TP", "FP", "FN", "Se %", "+P %"
@@ -514,10 +526,16 @@ fn score_cmd(
         }
         let b = pipeline::detect_beats(&rec, &params)?;
         let r: Vec<usize> = rec.annotations.beats.iter().map(|x| x.sample).collect();
-        let s = beatfold::beats::score(&r, &b.samples, rec.fs_hz, params.score_window_s);
-        tp += s.tp;
-        fp += s.fp;
-        fn_ += s.fn_;
+        let rs = beatfold::beats::ec57::score_record(
+            &rec.name,
+            &r,
+            &b.samples,
+            rec.fs_hz,
+            rec.n_samples(),
+            rules,
+        );
+        let s = rs.score;
+        scores.push(rs);
         o.line(format!(
             "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8.2} {:>8.2}",
             rec.name,
@@ -545,20 +563,18 @@ fn score_cmd(
             "beats": s, "rhythm": rhythm.unwrap_or(serde_json::Value::Null),
         }));
     }
-    let gse = if tp + fn_ > 0 {
-        tp as f64 / (tp + fn_) as f64
-    } else {
-        1.0
-    };
-    let gppv = if tp + fp > 0 {
-        tp as f64 / (tp + fp) as f64
-    } else {
-        1.0
-    };
+    let t = beatfold::beats::ec57::totals(&scores, rules);
+    let (tp, fp, fn_, gse, gppv) = (
+        t.pooled.tp,
+        t.pooled.fp,
+        t.pooled.fn_,
+        t.pooled.se,
+        t.pooled.ppv,
+    );
     if inputs.len() > 1 {
         o.line(format!(
             "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8.2} {:>8.2}",
-            "gross",
+            "pooled",
             tp + fn_,
             tp + fp,
             tp,
@@ -567,12 +583,19 @@ fn score_cmd(
             100.0 * gse,
             100.0 * gppv
         ));
+        o.line(format!(
+            "{:<24} average over {} records: Se {:.2} %, +P {:.2} %",
+            "",
+            t.records,
+            100.0 * t.average_se,
+            100.0 * t.average_ppv
+        ));
     }
     if json {
         let j = if rows.len() == 1 {
             rows.remove(0)
         } else {
-            json!({"records": rows, "gross": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}})
+            json!({"records": rows, "rules": rules, "pooled": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}, "average": {"se": t.average_se, "ppv": t.average_ppv, "records": t.records}, "left_out": t.left_out})
         };
         println!("{}", serde_json::to_string_pretty(&j)?);
     }

@@ -187,6 +187,12 @@ pub enum Command {
         /// Lead, by name or zero-based index (default: the first).
         #[arg(long)]
         lead: Option<String>,
+        /// Seconds at the start of each record not scored (EC57 learning period).
+        #[arg(long = "learning-s", value_name = "S", default_value_t = beatfold::beats::ec57::LEARNING_S)]
+        learning_s: f64,
+        /// Records (names, comma-separated) left out of the pooled totals, e.g. paced records.
+        #[arg(long = "leave-out", value_name = "NAMES", value_delimiter = ',')]
+        leave_out: Vec<String>,
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,
