@@ -946,6 +946,7 @@ fn rhythm_cmd(
     let v = beatfold::rhythm::variability(&nn);
     let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
     let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params)?;
+    let (verdict, _) = beatfold::verdicts::record_verdict(&rec, &params)?;
     let t_end: Vec<f64> = b
         .samples
         .iter()
@@ -994,6 +995,7 @@ fn rhythm_cmd(
             "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
             "sample_entropy": num(sampen),
             "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
+            "verdict": beatfold::rhythm::verdict::verdict_json(&verdict),
             "windows": wj,
             "notice": NOTICE});
         println!("{}", serde_json::to_string_pretty(&j)?);
@@ -1016,6 +1018,11 @@ fn rhythm_cmd(
             .iter()
             .map(|e| format!(" {:.0}–{:.0} s", e.start_s, e.end_s))
             .collect::<String>()
+    ));
+    o.line(format!(
+        "rhythm verdict (research label, not a diagnosis): {} — {}",
+        verdict.class.name(),
+        verdict.reasons.join("; ")
     ));
     o.line(format!(
         "variability in {} sliding window(s) of {window}{}",

@@ -483,6 +483,24 @@ pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
     }
 }
 
+/// The verdict as JSON: `{"class", "irregular_fraction", "index", "reasons"}` (non-finite
+/// numbers as `null`).
+pub fn verdict_json(v: &Verdict) -> serde_json::Value {
+    let num = |x: f64| {
+        if x.is_finite() {
+            serde_json::json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    serde_json::json!({
+        "class": v.class.name(),
+        "irregular_fraction": num(v.irregular_fraction),
+        "index": num(v.index),
+        "reasons": v.reasons,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -495,5 +513,71 @@ mod tests {
             assert_eq!(json, format!("\"{}\"", c.name()));
         }
         assert_eq!(VerdictClass::parse("Regular"), None);
+    }
+
+    /// Evidence of a clean record with beats at the given RR intervals (250 Hz), a P-wave
+    /// index of `p` per beat (template accepted when `p` is finite).
+    fn ev(rr: &[f64], p: f64) -> VerdictEvidence {
+        let fs = 250.0;
+        let mut samples = vec![250usize];
+        for r in rr {
+            let last = *samples.last().unwrap();
+            samples.push(last + (r * fs).round() as usize);
+        }
+        let rr_s: Vec<f64> = samples.windows(2).map(|w| (w[1] - w[0]) as f64 / fs).collect();
+        let raw = vec![0.1; samples.last().unwrap() + 250];
+        let q = vec![crate::signal::QualitySegment::default(); 3];
+        let pidx = vec![p; samples.len()];
+        evidence(&raw, fs, &samples, &rr_s, &pidx, p.is_finite(), 1.0, &q, 0.0, &VerdictParams::default())
+    }
+
+    #[test]
+    fn synthetic_rhythms_with_exact_truth() {
+        use rand::{Rng, SeedableRng};
+        let p = VerdictParams::default();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        // Sinus rhythm, 0.8 s ± 2 % (normal variability, common practice), P waves present.
+        let sinus: Vec<f64> = (0..40).map(|_| 0.8 * (1.0 + rng.gen_range(-0.02..0.02))).collect();
+        assert_eq!(decide(&ev(&sinus, 0.9), &p).class, VerdictClass::Regular);
+        // Irregularly irregular: RR uniform 0.4–1.1 s, no P-wave template (AF-like, common
+        // practice: irregular RR and no organised atrial activity).
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let v = decide(&ev(&af, f64::NAN), &p);
+        assert_eq!(v.class, VerdictClass::Irregular, "{:?}", v.reasons);
+        assert!(v.irregular_fraction > 0.5);
+        // The same RR with the record's P wave before every beat: organised, `other`.
+        assert_eq!(decide(&ev(&af, 0.9), &p).class, VerdictClass::Other);
+        // Ventricular bigeminy (coupling 0.5 s, compensatory pause 1.1 s) and trigeminy
+        // (0.8, 0.5, 1.1 s): large RR changes on a repeating pattern, never `irregular`.
+        let big: Vec<f64> = (0..40).map(|k| if k % 2 == 0 { 0.5 } else { 1.1 }).collect();
+        let tri: Vec<f64> = (0..40).map(|k| [0.8, 0.5, 1.1][k % 3]).collect();
+        for (name, rr) in [("bigeminy", big), ("trigeminy", tri)] {
+            let v = decide(&ev(&rr, f64::NAN), &p);
+            assert_ne!(v.class, VerdictClass::Irregular, "{name}: {:?}", v.reasons);
+            assert_eq!(v.class, VerdictClass::Other, "{name}: {:?}", v.reasons);
+        }
+    }
+
+    #[test]
+    fn bad_records_are_unreadable_with_a_reason() {
+        let p = VerdictParams::default();
+        // 8 s: shorter than 10 s.
+        let short = ev(&[0.8; 9], 0.9);
+        let v = decide(&short, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("shorter than"), "{:?}", v.reasons);
+        // All-NaN samples, no beats.
+        let q = vec![crate::signal::QualitySegment { non_finite: true, ..Default::default() }; 3];
+        let e = evidence(&[f64::NAN; 7500], 250.0, &[], &[], &[], false, f64::NAN, &q, 0.0, &p);
+        let v = decide(&e, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("missing"), "{:?}", v.reasons);
+        // A flat line: no beats.
+        let q = vec![crate::signal::QualitySegment { flat: true, ..Default::default() }; 3];
+        let e = evidence(&[0.0; 7500], 250.0, &[], &[], &[], false, f64::NAN, &q, 0.0, &p);
+        let v = decide(&e, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("beats detected"), "{:?}", v.reasons);
+        assert!(VerdictParams { cosen_r_s: 0.0, ..p.clone() }.check().is_err());
     }
 }
