@@ -98,7 +98,12 @@ pub fn run(cli: Cli) -> Result<()> {
             fs_hz,
             lead,
             json,
-        } => score_cmd(&inputs, reference, fs_hz, lead, json, quiet),
+            labels,
+            label_map,
+        } => match labels {
+            Some(l) => super::label_score::run(&inputs, &l, &label_map, lead, json, quiet),
+            None => score_cmd(&inputs, reference, fs_hz, lead, json, quiet),
+        },
         Command::Embed { input, opts } => embed_cmd(&input, &opts, quiet),
         Command::Dimension {
             input,
