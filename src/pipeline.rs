@@ -223,13 +223,29 @@ impl AnalyzeParams {
         Ok(())
     }
 
-    /// Read parameters from a JSON file (partial files are fine).
+    /// Parse parameters from JSON text; on failure, the dotted config path of the offending key
+    /// (e.g. `diffusion.components`, or `(top level)`) and the parser's error.
+    pub fn from_json_text(text: &str) -> std::result::Result<Self, (String, serde_json::Error)> {
+        let mut de = serde_json::Deserializer::from_str(text);
+        serde_path_to_error::deserialize(&mut de).map_err(|e| {
+            let path = e.path().to_string();
+            let key = if path == "." || path.is_empty() {
+                "(top level)".to_string()
+            } else {
+                path
+            };
+            (key, e.into_inner())
+        })
+    }
+
+    /// Read parameters from a JSON file (partial files are fine; unknown keys are refused in
+    /// every block, naming the key's config path).
     pub fn from_json_file(path: &std::path::Path) -> Result<Self> {
         let text = crate::io::read_text(path)?;
-        let p: AnalyzeParams = serde_json::from_str(&text).map_err(|e| {
+        let p = Self::from_json_text(&text).map_err(|(key, e)| {
             Error::input(
                 path,
-                format!("line {}, column {}", e.line(), e.column()),
+                format!("{key} (line {}, column {})", e.line(), e.column()),
                 e.to_string(),
             )
         })?;
@@ -630,5 +646,29 @@ mod tests {
             Err(Error::Param { name, .. }) => assert!(name.starts_with("atrial."), "{name}"),
             other => panic!("expected a parameter error, got {other:?}"),
         }
+    }
+
+    #[test]
+    fn a_typo_in_any_block_is_refused_with_its_config_path() {
+        // Each block of the configuration, with one misspelt key.
+        for (block, json) in [
+            ("diffusion.componnets", r#"{"diffusion": {"componnets": 3}}"#),
+            ("screen.widow_beats", r#"{"screen": {"widow_beats": 64}}"#),
+            ("features.pre_s_", r#"{"features": {"pre_s_": 0.2}}"#),
+            ("dimension.seeed", r#"{"dimension": {"seeed": 1}}"#),
+            ("atrial.windw", r#"{"atrial": {"windw": 1}}"#),
+            ("recurrence.rat", r#"{"recurrence": {"rat": 0.1}}"#),
+            ("condition.notch_hzz", r#"{"condition": {"notch_hzz": 50}}"#),
+            ("pan_tompkins.x", r#"{"pan_tompkins": {"x": 1}}"#),
+            ("elgendi.x", r#"{"elgendi": {"x": 1}}"#),
+            ("diffusionn", r#"{"diffusionn": {}}"#),
+        ] {
+            let (key, e) = AnalyzeParams::from_json_text(json).expect_err(block);
+            let field = block.rsplit('.').next().unwrap();
+            assert!(e.to_string().contains("unknown field"), "{block}: {e}");
+            assert_eq!(key, block, "{e}");
+            assert!(e.to_string().contains(field), "{block}: {e}");
+        }
+        assert!(AnalyzeParams::from_json_text(r#"{"diffusion": {"components": 3}}"#).is_ok());
     }
 }

@@ -45,7 +45,7 @@ pub const NOISE_FACTOR: f64 = 1.5;
 
 /// Parameters of [`kmeans_scaling`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct KmeansScalingParams {
     /// Ladder of k, strictly increasing, at least two values (default 2, 4, 8, …, 256). Values
     /// above a quarter of the training points are dropped at run time.

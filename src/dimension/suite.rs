@@ -107,7 +107,7 @@ impl Method {
 
 /// Parameters of [`dimension_suite`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct SuiteParams {
     /// Estimators to run (default all five).
     pub methods: Vec<Method>,

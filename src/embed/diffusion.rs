@@ -60,7 +60,7 @@ const MIN_SIGMA: f64 = 1e-150;
 
 /// Parameters of [`diffusion_map`] and [`fit`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct DiffusionParams {
     /// Number of non-trivial diffusion coordinates (default 10; at least 1).
     pub components: usize,

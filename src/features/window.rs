@@ -17,7 +17,7 @@ use serde::{Deserialize, Serialize};
 
 /// Parameters of [`beat_features`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct FeatureParams {
     /// Window start before the R peak, seconds (default 0.25).
     pub pre_s: f64,

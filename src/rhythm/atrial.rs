@@ -47,7 +47,7 @@ use serde::{Deserialize, Serialize};
 
 /// Parameters of [`p_wave_index_with`]; the defaults are argued in the module documentation.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct AtrialParams {
     /// Start of the P-wave segment before the R peak, ms (default 300).
     pub window_start_ms: f64,

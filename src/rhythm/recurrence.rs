@@ -26,7 +26,7 @@ pub enum Threshold {
 
 /// Parameters of recurrence quantification.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct RqaParams {
     /// Threshold rule (default: fixed recurrence rate 0.1).
     pub threshold: Threshold,

@@ -35,7 +35,7 @@ use serde::{Deserialize, Serialize};
 
 /// Parameters of the screen.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct ScreenParams {
     /// Window length in RR intervals (default 128).
     pub window_beats: usize,
