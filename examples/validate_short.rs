@@ -12,12 +12,18 @@ use std::path::PathBuf;
 
 fn main() -> anyhow::Result<()> {
     let args: Vec<String> = std::env::args().skip(1).collect();
-    let dir = PathBuf::from(args.first().ok_or_else(|| anyhow::anyhow!("usage: validate_short DIR [--labels FILE] [--min-se P] [--min-sp P] [--min-f1 F]"))?);
+    let dir = PathBuf::from(args.first().ok_or_else(|| {
+        anyhow::anyhow!(
+            "usage: validate_short DIR [--labels FILE] [--min-se P] [--min-sp P] [--min-f1 F]"
+        )
+    })?);
     let mut labels = dir.join("REFERENCE.csv");
     let (mut min_se, mut min_sp, mut min_f1) = (None, None, None);
     let mut i = 1;
     while i < args.len() {
-        let v = args.get(i + 1).ok_or_else(|| anyhow::anyhow!("{} needs a value", args[i]))?;
+        let v = args
+            .get(i + 1)
+            .ok_or_else(|| anyhow::anyhow!("{} needs a value", args[i]))?;
         match args[i].as_str() {
             "--labels" => labels = PathBuf::from(v),
             "--min-se" => min_se = Some(v.parse::<f64>()?),
@@ -67,8 +73,16 @@ fn main() -> anyhow::Result<()> {
             let e = &r.evidence;
             println!(
                 "row {},{},{},{:.4},{:.4},{:.4},{:.4},{},{:.4},{}",
-                r.record, r.label, r.verdict.class.name(), e.cosen, e.nrmssd, e.agreement,
-                e.flagged_fraction, e.p_template, e.p_wave_median, e.n_beats
+                r.record,
+                r.label,
+                r.verdict.class.name(),
+                e.cosen,
+                e.nrmssd,
+                e.agreement,
+                e.flagged_fraction,
+                e.p_template,
+                e.p_wave_median,
+                e.n_beats
             );
         }
     }
@@ -79,7 +93,7 @@ fn main() -> anyhow::Result<()> {
         ("F1", s.irregular_f1, min_f1),
     ] {
         if let Some(g) = gate {
-            if !(got >= g) {
+            if got.is_nan() || got < g {
                 eprintln!("gate missed: irregular {name} {got:.3} below {g}");
                 fail = true;
             }

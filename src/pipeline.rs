@@ -652,7 +652,10 @@ mod tests {
     fn a_typo_in_any_block_is_refused_with_its_config_path() {
         // Each block of the configuration, with one misspelt key.
         for (block, json) in [
-            ("diffusion.componnets", r#"{"diffusion": {"componnets": 3}}"#),
+            (
+                "diffusion.componnets",
+                r#"{"diffusion": {"componnets": 3}}"#,
+            ),
             ("screen.widow_beats", r#"{"screen": {"widow_beats": 64}}"#),
             ("features.pre_s_", r#"{"features": {"pre_s_": 0.2}}"#),
             ("dimension.seeed", r#"{"dimension": {"seeed": 1}}"#),

@@ -110,16 +110,12 @@ pub fn geometry_index(windows: &[RqaWindow]) -> f64 {
 /// recurrence of the first `p.recurrence_components` coordinates) for the comparison of
 /// docs/validation.md; NaN when the record has too few beats with complete windows.
 pub fn record_geometry_index(rec: &Record, b: &BeatsResult, p: &AnalyzeParams) -> Result<f64> {
-    let feats = match crate::features::beat_features(
-        &b.conditioned,
-        rec.fs_hz,
-        &b.samples,
-        &p.features,
-    ) {
-        Ok(f) => f,
-        Err(Error::Analysis(_)) => return Ok(f64::NAN),
-        Err(e) => return Err(e),
-    };
+    let feats =
+        match crate::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
+            Ok(f) => f,
+            Err(Error::Analysis(_)) => return Ok(f64::NAN),
+            Err(e) => return Err(e),
+        };
     if feats.points.n < 8 || feats.points.n < p.diffusion.components + 2 {
         return Ok(f64::NAN);
     }

@@ -18,28 +18,44 @@ pub fn run(
 ) -> Result<()> {
     let map = LabelMap::parse(map)?;
     let [dir] = inputs else {
-        bail!("--labels takes exactly one folder of records, {} given", inputs.len());
+        bail!(
+            "--labels takes exactly one folder of records, {} given",
+            inputs.len()
+        );
     };
     if !dir.is_dir() {
-        bail!("{} is not a folder (--labels scores the records of one folder)", dir.display());
+        bail!(
+            "{} is not a folder (--labels scores the records of one folder)",
+            dir.display()
+        );
     }
     let p = AnalyzeParams {
         lead,
         ..AnalyzeParams::default()
     };
     let (s, rows) = beatfold::verdicts::score_labels(dir, labels, &map, &p)?;
-    let num = |x: f64| if x.is_finite() { json!(x) } else { serde_json::Value::Null };
+    let num = |x: f64| {
+        if x.is_finite() {
+            json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
     if json {
         let classes: Vec<_> = s
             .classes
             .iter()
-            .map(|c| json!({"class": c.class.name(), "n": c.n_true, "predicted": c.n_predicted,
-                "se": num(c.se), "ppv": num(c.ppv), "f1": num(c.f1)}))
+            .map(|c| {
+                json!({"class": c.class.name(), "n": c.n_true, "predicted": c.n_predicted,
+                "se": num(c.se), "ppv": num(c.ppv), "f1": num(c.f1)})
+            })
             .collect();
         let recs: Vec<_> = rows
             .iter()
-            .map(|r| json!({"record": r.record, "label": r.label, "truth": r.truth.name(),
-                "verdict": verdict_json(&r.verdict), "warnings": r.warnings}))
+            .map(|r| {
+                json!({"record": r.record, "label": r.label, "truth": r.truth.name(),
+                "verdict": verdict_json(&r.verdict), "warnings": r.warnings})
+            })
             .collect();
         let j = json!({"n": s.n,
             "classes_order": VerdictClass::ALL.iter().map(|c| c.name()).collect::<Vec<_>>(),

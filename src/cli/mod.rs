@@ -192,7 +192,12 @@ pub enum Command {
         #[arg(long, value_name = "CSV", conflicts_with_all = ["reference", "fs_hz"])]
         labels: Option<std::path::PathBuf>,
         /// With --labels: which class each label stands for.
-        #[arg(long, value_name = "MAP", default_value = "A=irregular,N=regular,O=other,~=unreadable", requires = "labels")]
+        #[arg(
+            long,
+            value_name = "MAP",
+            default_value = "A=irregular,N=regular,O=other,~=unreadable",
+            requires = "labels"
+        )]
         label_map: String,
     },
     /// Diffusion-map embedding of a recording's beats or of a numeric CSV point cloud.

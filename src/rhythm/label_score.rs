@@ -94,7 +94,8 @@ pub fn parse_labels(path: &Path, text: &str) -> Result<Vec<(String, String)>> {
         if line.is_empty() || line.starts_with('#') {
             continue;
         }
-        let bad = |what: &str| Error::Analysis(format!("{}: line {}: {what}", path.display(), i + 1));
+        let bad =
+            |what: &str| Error::Analysis(format!("{}: line {}: {what}", path.display(), i + 1));
         let mut parts = line.split(',').map(str::trim);
         let (Some(name), Some(label), None) = (parts.next(), parts.next(), parts.next()) else {
             return Err(bad(&format!(
@@ -248,7 +249,10 @@ mod tests {
         }
         let p = Path::new("REFERENCE.csv");
         let l = parse_labels(p, "record,label\nA1,N\n\nA2,A\n").unwrap();
-        assert_eq!(l, vec![("A1".into(), "N".into()), ("A2".into(), "A".into())]);
+        assert_eq!(
+            l,
+            vec![("A1".into(), "N".into()), ("A2".into(), "A".into())]
+        );
         let e = parse_labels(p, "A1,N\nA2\n").unwrap_err().to_string();
         assert!(e.contains("REFERENCE.csv") && e.contains("line 2"), "{e}");
         assert!(parse_labels(p, "A1,N\nA1,A\n").is_err());

@@ -58,11 +58,10 @@ pub struct Verdict {
     pub reasons: Vec<String>,
 }
 
-
 /// Parameters of the record verdict ([`decide`]). Each default names the data it was chosen on
 /// in docs/validation.md ("Record verdict").
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct VerdictParams {
     /// Shortest record that gets a rhythm class, seconds (default 10).
     pub min_duration_s: f64,
@@ -178,7 +177,10 @@ impl VerdictParams {
         if !(self.min_episode_total_s.is_finite() && self.min_episode_total_s >= 0.0) {
             return Err(Error::param(
                 "verdict.min_episode_total_s",
-                format!("{} s; allowed a finite value ≥ 0 s", self.min_episode_total_s),
+                format!(
+                    "{} s; allowed a finite value ≥ 0 s",
+                    self.min_episode_total_s
+                ),
             ));
         }
         Ok(())
@@ -322,21 +324,11 @@ pub fn evidence(
                 f64::NAN
             };
             let pw = if p_accepted {
-                median(
-                    p_index[a + 1..=b]
-                        .iter()
-                        .copied()
-                        .filter(|v| v.is_finite()),
-                )
+                median(p_index[a + 1..=b].iter().copied().filter(|v| v.is_finite()))
             } else {
                 f64::NAN
             };
-            segments.push([
-                samples[a] as f64 / fs_hz,
-                samples[b] as f64 / fs_hz,
-                c,
-                pw,
-            ]);
+            segments.push([samples[a] as f64 / fs_hz, samples[b] as f64 / fs_hz, c, pw]);
             a = b;
         }
     }
@@ -524,11 +516,25 @@ mod tests {
             let last = *samples.last().unwrap();
             samples.push(last + (r * fs).round() as usize);
         }
-        let rr_s: Vec<f64> = samples.windows(2).map(|w| (w[1] - w[0]) as f64 / fs).collect();
+        let rr_s: Vec<f64> = samples
+            .windows(2)
+            .map(|w| (w[1] - w[0]) as f64 / fs)
+            .collect();
         let raw = vec![0.1; samples.last().unwrap() + 250];
         let q = vec![crate::signal::QualitySegment::default(); 3];
         let pidx = vec![p; samples.len()];
-        evidence(&raw, fs, &samples, &rr_s, &pidx, p.is_finite(), 1.0, &q, 0.0, &VerdictParams::default())
+        evidence(
+            &raw,
+            fs,
+            &samples,
+            &rr_s,
+            &pidx,
+            p.is_finite(),
+            1.0,
+            &q,
+            0.0,
+            &VerdictParams::default(),
+        )
     }
 
     #[test]
@@ -537,7 +543,9 @@ mod tests {
         let p = VerdictParams::default();
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
         // Sinus rhythm, 0.8 s ± 2 % (normal variability, common practice), P waves present.
-        let sinus: Vec<f64> = (0..40).map(|_| 0.8 * (1.0 + rng.gen_range(-0.02..0.02))).collect();
+        let sinus: Vec<f64> = (0..40)
+            .map(|_| 0.8 * (1.0 + rng.gen_range(-0.02..0.02)))
+            .collect();
         assert_eq!(decide(&ev(&sinus, 0.9), &p).class, VerdictClass::Regular);
         // Irregularly irregular: RR uniform 0.4–1.1 s, no P-wave template (AF-like, common
         // practice: irregular RR and no organised atrial activity).
@@ -549,7 +557,9 @@ mod tests {
         assert_eq!(decide(&ev(&af, 0.9), &p).class, VerdictClass::Other);
         // Ventricular bigeminy (coupling 0.5 s, compensatory pause 1.1 s) and trigeminy
         // (0.8, 0.5, 1.1 s): large RR changes on a repeating pattern, never `irregular`.
-        let big: Vec<f64> = (0..40).map(|k| if k % 2 == 0 { 0.5 } else { 1.1 }).collect();
+        let big: Vec<f64> = (0..40)
+            .map(|k| if k % 2 == 0 { 0.5 } else { 1.1 })
+            .collect();
         let tri: Vec<f64> = (0..40).map(|k| [0.8, 0.5, 1.1][k % 3]).collect();
         for (name, rr) in [("bigeminy", big), ("trigeminy", tri)] {
             let v = decide(&ev(&rr, f64::NAN), &p);
@@ -567,17 +577,56 @@ mod tests {
         assert_eq!(v.class, VerdictClass::Unreadable);
         assert!(v.reasons[0].contains("shorter than"), "{:?}", v.reasons);
         // All-NaN samples, no beats.
-        let q = vec![crate::signal::QualitySegment { non_finite: true, ..Default::default() }; 3];
-        let e = evidence(&[f64::NAN; 7500], 250.0, &[], &[], &[], false, f64::NAN, &q, 0.0, &p);
+        let q = vec![
+            crate::signal::QualitySegment {
+                non_finite: true,
+                ..Default::default()
+            };
+            3
+        ];
+        let e = evidence(
+            &[f64::NAN; 7500],
+            250.0,
+            &[],
+            &[],
+            &[],
+            false,
+            f64::NAN,
+            &q,
+            0.0,
+            &p,
+        );
         let v = decide(&e, &p);
         assert_eq!(v.class, VerdictClass::Unreadable);
         assert!(v.reasons[0].contains("missing"), "{:?}", v.reasons);
         // A flat line: no beats.
-        let q = vec![crate::signal::QualitySegment { flat: true, ..Default::default() }; 3];
-        let e = evidence(&[0.0; 7500], 250.0, &[], &[], &[], false, f64::NAN, &q, 0.0, &p);
+        let q = vec![
+            crate::signal::QualitySegment {
+                flat: true,
+                ..Default::default()
+            };
+            3
+        ];
+        let e = evidence(
+            &[0.0; 7500],
+            250.0,
+            &[],
+            &[],
+            &[],
+            false,
+            f64::NAN,
+            &q,
+            0.0,
+            &p,
+        );
         let v = decide(&e, &p);
         assert_eq!(v.class, VerdictClass::Unreadable);
         assert!(v.reasons[0].contains("beats detected"), "{:?}", v.reasons);
-        assert!(VerdictParams { cosen_r_s: 0.0, ..p.clone() }.check().is_err());
+        assert!(VerdictParams {
+            cosen_r_s: 0.0,
+            ..p.clone()
+        }
+        .check()
+        .is_err());
     }
 }
