@@ -27,6 +27,7 @@ pub mod rhythm;
 pub mod signal;
 pub mod stats;
 pub mod synth;
+pub mod verdicts;
 
 pub use error::{Error, Result};
 

@@ -64,6 +64,13 @@ pub struct Analysis {
     /// Recurrence quantification of the beat trajectory in diffusion coordinates, in sliding
     /// windows (Marwan et al. 2007); window bounds index feature rows.
     pub recurrence: Vec<crate::rhythm::recurrence::RqaWindow>,
+    /// The record's rhythm verdict (research label, never a diagnosis).
+    pub verdict: crate::rhythm::verdict::Verdict,
+    /// What the verdict rests on.
+    pub verdict_evidence: crate::rhythm::verdict::VerdictEvidence,
+    /// Beat-geometry irregularity: 1 − median determinism of the recurrence windows of the
+    /// embedded trajectory (NaN without an embedding); see [`crate::verdicts::geometry_index`].
+    pub geometry_index: f64,
     /// Reference annotations that came with the record (possibly empty).
     pub reference: Annotations,
     /// Detection score against the reference beats, when there are any.
@@ -128,6 +135,8 @@ pub struct AnalyzeParams {
     pub atrial: crate::rhythm::atrial::AtrialParams,
     /// Recurrence quantification of the embedded beat trajectory.
     pub recurrence: crate::rhythm::recurrence::RqaParams,
+    /// The per-record rhythm verdict.
+    pub verdict: crate::rhythm::verdict::VerdictParams,
     /// Records with at most this many beats are embedded with the dense kernel (every pair of
     /// beats; `diffusion.neighbors` is then ignored); larger ones on the kNN graph. Default
     /// 2000; 0 always uses the graph.
@@ -161,6 +170,7 @@ impl Default for AnalyzeParams {
             screen: crate::rhythm::screen::ScreenParams::default(),
             atrial: crate::rhythm::atrial::AtrialParams::default(),
             recurrence: crate::rhythm::recurrence::RqaParams::default(),
+            verdict: crate::rhythm::verdict::VerdictParams::default(),
             dense_kernel_max_beats: 2000,
             recurrence_components: 3,
             quality_segment_s: 10.0,
@@ -175,6 +185,7 @@ impl AnalyzeParams {
         self.condition.check()?;
         self.pan_tompkins.check()?;
         self.elgendi.check()?;
+        self.verdict.check()?;
         if !(0.0..=1.0).contains(&self.fuse_margin) {
             return Err(Error::param(
                 "fuse_margin",
@@ -530,6 +541,14 @@ pub fn analyze(
     } else {
         Vec::new()
     };
+    let irregular_s: f64 = screen
+        .episodes
+        .iter()
+        .map(|e| (e.end_s - e.start_s).max(0.0))
+        .sum();
+    let (verdict, verdict_evidence) =
+        crate::verdicts::verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
+    let geometry_index = crate::verdicts::geometry_index(&recurrence);
     let reference = rec.annotations.clone();
     let score = (!reference.beats.is_empty()).then(|| {
         let r: Vec<usize> = reference.beats.iter().map(|x| x.sample).collect();
@@ -560,6 +579,9 @@ pub fn analyze(
         sample_entropy,
         screen,
         recurrence,
+        verdict,
+        verdict_evidence,
+        geometry_index,
         reference,
         score,
         parameters,

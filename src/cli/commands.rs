@@ -100,15 +100,20 @@ pub fn run(cli: Cli) -> Result<()> {
             learning_s,
             leave_out,
             json,
-        } => {
-            let rules = beatfold::beats::ec57::Ec57Rules {
-                learning_s,
-                leave_out,
-                ..Default::default()
-            };
-            rules.check()?;
-            score_cmd(&inputs, reference, fs_hz, lead, json, quiet, &rules)
-        }
+            labels,
+            label_map,
+        } => match labels {
+            Some(l) => super::label_score::run(&inputs, &l, &label_map, lead, json, quiet),
+            None => {
+                let rules = beatfold::beats::ec57::Ec57Rules {
+                    learning_s,
+                    leave_out,
+                    ..Default::default()
+                };
+                rules.check()?;
+                score_cmd(&inputs, reference, fs_hz, lead, json, quiet, &rules)
+            }
+        },
         Command::Embed { input, opts } => embed_cmd(&input, &opts, quiet),
         Command::Dimension {
             input,
@@ -973,6 +978,7 @@ fn rhythm_cmd(
     let v = beatfold::rhythm::variability(&nn);
     let (sd1, sd2, sampen) = beatfold::rhythm::entropy::nn_descriptors(&nn);
     let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params)?;
+    let (verdict, _) = beatfold::verdicts::record_verdict(&rec, &params)?;
     let t_end: Vec<f64> = b
         .samples
         .iter()
@@ -1021,6 +1027,7 @@ fn rhythm_cmd(
             "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
             "sample_entropy": num(sampen),
             "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
+            "verdict": beatfold::rhythm::verdict::verdict_json(&verdict),
             "windows": wj,
             "notice": NOTICE});
         println!("{}", serde_json::to_string_pretty(&j)?);
@@ -1043,6 +1050,11 @@ fn rhythm_cmd(
             .iter()
             .map(|e| format!(" {:.0}–{:.0} s", e.start_s, e.end_s))
             .collect::<String>()
+    ));
+    o.line(format!(
+        "rhythm verdict (research label, not a diagnosis): {} — {}",
+        verdict.class.name(),
+        verdict.reasons.join("; ")
     ));
     o.line(format!(
         "variability in {} sliding window(s) of {window}{}",

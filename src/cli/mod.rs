@@ -4,6 +4,7 @@
 
 pub mod cohort;
 pub mod commands;
+pub mod label_score;
 
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;
@@ -196,6 +197,18 @@ pub enum Command {
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,
+        /// Score record verdicts instead of beats: a `record,label` file for the records of the
+        /// one folder given (research labels, never a diagnosis).
+        #[arg(long, value_name = "CSV", conflicts_with_all = ["reference", "fs_hz"])]
+        labels: Option<std::path::PathBuf>,
+        /// With --labels: which class each label stands for.
+        #[arg(
+            long,
+            value_name = "MAP",
+            default_value = "A=irregular,N=regular,O=other,~=unreadable",
+            requires = "labels"
+        )]
+        label_map: String,
     },
     /// Diffusion-map embedding of a recording's beats or of a numeric CSV point cloud.
     Embed {

@@ -93,6 +93,8 @@ pub fn summary_json(a: &Analysis) -> Value {
             "recurrence_windows": a.recurrence.len(),
             "recurrence_det_median": num(crate::stats::median(a.recurrence.iter().map(|w| w.rqa.det))),
         },
+        "verdict": crate::rhythm::verdict::verdict_json(&a.verdict),
+        "geometry_index": num(a.geometry_index),
         "score": score,
         "embedding": {
             "n": e.n,

@@ -439,7 +439,7 @@ fn refine_edges(rr: &[f64], i: usize, j: usize, p: &ScreenParams) -> (usize, usi
 /// Coefficient of sample entropy of Lake & Moorman (2011): SampEn(m = 1, r) + ln(2r) − ln(mean
 /// RR), r in seconds. r starts at `r0_s` and grows by 10 ms until at least 5 pairs match at
 /// length 2 (at most 20 steps); NaN when no pair matches then.
-fn cosen(rr: &[f64], r0_s: f64) -> f64 {
+pub(crate) fn cosen(rr: &[f64], r0_s: f64) -> f64 {
     let n = rr.len();
     if n < 3 {
         return f64::NAN;

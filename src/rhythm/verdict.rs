@@ -2,6 +2,8 @@
 //! fraction of the record in irregular episodes, the index the decision rests on, and the reasons
 //! in words. Research use only: a verdict is a research label for a recording, never a diagnosis.
 
+use super::atrial::AtrialParams;
+use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
 
 /// The class of a record's rhythm.
@@ -56,6 +58,441 @@ pub struct Verdict {
     pub reasons: Vec<String>,
 }
 
+/// Parameters of the record verdict ([`decide`]). Each default names the data it was chosen on
+/// in docs/validation.md ("Record verdict").
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct VerdictParams {
+    /// Shortest record that gets a rhythm class, seconds (default 10).
+    pub min_duration_s: f64,
+    /// Fewest detected beats for a rhythm class (default 8).
+    pub min_beats: usize,
+    /// Below this beat agreement of the two QRS detectors (bSQI, Li, Mark & Clifford 2008) the
+    /// beats are not trusted and the record is `unreadable` (default 0.8).
+    pub min_agreement: f64,
+    /// Above this share of quality segments flagged (flat, clipped, noisy, non-finite, lead
+    /// off) the record is `unreadable` (default 0.5).
+    pub max_flagged_fraction: f64,
+    /// RR is irregularly irregular when the record's coefficient of sample entropy exceeds this
+    /// (default −1.4, the threshold of Lake & Moorman 2011, `from memory`).
+    pub cosen_min: f64,
+    /// Starting tolerance r of the coefficient of sample entropy, seconds (default 0.03, Lake &
+    /// Moorman 2011, `from memory`).
+    pub cosen_r_s: f64,
+    /// Segment length of the beat-resolution irregular fraction, RR intervals (default 12, the
+    /// segment length of Lake & Moorman 2011).
+    pub segment_beats: usize,
+    /// Organised atrial activity: the P-wave template was accepted and the median P-wave index
+    /// of the beats is at least this (default 0.5; see [`super::atrial`]).
+    pub p_wave_min: f64,
+    /// Fewest locally regular beats that form the P-wave template for the verdict (default 8: a
+    /// 10 s record at 60 bpm has 10 beats).
+    pub p_template_beats: usize,
+    /// RR with large successive differences but a repeating pattern (bigeminy, trigeminy,
+    /// group beating): `other` when the trimmed nRMSSD exceeds this while COSEn is at or below
+    /// `cosen_min` (default 0.1, the nRMSSD threshold of Dash et al. 2009, `from memory`).
+    pub organised_nrmssd_min: f64,
+    /// Long records: episodes of the windowed screen totalling at least this many seconds make
+    /// the record `irregular` (default 30, the usual shortest episode, `common practice`).
+    pub min_episode_total_s: f64,
+}
+
+impl Default for VerdictParams {
+    fn default() -> Self {
+        VerdictParams {
+            min_duration_s: 10.0,
+            min_beats: 8,
+            min_agreement: 0.8,
+            max_flagged_fraction: 0.5,
+            cosen_min: -1.4,
+            cosen_r_s: 0.03,
+            segment_beats: 12,
+            p_wave_min: 0.5,
+            p_template_beats: 8,
+            organised_nrmssd_min: 0.1,
+            min_episode_total_s: 30.0,
+        }
+    }
+}
+
+impl VerdictParams {
+    /// Validate.
+    pub fn check(&self) -> Result<()> {
+        if !(self.min_duration_s.is_finite() && self.min_duration_s >= 0.0) {
+            return Err(Error::param(
+                "verdict.min_duration_s",
+                format!("{} s; allowed a finite value ≥ 0 s", self.min_duration_s),
+            ));
+        }
+        if self.min_beats < 4 {
+            return Err(Error::param(
+                "verdict.min_beats",
+                format!("{} beats; allowed ≥ 4", self.min_beats),
+            ));
+        }
+        for (name, v) in [
+            ("verdict.min_agreement", self.min_agreement),
+            ("verdict.max_flagged_fraction", self.max_flagged_fraction),
+        ] {
+            if !(0.0..=1.0).contains(&v) {
+                return Err(Error::param(name, format!("{v}; allowed 0 ≤ v ≤ 1")));
+            }
+        }
+        if !self.cosen_min.is_finite() {
+            return Err(Error::param(
+                "verdict.cosen_min",
+                format!("{}; allowed a finite number", self.cosen_min),
+            ));
+        }
+        if !(self.cosen_r_s > 0.0 && self.cosen_r_s <= 1.0) {
+            return Err(Error::param(
+                "verdict.cosen_r_s",
+                format!("{} s; allowed 0 < r ≤ 1 s", self.cosen_r_s),
+            ));
+        }
+        if self.segment_beats < 4 {
+            return Err(Error::param(
+                "verdict.segment_beats",
+                format!("{} intervals; allowed ≥ 4", self.segment_beats),
+            ));
+        }
+        if !(-1.0..=1.0).contains(&self.p_wave_min) {
+            return Err(Error::param(
+                "verdict.p_wave_min",
+                format!("{}; allowed −1 ≤ v ≤ 1 (correlation)", self.p_wave_min),
+            ));
+        }
+        if self.p_template_beats < 3 {
+            return Err(Error::param(
+                "verdict.p_template_beats",
+                format!("{} beats; allowed ≥ 3", self.p_template_beats),
+            ));
+        }
+        if !(self.organised_nrmssd_min.is_finite() && self.organised_nrmssd_min >= 0.0) {
+            return Err(Error::param(
+                "verdict.organised_nrmssd_min",
+                format!("{}; allowed a finite value ≥ 0", self.organised_nrmssd_min),
+            ));
+        }
+        if !(self.min_episode_total_s.is_finite() && self.min_episode_total_s >= 0.0) {
+            return Err(Error::param(
+                "verdict.min_episode_total_s",
+                format!(
+                    "{} s; allowed a finite value ≥ 0 s",
+                    self.min_episode_total_s
+                ),
+            ));
+        }
+        Ok(())
+    }
+
+    /// The P-wave index parameters used by the verdict: `base` with the template size of
+    /// `p_template_beats`.
+    pub fn atrial(&self, base: &AtrialParams) -> AtrialParams {
+        AtrialParams {
+            min_template_beats: self.p_template_beats,
+            ..base.clone()
+        }
+    }
+}
+
+/// What a verdict rests on: the measures of one record, each also written to the outputs.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct VerdictEvidence {
+    /// Record duration, seconds.
+    pub duration_s: f64,
+    /// Detected beats.
+    pub n_beats: usize,
+    /// Beat agreement of the two detectors over the record (NaN when unknown).
+    pub agreement: f64,
+    /// Share of quality segments with any flag.
+    pub flagged_fraction: f64,
+    /// Share of samples that are not finite.
+    pub non_finite_fraction: f64,
+    /// Coefficient of sample entropy of the RR series (median over blocks of
+    /// [`COSEN_BLOCK`] intervals for long records).
+    pub cosen: f64,
+    /// nRMSSD (RMSSD / mean RR) after setting aside the longest and shortest 10 % of the
+    /// intervals.
+    pub nrmssd: f64,
+    /// The P-wave template was accepted.
+    pub p_template: bool,
+    /// Median P-wave index of the beats (NaN without a template).
+    pub p_wave_median: f64,
+    /// Per segment of `segment_beats` intervals: start s, end s, COSEn, median P-wave index.
+    pub segments: Vec<[f64; 4]>,
+    /// Seconds inside episodes of the windowed screen.
+    pub screen_irregular_s: f64,
+}
+
+/// Intervals per block of the record-level COSEn (bounds its O(n²) cost on long records).
+pub const COSEN_BLOCK: usize = 512;
+
+fn median(v: impl IntoIterator<Item = f64>) -> f64 {
+    crate::stats::median(v)
+}
+
+/// RMSSD / mean RR of `rr` after setting aside the longest and shortest 10 % (at least none).
+fn trimmed_nrmssd(rr: &[f64]) -> f64 {
+    if rr.len() < 3 {
+        return f64::NAN;
+    }
+    let mut sorted = rr.to_vec();
+    sorted.sort_by(f64::total_cmp);
+    let t = rr.len() / 10;
+    let (lo, hi) = (sorted[t], sorted[rr.len() - 1 - t]);
+    let kept: Vec<f64> = rr.iter().copied().filter(|&v| v >= lo && v <= hi).collect();
+    if kept.len() < 2 {
+        return f64::NAN;
+    }
+    let mean = kept.iter().sum::<f64>() / kept.len() as f64;
+    let d2 = kept.windows(2).map(|w| (w[1] - w[0]).powi(2)).sum::<f64>();
+    (d2 / (kept.len() - 1) as f64).sqrt() / mean
+}
+
+/// Collect the evidence of one record: `samples` are the R peaks at `fs_hz`, `rr_s` their
+/// intervals, `p_index` the P-wave index per beat (from [`super::atrial::p_wave_index_with`]
+/// with [`VerdictParams::atrial`]) and `p_accepted` whether its template was accepted,
+/// `agreement` the detectors' beat agreement, `quality` the lead's quality segments, `raw` the
+/// raw samples and `screen_irregular_s` the screen's episode seconds.
+#[allow(clippy::too_many_arguments)]
+pub fn evidence(
+    raw: &[f64],
+    fs_hz: f64,
+    samples: &[usize],
+    rr_s: &[f64],
+    p_index: &[f64],
+    p_accepted: bool,
+    agreement: f64,
+    quality: &[crate::signal::QualitySegment],
+    screen_irregular_s: f64,
+    p: &VerdictParams,
+) -> VerdictEvidence {
+    let duration_s = if fs_hz > 0.0 {
+        raw.len() as f64 / fs_hz
+    } else {
+        f64::NAN
+    };
+    let flagged = quality
+        .iter()
+        .filter(|q| q.flat || q.clipped || q.noisy || q.non_finite || q.lead_off)
+        .count();
+    let flagged_fraction = if quality.is_empty() {
+        1.0
+    } else {
+        flagged as f64 / quality.len() as f64
+    };
+    let non_finite_fraction = if raw.is_empty() {
+        1.0
+    } else {
+        raw.iter().filter(|v| !v.is_finite()).count() as f64 / raw.len() as f64
+    };
+    let rr: Vec<f64> = rr_s
+        .iter()
+        .copied()
+        .filter(|r| r.is_finite() && *r > 0.0)
+        .collect();
+    let cosen = if rr.len() < p.min_beats.saturating_sub(1).max(3) {
+        f64::NAN
+    } else {
+        median(
+            rr.chunks(COSEN_BLOCK)
+                .filter(|c| c.len() * 2 >= COSEN_BLOCK.min(rr.len()))
+                .map(|c| super::screen::cosen(c, p.cosen_r_s)),
+        )
+    };
+    let p_accepted = p_accepted && p_index.len() == samples.len();
+    let p_wave_median = if p_accepted {
+        median(p_index.iter().copied().filter(|v| v.is_finite()))
+    } else {
+        f64::NAN
+    };
+    let mut segments = Vec::new();
+    if rr_s.len() == samples.len().saturating_sub(1) && fs_hz > 0.0 {
+        let m = p.segment_beats;
+        let mut a = 0;
+        while a < rr_s.len() {
+            // A trailing piece shorter than half a segment joins the previous one.
+            let mut b = (a + m).min(rr_s.len());
+            if rr_s.len() - b < m / 2 {
+                b = rr_s.len();
+            }
+            let seg = &rr_s[a..b];
+            let c = if seg.len() >= 4 {
+                super::screen::cosen(seg, p.cosen_r_s)
+            } else {
+                f64::NAN
+            };
+            let pw = if p_accepted {
+                median(p_index[a + 1..=b].iter().copied().filter(|v| v.is_finite()))
+            } else {
+                f64::NAN
+            };
+            segments.push([samples[a] as f64 / fs_hz, samples[b] as f64 / fs_hz, c, pw]);
+            a = b;
+        }
+    }
+    VerdictEvidence {
+        duration_s,
+        n_beats: samples.len(),
+        agreement,
+        flagged_fraction,
+        non_finite_fraction,
+        cosen,
+        nrmssd: trimmed_nrmssd(&rr),
+        p_template: p_accepted,
+        p_wave_median,
+        segments,
+        screen_irregular_s,
+    }
+}
+
+/// Share of the record's beat-covered time in segments that are irregular by COSEn and carry no
+/// P waves (beat resolution: [`VerdictParams::segment_beats`] intervals per segment).
+fn irregular_fraction(e: &VerdictEvidence, p: &VerdictParams) -> f64 {
+    let total: f64 = e.segments.iter().map(|s| s[1] - s[0]).sum();
+    if !(total > 0.0) {
+        return 0.0;
+    }
+    let irr: f64 = e
+        .segments
+        .iter()
+        .filter(|s| s[2] > p.cosen_min && !(s[3] >= p.p_wave_min))
+        .map(|s| s[1] - s[0])
+        .sum();
+    (irr / total).clamp(0.0, 1.0)
+}
+
+fn pct(x: f64) -> String {
+    format!("{:.0} %", 100.0 * x)
+}
+
+/// The verdict of a record from its evidence (rules in the order tried):
+/// 1. `unreadable` when the record lasts less than `min_duration_s`, has fewer than
+///    `min_beats` beats, its detectors agree on fewer than `min_agreement` of the beats (bSQI,
+///    Li, Mark & Clifford 2008), more than `max_flagged_fraction` of its quality segments are
+///    flagged, or its COSEn cannot be computed;
+/// 2. RR is irregularly irregular when COSEn (Lake & Moorman 2011) exceeds `cosen_min`, or
+///    the windowed screen found at least `min_episode_total_s` of episodes (long records); then
+///    `other` when the atrial activity is organised (P-wave template accepted, median index at
+///    least `p_wave_min`; Babaeizadeh et al. 2009), else `irregular`;
+/// 3. otherwise `other` when the trimmed nRMSSD exceeds `organised_nrmssd_min` (large but
+///    repeating RR changes: bigeminy, trigeminy), else `regular`.
+///
+/// The index is the COSEn. Research use only: a label for a recording, never a diagnosis.
+pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
+    let fraction = irregular_fraction(e, p);
+    let unreadable = |reason: String| Verdict {
+        class: VerdictClass::Unreadable,
+        irregular_fraction: fraction,
+        index: e.cosen,
+        reasons: vec![reason],
+    };
+    if !(e.duration_s >= p.min_duration_s) {
+        return unreadable(format!(
+            "the record lasts {:.1} s, shorter than the {} s a verdict needs",
+            e.duration_s, p.min_duration_s
+        ));
+    }
+    if e.non_finite_fraction >= 1.0 {
+        return unreadable("every sample is missing (NaN or infinite)".to_string());
+    }
+    if e.n_beats < p.min_beats {
+        return unreadable(format!(
+            "{} beats detected, fewer than the {} a verdict needs",
+            e.n_beats, p.min_beats
+        ));
+    }
+    if e.agreement < p.min_agreement {
+        return unreadable(format!(
+            "the two beat detectors agree on {} of the beats, below {}: the beats are not trusted",
+            pct(e.agreement),
+            pct(p.min_agreement)
+        ));
+    }
+    if e.flagged_fraction > p.max_flagged_fraction {
+        return unreadable(format!(
+            "{} of the signal segments are flagged (flat, clipped, noisy or missing), above {}",
+            pct(e.flagged_fraction),
+            pct(p.max_flagged_fraction)
+        ));
+    }
+    if !e.cosen.is_finite() {
+        return unreadable("the RR irregularity (COSEn) cannot be computed".to_string());
+    }
+    let mut reasons = Vec::new();
+    let rr_irregular = e.cosen > p.cosen_min;
+    let episodes = e.screen_irregular_s >= p.min_episode_total_s && e.screen_irregular_s > 0.0;
+    if rr_irregular {
+        reasons.push(format!(
+            "RR irregularly irregular: COSEn {:.2} above {:.2}",
+            e.cosen, p.cosen_min
+        ));
+    }
+    if episodes {
+        reasons.push(format!(
+            "the windowed screen found {:.0} s of irregular episodes",
+            e.screen_irregular_s
+        ));
+    }
+    let organised_atria = e.p_template && e.p_wave_median >= p.p_wave_min;
+    let class = if rr_irregular || episodes {
+        if organised_atria && !episodes {
+            reasons.push(format!(
+                "organised atrial activity: P waves match the record's template (median index {:.2}, at least {:.2})",
+                e.p_wave_median, p.p_wave_min
+            ));
+            VerdictClass::Other
+        } else {
+            reasons.push(if e.p_template {
+                format!(
+                    "no consistent P wave: median P-wave index {:.2}, below {:.2}",
+                    e.p_wave_median, p.p_wave_min
+                )
+            } else {
+                "no consistent P wave: too few regular beats share one".to_string()
+            });
+            VerdictClass::Irregular
+        }
+    } else if e.nrmssd > p.organised_nrmssd_min {
+        reasons.push(format!(
+            "large RR changes (nRMSSD {:.2} above {:.2}) in a repeating pattern (COSEn {:.2}, at most {:.2}): organised, such as bigeminy or trigeminy",
+            e.nrmssd, p.organised_nrmssd_min, e.cosen, p.cosen_min
+        ));
+        VerdictClass::Other
+    } else {
+        reasons.push(format!(
+            "RR regular: COSEn {:.2} at most {:.2}, nRMSSD {:.2} at most {:.2}",
+            e.cosen, p.cosen_min, e.nrmssd, p.organised_nrmssd_min
+        ));
+        VerdictClass::Regular
+    };
+    Verdict {
+        class,
+        irregular_fraction: fraction,
+        index: e.cosen,
+        reasons,
+    }
+}
+
+/// The verdict as JSON: `{"class", "irregular_fraction", "index", "reasons"}` (non-finite
+/// numbers as `null`).
+pub fn verdict_json(v: &Verdict) -> serde_json::Value {
+    let num = |x: f64| {
+        if x.is_finite() {
+            serde_json::json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    serde_json::json!({
+        "class": v.class.name(),
+        "irregular_fraction": num(v.irregular_fraction),
+        "index": num(v.index),
+        "reasons": v.reasons,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -68,5 +505,128 @@ mod tests {
             assert_eq!(json, format!("\"{}\"", c.name()));
         }
         assert_eq!(VerdictClass::parse("Regular"), None);
+    }
+
+    /// Evidence of a clean record with beats at the given RR intervals (250 Hz), a P-wave
+    /// index of `p` per beat (template accepted when `p` is finite).
+    fn ev(rr: &[f64], p: f64) -> VerdictEvidence {
+        let fs = 250.0;
+        let mut samples = vec![250usize];
+        for r in rr {
+            let last = *samples.last().unwrap();
+            samples.push(last + (r * fs).round() as usize);
+        }
+        let rr_s: Vec<f64> = samples
+            .windows(2)
+            .map(|w| (w[1] - w[0]) as f64 / fs)
+            .collect();
+        let raw = vec![0.1; samples.last().unwrap() + 250];
+        let q = vec![crate::signal::QualitySegment::default(); 3];
+        let pidx = vec![p; samples.len()];
+        evidence(
+            &raw,
+            fs,
+            &samples,
+            &rr_s,
+            &pidx,
+            p.is_finite(),
+            1.0,
+            &q,
+            0.0,
+            &VerdictParams::default(),
+        )
+    }
+
+    #[test]
+    fn synthetic_rhythms_with_exact_truth() {
+        use rand::{Rng, SeedableRng};
+        let p = VerdictParams::default();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        // Sinus rhythm, 0.8 s ± 2 % (normal variability, common practice), P waves present.
+        let sinus: Vec<f64> = (0..40)
+            .map(|_| 0.8 * (1.0 + rng.gen_range(-0.02..0.02)))
+            .collect();
+        assert_eq!(decide(&ev(&sinus, 0.9), &p).class, VerdictClass::Regular);
+        // Irregularly irregular: RR uniform 0.4–1.1 s, no P-wave template (AF-like, common
+        // practice: irregular RR and no organised atrial activity).
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let v = decide(&ev(&af, f64::NAN), &p);
+        assert_eq!(v.class, VerdictClass::Irregular, "{:?}", v.reasons);
+        assert!(v.irregular_fraction > 0.5);
+        // The same RR with the record's P wave before every beat: organised, `other`.
+        assert_eq!(decide(&ev(&af, 0.9), &p).class, VerdictClass::Other);
+        // Ventricular bigeminy (coupling 0.5 s, compensatory pause 1.1 s) and trigeminy
+        // (0.8, 0.5, 1.1 s): large RR changes on a repeating pattern, never `irregular`.
+        let big: Vec<f64> = (0..40)
+            .map(|k| if k % 2 == 0 { 0.5 } else { 1.1 })
+            .collect();
+        let tri: Vec<f64> = (0..40).map(|k| [0.8, 0.5, 1.1][k % 3]).collect();
+        for (name, rr) in [("bigeminy", big), ("trigeminy", tri)] {
+            let v = decide(&ev(&rr, f64::NAN), &p);
+            assert_ne!(v.class, VerdictClass::Irregular, "{name}: {:?}", v.reasons);
+            assert_eq!(v.class, VerdictClass::Other, "{name}: {:?}", v.reasons);
+        }
+    }
+
+    #[test]
+    fn bad_records_are_unreadable_with_a_reason() {
+        let p = VerdictParams::default();
+        // 8 s: shorter than 10 s.
+        let short = ev(&[0.8; 9], 0.9);
+        let v = decide(&short, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("shorter than"), "{:?}", v.reasons);
+        // All-NaN samples, no beats.
+        let q = vec![
+            crate::signal::QualitySegment {
+                non_finite: true,
+                ..Default::default()
+            };
+            3
+        ];
+        let e = evidence(
+            &[f64::NAN; 7500],
+            250.0,
+            &[],
+            &[],
+            &[],
+            false,
+            f64::NAN,
+            &q,
+            0.0,
+            &p,
+        );
+        let v = decide(&e, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("missing"), "{:?}", v.reasons);
+        // A flat line: no beats.
+        let q = vec![
+            crate::signal::QualitySegment {
+                flat: true,
+                ..Default::default()
+            };
+            3
+        ];
+        let e = evidence(
+            &[0.0; 7500],
+            250.0,
+            &[],
+            &[],
+            &[],
+            false,
+            f64::NAN,
+            &q,
+            0.0,
+            &p,
+        );
+        let v = decide(&e, &p);
+        assert_eq!(v.class, VerdictClass::Unreadable);
+        assert!(v.reasons[0].contains("beats detected"), "{:?}", v.reasons);
+        assert!(VerdictParams {
+            cosen_r_s: 0.0,
+            ..p.clone()
+        }
+        .check()
+        .is_err());
     }
 }

@@ -184,6 +184,25 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
             }],
         },
         recurrence,
+        verdict: beatfold::rhythm::verdict::Verdict {
+            class: beatfold::rhythm::verdict::VerdictClass::Regular,
+            irregular_fraction: 0.0,
+            index: -2.0,
+            reasons: vec!["RR regular".to_string()],
+        },
+        verdict_evidence: beatfold::rhythm::verdict::evidence(
+            &[],
+            250.0,
+            &[],
+            &[],
+            &[],
+            false,
+            f64::NAN,
+            &[],
+            0.0,
+            &beatfold::rhythm::verdict::VerdictParams::default(),
+        ),
+        geometry_index: f64::NAN,
         reference: Annotations {
             beats: beat_samples
                 .iter()
