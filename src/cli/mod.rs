@@ -2,9 +2,15 @@
 //! runs library stages and prints results. Every command prints the research-use notice unless
 //! `--json` (where the notice is a key) or `--quiet` is given.
 
+mod analyze;
+mod beats;
 pub mod cohort;
 pub mod commands;
+mod dimension;
+mod embed;
 pub mod label_score;
+mod rhythm;
+mod synth;
 
 use clap::{Args, Parser, Subcommand};
 use std::path::PathBuf;

@@ -19,6 +19,7 @@
 
 pub mod dimension_figure;
 mod figures;
+pub mod json_views;
 /// The embedded figure font, shared with other figure writers (e.g. the cohort's).
 pub(crate) use figures::{ensure_font, FONT};
 mod figures_more;

@@ -1,0 +1,176 @@
+//! `dimension`: the dimension suite on a point cloud, beat features, RR or signal delay vectors.
+
+use super::commands::{load, params_from, Out};
+use super::InputArgs;
+use anyhow::{bail, Result};
+use beatfold::io;
+use beatfold::pipeline;
+use beatfold::report;
+use serde_json::json;
+use std::path::PathBuf;
+
+/// Options of the `dimension` command besides input and output switches.
+pub(super) struct DimensionOpts {
+    pub(super) method: String,
+    pub(super) seed: u64,
+    pub(super) bootstrap: usize,
+    pub(super) from: String,
+    pub(super) embed_dim: usize,
+    pub(super) delay: Option<usize>,
+    pub(super) max_points: usize,
+    pub(super) figure: Option<PathBuf>,
+}
+
+/// Most samples of a conditioned signal that are delay-embedded (the estimators subsample
+/// anyway) and most used for the mutual-information delay.
+const SIGNAL_EMBED_MAX: usize = 2_000_000;
+const AMI_MAX: usize = 200_000;
+
+/// The point cloud of the `dimension` command and a description of where it came from.
+fn dimension_points(
+    input: &InputArgs,
+    opts: &DimensionOpts,
+    o: &Out,
+) -> Result<(beatfold::points::Points, serde_json::Value)> {
+    use beatfold::dimension::delay;
+    let from = opts.from.trim();
+    if !["features", "rr", "signal"].contains(&from) {
+        bail!("--from: `{from}` is not a source; use features, rr or signal");
+    }
+    if io::looks_like_points(&input.input) {
+        if from != "features" {
+            bail!(
+                "--from {from} needs a recording; {} is a point cloud",
+                input.input.display()
+            );
+        }
+        return Ok((io::read_points(&input.input)?, json!({"from": "points"})));
+    }
+    if from == "features" {
+        return Ok((
+            super::embed::points_of(input, o)?,
+            json!({"from": "features"}),
+        ));
+    }
+    let (rec, params, _) = load(input, o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let series: Vec<f64> = if from == "rr" {
+        b.rr_s
+    } else {
+        let mut c = b.conditioned;
+        c.truncate(SIGNAL_EMBED_MAX);
+        c
+    };
+    let delay = match opts.delay {
+        Some(d) => d,
+        None => {
+            let x = &series[..series.len().min(AMI_MAX)];
+            let cap = if from == "rr" {
+                50
+            } else {
+                rec.fs_hz.round().max(1.0) as usize
+            };
+            let max_lag = cap.min(x.len() / 4).max(1);
+            delay::ami_delay(x, max_lag, 16)?
+        }
+    };
+    let pts = delay::delay_embed(&series, opts.embed_dim, delay)?;
+    Ok((
+        pts,
+        json!({"from": from, "embed_dim": opts.embed_dim, "delay": delay,
+               "delay_from_ami": opts.delay.is_none(), "series_len": series.len()}),
+    ))
+}
+
+pub(super) fn dimension_cmd(
+    input: &InputArgs,
+    opts: &DimensionOpts,
+    json: bool,
+    quiet: bool,
+) -> Result<()> {
+    use beatfold::dimension::{dimension_suite, Method, SuiteParams};
+    let o = Out {
+        quiet: quiet || json,
+    };
+    let methods = Method::parse_list(&opts.method)?;
+    let (pts, source) = dimension_points(input, opts, &o)?;
+    let mut kp = params_from(input)?.dimension;
+    kp.seed = opts.seed;
+    let p = SuiteParams {
+        methods,
+        bootstrap: opts.bootstrap,
+        seed: opts.seed,
+        max_points: opts.max_points,
+        kmeans: kp,
+        ..SuiteParams::default()
+    };
+    let s = dimension_suite(&pts, &p)?;
+    let mut written = Vec::new();
+    if let Some(stem) = &opts.figure {
+        written = report::dimension_figure::write_suite_figure(&s, stem)?;
+    }
+    if json {
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&report::json_views::dimension_json(&s, source))?
+        );
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "{} points in {} dimensions ({} used by the neighbour-based estimators; {} bootstrap \
+         resamples)",
+        s.n, s.ambient_dim, s.n_used, s.bootstrap
+    ));
+    if source["from"] != "points" && source["from"] != "features" {
+        o.line(format!(
+            "delay embedding of the {} series: {} coordinates, delay {}{}",
+            source["from"].as_str().unwrap_or(""),
+            source["embed_dim"],
+            source["delay"],
+            if opts.delay.is_none() {
+                " (first minimum of the average mutual information)"
+            } else {
+                ""
+            }
+        ));
+    }
+    o.line(format!(
+        "{:<14} {:>8} {:>18}",
+        "estimator", "d", "95 % interval"
+    ));
+    for e in &s.estimates {
+        o.line(format!(
+            "{:<14} {:>8.2} {:>18}",
+            e.method.name(),
+            e.d,
+            if e.ci95[0].is_finite() {
+                format!("[{:.2}, {:.2}]", e.ci95[0], e.ci95[1])
+            } else {
+                "-".to_string()
+            }
+        ));
+    }
+    for e in &s.estimates {
+        let c: Vec<String> = e
+            .curve
+            .iter()
+            .map(|q| format!("{:.2}@{:.4}", q.d, q.scale))
+            .collect();
+        o.line(format!(
+            "{} curve (d@scale): {}",
+            e.method.name(),
+            c.join(" ")
+        ));
+    }
+    o.line(format!(
+        "noise scale (k-means): {}",
+        s.noise_scale
+            .map_or("not detected".into(), |v| format!("{v:.5}"))
+    ));
+    o.warn(&s.failures);
+    for w in written {
+        o.line(format!("wrote {}", w.display()));
+    }
+    Ok(())
+}

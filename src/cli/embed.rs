@@ -1,0 +1,128 @@
+//! `embed`: the diffusion map of a point cloud or of a recording's beat features.
+
+use super::commands::{load, params_from, Out};
+use super::InputArgs;
+use anyhow::Result;
+use beatfold::io;
+use beatfold::pipeline;
+use beatfold::NOTICE;
+use serde_json::json;
+use std::path::{Path, PathBuf};
+
+/// Points from a recording's beat features or from a plain numeric CSV.
+pub(super) fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::Points> {
+    if io::looks_like_points(&input.input) {
+        return Ok(io::read_points(&input.input)?);
+    }
+    let (rec, params, _) = load(input, o)?;
+    let b = pipeline::detect_beats(&rec, &params)?;
+    let f =
+        beatfold::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &params.features)?;
+    Ok(f.points)
+}
+
+/// Row-major values as CSV lines (8 significant digits in scientific notation).
+fn csv_rows(values: &[f64], cols: usize) -> String {
+    let mut s = String::new();
+    for row in values.chunks(cols.max(1)) {
+        let r: Vec<String> = row.iter().map(|v| format!("{v:.8e}")).collect();
+        s.push_str(&r.join(","));
+        s.push('\n');
+    }
+    s
+}
+
+pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool) -> Result<()> {
+    let o = Out {
+        quiet: quiet || a.json,
+    };
+    let pts = points_of(input, &o)?;
+    let mut p = params_from(input)?.diffusion;
+    p.components = a.components;
+    p.alpha = a.alpha;
+    p.t = a.t;
+    p.seed = a.seed;
+    if a.epsilon.is_some() {
+        p.epsilon = a.epsilon;
+        p.local_scaling_neighbors = 0;
+    }
+    if let Some(k) = a.neighbors {
+        p.neighbors = k;
+        if k > 0 {
+            p.local_scaling_neighbors = p.local_scaling_neighbors.min(k);
+        }
+    }
+    if let Some(m) = a.landmarks {
+        p.max_fit_points = m;
+        p.landmark_check = p.landmark_check.max(1000);
+    }
+    let (e, placed) = match &a.model {
+        Some(path) => {
+            let model = beatfold::embed::model_io::load_model(path)?;
+            let coords = model.extend(&pts)?;
+            let (pc, pk, pe) = beatfold::embed::pca_baseline(&pts, model.components())?;
+            let mut e = model.embedding_of_fit();
+            e.n = pts.n;
+            e.coords = coords;
+            e.pca_coords = pc;
+            e.pca_components = pk;
+            e.pca_explained = pe;
+            (e, true)
+        }
+        None => {
+            p.check()?;
+            (beatfold::embed::diffusion_map(&pts, &p)?, false)
+        }
+    };
+    if let Some(path) = out_path(&a.out) {
+        io::write_atomic(path, csv_rows(&e.coords, e.components).as_bytes())?;
+    }
+    if let Some(path) = out_path(&a.pca_out) {
+        io::write_atomic(path, csv_rows(&e.pca_coords, e.pca_components).as_bytes())?;
+    }
+    if let (Some(path), Some(m)) = (&a.save_model, &e.model) {
+        beatfold::embed::model_io::save_model(m, path)?;
+    }
+    if a.json {
+        let j = json!({"n": e.n, "components": e.components, "eigenvalues": e.eigenvalues,
+            "epsilon": e.epsilon, "alpha": e.alpha, "t": e.t, "neighbors": e.neighbors,
+            "fit_points": e.fit_points, "residual": e.residual,
+            "landmark_error": e.landmark_error, "placed_by_model": placed,
+            "pca": {"components": e.pca_components, "explained_variance_ratio": e.pca_explained},
+            "notice": NOTICE});
+        println!("{}", serde_json::to_string_pretty(&j)?);
+        return Ok(());
+    }
+    o.notice();
+    o.line(format!(
+        "{} points in {} dimensions → {} diffusion coordinates (epsilon {:.5}, alpha {}, t {}, {} neighbours, fitted on {} points{})",
+        pts.n,
+        pts.dim,
+        e.components,
+        e.epsilon,
+        e.alpha,
+        e.t,
+        e.neighbors,
+        e.fit_points,
+        if placed { ", placed by the saved model" } else { "" }
+    ));
+    let ev: Vec<String> = e.eigenvalues.iter().map(|v| format!("{v:.6}")).collect();
+    o.line(format!("eigenvalues: {}", ev.join(" ")));
+    if let Some(err) = e.landmark_error {
+        o.line(format!("landmark mode: held-out relative error {err:.4}"));
+    }
+    let pv: Vec<String> = e
+        .pca_explained
+        .iter()
+        .map(|v| format!("{:.3}", v))
+        .collect();
+    o.line(format!("PCA baseline variance shares: {}", pv.join(" ")));
+    for p in [&a.out, &a.pca_out, &a.save_model].into_iter().flatten() {
+        o.line(format!("wrote {}", p.display()));
+    }
+    Ok(())
+}
+
+fn out_path(p: &Option<PathBuf>) -> Option<&Path> {
+    p.as_deref()
+}
