@@ -87,6 +87,18 @@ impl Error {
         }
     }
 
+    /// A parameter error of a configuration block named by its config path: `block.key`. Names
+    /// that already carry the block are left alone; other errors pass through.
+    pub fn in_block(self, block: &str) -> Self {
+        match self {
+            Error::Param { name, msg } if !name.starts_with(&format!("{block}.")) => Error::Param {
+                name: format!("{block}.{name}"),
+                msg,
+            },
+            e => e,
+        }
+    }
+
     /// Exit status for the command line: 2 for bad usage or unreadable input, 1 otherwise.
     pub fn exit_code(&self) -> i32 {
         match self {

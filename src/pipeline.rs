@@ -182,10 +182,14 @@ impl Default for AnalyzeParams {
 impl AnalyzeParams {
     /// Validate every stage's parameters before any work starts.
     pub fn check(&self) -> Result<()> {
-        self.condition.check()?;
-        self.pan_tompkins.check()?;
-        self.elgendi.check()?;
-        self.verdict.check()?;
+        self.condition
+            .check()
+            .map_err(|e| e.in_block("condition"))?;
+        self.pan_tompkins
+            .check()
+            .map_err(|e| e.in_block("pan_tompkins"))?;
+        self.elgendi.check().map_err(|e| e.in_block("elgendi"))?;
+        self.verdict.check().map_err(|e| e.in_block("verdict"))?;
         if !(0.0..=1.0).contains(&self.fuse_margin) {
             return Err(Error::param(
                 "fuse_margin",
@@ -198,12 +202,18 @@ impl AnalyzeParams {
                 format!("{} s; must be at least 1 s", self.agreement_window_s),
             ));
         }
-        self.features.check()?;
-        self.diffusion.check()?;
-        self.dimension.check()?;
-        self.screen.check()?;
-        self.atrial.check()?;
-        self.recurrence.check()?;
+        self.features.check().map_err(|e| e.in_block("features"))?;
+        self.diffusion
+            .check()
+            .map_err(|e| e.in_block("diffusion"))?;
+        self.dimension
+            .check()
+            .map_err(|e| e.in_block("dimension"))?;
+        self.screen.check().map_err(|e| e.in_block("screen"))?;
+        self.atrial.check().map_err(|e| e.in_block("atrial"))?;
+        self.recurrence
+            .check()
+            .map_err(|e| e.in_block("recurrence"))?;
         if self.recurrence_components == 0 {
             return Err(Error::param(
                 "recurrence_components",
@@ -363,10 +373,40 @@ pub fn choose_lead(rec: &Record, lead: Option<&str>) -> Result<usize> {
     }
 }
 
-/// Condition one lead and detect its beats (the `beats` command and the first half of
-/// [`analyze`]).
-pub fn detect_beats(rec: &Record, p: &AnalyzeParams) -> Result<BeatsResult> {
+/// The one preparation step of every command: check that the record's sampling rate is valid
+/// and above the Nyquist rate of the conditioning band, and choose the lead. Returns the lead
+/// index. A rate too low for the band (e.g. 50 Hz against a 40 Hz band edge) is a property of the
+/// data, not a bad option: an analysis failure (exit status 1) with the numbers, before any
+/// filter is designed.
+pub fn prepare(rec: &Record, p: &AnalyzeParams) -> Result<usize> {
     let li = choose_lead(rec, p.lead.as_deref())?;
+    if !(rec.fs_hz.is_finite() && rec.fs_hz > 0.0) {
+        return Err(Error::Analysis(format!(
+            "record `{}` has an invalid sampling rate {}",
+            rec.name, rec.fs_hz
+        )));
+    }
+    let high_hz = p.condition.band_hz.1;
+    if rec.fs_hz <= 2.0 * high_hz {
+        return Err(Error::Analysis(format!(
+            "record `{}` is sampled at {} Hz; the conditioning band reaches {high_hz} Hz, which needs a rate above {} Hz (Nyquist), so no beat can be detected",
+            rec.name,
+            rec.fs_hz,
+            2.0 * high_hz
+        )));
+    }
+    Ok(li)
+}
+
+/// Condition one lead and detect its beats (the `beats` command and the first half of
+/// [`analyze`]): [`prepare`], then [`detect_beats_on`].
+pub fn detect_beats(rec: &Record, p: &AnalyzeParams) -> Result<BeatsResult> {
+    let li = prepare(rec, p)?;
+    detect_beats_on(rec, li, p)
+}
+
+/// Condition lead `li` (chosen by [`prepare`]) and detect its beats.
+pub fn detect_beats_on(rec: &Record, li: usize, p: &AnalyzeParams) -> Result<BeatsResult> {
     let raw = &rec.leads[li].samples;
     // The analysed lead first (it is preferred), then the others when fusing.
     let mut leads: Vec<&[f64]> = vec![raw.as_slice()];
@@ -444,28 +484,11 @@ pub fn analyze(
 ) -> Result<Analysis> {
     p.check()?;
     let t0 = std::time::Instant::now();
-    let li = choose_lead(rec, p.lead.as_deref())?;
-    if !(rec.fs_hz.is_finite() && rec.fs_hz > 0.0) {
-        return Err(Error::Analysis(format!(
-            "record `{}` has an invalid sampling rate {}",
-            rec.name, rec.fs_hz
-        )));
-    }
-    // Fault: a rate too low for the conditioning band (e.g. 1 Hz) is a property of the data,
-    // not a bad option: an analysis failure with the numbers, before any filter is designed.
-    let high_hz = p.condition.band_hz.1;
-    if rec.fs_hz <= 2.0 * high_hz {
-        return Err(Error::Analysis(format!(
-            "record `{}` is sampled at {} Hz; the conditioning band reaches {high_hz} Hz, which needs a rate above {} Hz (Nyquist), so no beat can be detected",
-            rec.name,
-            rec.fs_hz,
-            2.0 * high_hz
-        )));
-    }
+    let li = prepare(rec, p)?;
     progress(0, STAGES[0]);
     let quality = signal::quality(&rec.leads[li].samples, rec.fs_hz, p.quality_segment_s);
     progress(1, STAGES[1]);
-    let b = detect_beats(rec, p)?;
+    let b = detect_beats_on(rec, li, p)?;
     progress(2, STAGES[2]);
     let mut notes = signal::quality::quality_notes(&quality);
     let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
@@ -650,6 +673,41 @@ mod tests {
         match bad.check() {
             Err(Error::Param { name, .. }) => assert!(name.starts_with("atrial."), "{name}"),
             other => panic!("expected a parameter error, got {other:?}"),
+        }
+    }
+
+    #[test]
+    fn an_out_of_range_value_is_named_by_its_config_path() {
+        for (json, key) in [
+            (r#"{"condition": {"order": 10}}"#, "condition.order"),
+            (r#"{"recurrence": {"l_min": 1}}"#, "recurrence.l_min"),
+            (
+                r#"{"diffusion": {"components": 0}}"#,
+                "diffusion.components",
+            ),
+        ] {
+            let p = AnalyzeParams::from_json_text(json).unwrap();
+            match p.check() {
+                Err(Error::Param { name, msg }) => {
+                    assert!(name.starts_with(key), "{json}: `{name}`");
+                    assert!(!msg.is_empty());
+                }
+                other => panic!("{json}: expected a parameter error, got {other:?}"),
+            }
+        }
+    }
+
+    #[test]
+    fn the_configuration_and_the_filter_designer_allow_the_same_orders() {
+        for order in 1..=12 {
+            let p =
+                AnalyzeParams::from_json_text(&format!(r#"{{"condition": {{"order": {order}}}}}"#))
+                    .unwrap();
+            let config_ok = p.check().is_ok();
+            let design_ok =
+                crate::signal::filter::Sos::butter_bandpass(order, 0.5, 40.0, 250.0).is_ok();
+            assert_eq!(config_ok, design_ok, "order {order}");
+            assert_eq!(config_ok, order <= 8, "order {order}");
         }
     }
 

@@ -87,7 +87,7 @@ pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, Verdi
         return Ok((v, e));
     }
     let quality = crate::signal::quality(raw, rec.fs_hz, p.quality_segment_s);
-    let b = pipeline::detect_beats(rec, p)?;
+    let b = pipeline::detect_beats_on(rec, li, p)?;
     let screen = pipeline::screen_rhythm(&b, rec.fs_hz, p)?;
     let irregular_s: f64 = screen
         .episodes

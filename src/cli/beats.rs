@@ -22,27 +22,17 @@ pub(super) fn beats_cmd(
     };
     let (rec, params, _) = load(input, &o)?;
     let b = pipeline::detect_beats(&rec, &params)?;
-    let v = beatfold::rhythm::variability(&b.rr_s);
+    // Mean heart rate from NN intervals, as `analyze` and `rhythm` report it.
+    let nn = beatfold::rhythm::nn_intervals(&b.rr_s, &b.labels);
+    let v = beatfold::rhythm::variability(&nn);
     if let Some(path) = out {
-        let mut s = String::from("sample,time_s,rr_s,label\n");
-        for (i, &smp) in b.samples.iter().enumerate() {
-            let rr = if i == 0 {
-                String::new()
-            } else {
-                format!("{:.6}", b.rr_s[i - 1])
-            };
-            s.push_str(&format!(
-                "{smp},{:.6},{rr},{}\n",
-                smp as f64 / rec.fs_hz,
-                b.labels[i]
-            ));
-        }
-        io::write_atomic(path, s.as_bytes())?;
+        io::tables::write_beats(path, &b.samples, &b.rr_s, &b.labels, rec.fs_hz)?;
     }
     if json {
         let j = json!({
             "record": rec.name, "fs_hz": rec.fs_hz, "n_beats": b.samples.len(),
-            "mean_hr_bpm": v.mean_hr_bpm, "agreement": serde_json::Value::Null,
+            "mean_hr_bpm": v.mean_hr_bpm, "mean_hr_from": "NN intervals",
+            "agreement": b.agreement, "primary_detector": b.primary_detector,
             "notice": NOTICE,
         });
         println!("{}", serde_json::to_string_pretty(&j)?);
@@ -50,10 +40,11 @@ pub(super) fn beats_cmd(
     }
     o.notice();
     o.line(format!(
-        "{}: {} beats, mean HR {:.1} bpm",
+        "{}: {} beats, mean HR {:.1} bpm (NN intervals), detector agreement bSQI {:.3}",
         rec.name,
         b.samples.len(),
-        v.mean_hr_bpm
+        v.mean_hr_bpm,
+        b.agreement
     ));
     if let Some(p) = out {
         o.line(format!("wrote {}", p.display()));

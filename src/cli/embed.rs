@@ -21,17 +21,6 @@ pub(super) fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::
     Ok(f.points)
 }
 
-/// Row-major values as CSV lines (8 significant digits in scientific notation).
-fn csv_rows(values: &[f64], cols: usize) -> String {
-    let mut s = String::new();
-    for row in values.chunks(cols.max(1)) {
-        let r: Vec<String> = row.iter().map(|v| format!("{v:.8e}")).collect();
-        s.push_str(&r.join(","));
-        s.push('\n');
-    }
-    s
-}
-
 pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool) -> Result<()> {
     let o = Out {
         quiet: quiet || a.json,
@@ -75,10 +64,16 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         }
     };
     if let Some(path) = out_path(&a.out) {
-        io::write_atomic(path, csv_rows(&e.coords, e.components).as_bytes())?;
+        io::write_atomic(
+            path,
+            io::tables::matrix_csv(&e.coords, e.components).as_bytes(),
+        )?;
     }
     if let Some(path) = out_path(&a.pca_out) {
-        io::write_atomic(path, csv_rows(&e.pca_coords, e.pca_components).as_bytes())?;
+        io::write_atomic(
+            path,
+            io::tables::matrix_csv(&e.pca_coords, e.pca_components).as_bytes(),
+        )?;
     }
     if let (Some(path), Some(m)) = (&a.save_model, &e.model) {
         beatfold::embed::model_io::save_model(m, path)?;

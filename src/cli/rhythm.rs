@@ -45,24 +45,7 @@ pub(super) fn rhythm_cmd(
         .collect();
     let wins = windowed_variability(&b.rr_s, &t_end, &b.labels, len, step)?;
     if let Some(path) = windows_out {
-        let mut csv =
-            String::from("start_s,end_s,n_intervals,n_nn,mean_hr_bpm,sdnn_ms,rmssd_ms,pnn50,cv\n");
-        for w in &wins {
-            let v = &w.variability;
-            csv.push_str(&format!(
-                "{:.3},{:.3},{},{},{:.4},{:.4},{:.4},{:.5},{:.6}\n",
-                w.start_s,
-                w.end_s,
-                w.n_intervals,
-                v.n_rr,
-                v.mean_hr_bpm,
-                v.sdnn_ms,
-                v.rmssd_ms,
-                v.pnn50,
-                w.cv
-            ));
-        }
-        io::write_atomic(path, csv.as_bytes())?;
+        io::write_atomic(path, io::tables::windows_csv(&wins).as_bytes())?;
     }
     let num = |x: f64| {
         if x.is_finite() {

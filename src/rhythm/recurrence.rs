@@ -61,24 +61,27 @@ impl RqaParams {
         match self.threshold {
             Threshold::Distance(e) if !(e.is_finite() && e > 0.0) => {
                 return Err(Error::param(
-                    "rqa.threshold.distance",
+                    "recurrence.threshold.distance",
                     format!("{e}; must be > 0"),
                 ))
             }
             Threshold::RecurrenceRate(r) if !(r > 0.0 && r < 1.0) => {
                 return Err(Error::param(
-                    "rqa.threshold.recurrence_rate",
+                    "recurrence.threshold.recurrence_rate",
                     format!("{r}; allowed 0 < rate < 1"),
                 ))
             }
             _ => {}
         }
         if self.l_min < 2 || self.v_min < 2 {
-            return Err(Error::param("rqa.l_min / v_min", "must be at least 2"));
+            return Err(Error::param(
+                "recurrence.l_min / recurrence.v_min",
+                "must be at least 2",
+            ));
         }
         if self.window < 8 || self.step == 0 {
             return Err(Error::param(
-                "rqa.window / step",
+                "recurrence.window / recurrence.step",
                 format!(
                     "window {} (≥ 8) and step {} (≥ 1) points",
                     self.window, self.step

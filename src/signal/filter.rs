@@ -74,11 +74,18 @@ fn check_fs(fs_hz: f64) -> Result<()> {
     Ok(())
 }
 
+/// Butterworth orders accepted everywhere (designer and configuration alike).
+pub const ORDERS: std::ops::RangeInclusive<usize> = 1..=8;
+
 fn check_order(order: usize) -> Result<()> {
-    if !(1..=12).contains(&order) {
+    if !ORDERS.contains(&order) {
         return Err(Error::param(
             "order",
-            format!("filter order {order} must be in 1..=12"),
+            format!(
+                "filter order {order} is outside {}..={}",
+                ORDERS.start(),
+                ORDERS.end()
+            ),
         ));
     }
     Ok(())
@@ -433,7 +440,7 @@ fn run_group<const K: usize>(
 }
 
 /// Check a pass band and a Butterworth order independently of the sampling rate: 0 < low < high
-/// (finite, Hz) and order in 1..=8; `order_key` is the parameter's name in errors.
+/// (finite, Hz) and order in [`ORDERS`]; `order_key` is the parameter's name in errors.
 pub fn check_band(band_hz: (f64, f64), order: usize, order_key: &str) -> Result<()> {
     let (lo, hi) = band_hz;
     if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && lo < hi) {
@@ -442,10 +449,14 @@ pub fn check_band(band_hz: (f64, f64), order: usize, order_key: &str) -> Result<
             format!("pass band ({lo}, {hi}) Hz must satisfy 0 < low < high"),
         ));
     }
-    if !(1..=8).contains(&order) {
+    if !ORDERS.contains(&order) {
         return Err(Error::param(
             order_key,
-            format!("filter order {order} is outside 1..=8"),
+            format!(
+                "filter order {order} is outside {}..={}",
+                ORDERS.start(),
+                ORDERS.end()
+            ),
         ));
     }
     Ok(())
