@@ -21,7 +21,7 @@ fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
     let rec = read_record(
         &path,
         &ReadOptions {
-            annotations: Some("atr".into()),
+            annotation_suffix: Some("atr".into()),
             ..ReadOptions::default()
         },
     )

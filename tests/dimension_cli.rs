@@ -20,7 +20,7 @@ fn dimension_command_json_figure_and_errors() {
         &[
             "dimension",
             DEMO,
-            "--from",
+            "--cloud",
             "rr",
             "--bootstrap",
             "10",
@@ -57,7 +57,7 @@ fn dimension_command_json_figure_and_errors() {
     }
     assert!(tmp.path().join("dims.svg").exists() && tmp.path().join("dims.png").exists());
 
-    let o = beatfold(&["dimension", DEMO, "--from", "beats"], tmp.path());
+    let o = beatfold(&["dimension", DEMO, "--cloud", "beats"], tmp.path());
     assert_eq!(o.status.code(), Some(2));
     let o = beatfold(&["dimension", DEMO, "--method", "kmeans,nope"], tmp.path());
     assert_eq!(o.status.code(), Some(2));

@@ -1,4 +1,4 @@
-//! `beatfold analyze --figures LIST --from T --to T --colour-by WHAT` on the bundled demo
+//! `beatfold analyze --figures LIST --view-start T --view-end T --colour-by WHAT` on the bundled demo
 //! recording: only the chosen figures are written, the trace shows the chosen range, and bad
 //! choices are refused with exit status 2 before any analysis.
 
@@ -30,9 +30,9 @@ fn analyze_draws_only_the_chosen_figures_over_the_chosen_range() {
             "--quiet",
             "--figures",
             "rr,trace,embedding",
-            "--from",
+            "--view-start",
             "140",
-            "--to",
+            "--view-end",
             "150",
             "--colour-by",
             "class",
@@ -76,7 +76,7 @@ fn bad_figure_names_and_ranges_exit_2() {
     let input = input.to_str().unwrap();
     for (extra, word) in [
         (vec!["--figures", "trace,pie"], "pie"),
-        (vec!["--from", "30", "--to", "20"], "to"),
+        (vec!["--view-start", "30", "--view-end", "20"], "view-end"),
         (vec!["--colour-by", "hue"], "hue"),
     ] {
         let mut args = vec!["analyze", input, "--out", "out", "--quiet"];

@@ -158,12 +158,7 @@ pub(super) fn demo(
     }
     let input = InputArgs {
         input: rec_path,
-        fs_hz: None,
-        lead: None,
-        reference: None,
-        config: None,
-        dataset: None,
-        checksum: io::ChecksumPolicy::default(),
+        read: super::ReadArgs::default(),
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();

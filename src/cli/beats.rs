@@ -54,9 +54,7 @@ pub(super) fn beats_cmd(
 
 pub(super) fn score_cmd(
     inputs: &[PathBuf],
-    reference: Option<PathBuf>,
-    fs_hz: Option<f64>,
-    lead: Option<String>,
+    read: &super::ReadArgs,
     json: bool,
     quiet: bool,
     rules: &beatfold::beats::ec57::Ec57Rules,
@@ -64,7 +62,7 @@ pub(super) fn score_cmd(
     let o = Out {
         quiet: quiet || json,
     };
-    if reference.is_some() && inputs.len() > 1 {
+    if read.reference.is_some() && inputs.len() > 1 {
         bail!("--reference names one file, but {} recordings were given; leave it out to use each recording's `<stem>.annotations.csv`", inputs.len());
     }
     let mut rows = Vec::new();
@@ -78,12 +76,7 @@ pub(super) fn score_cmd(
     for path in inputs {
         let input = InputArgs {
             input: path.clone(),
-            fs_hz,
-            lead: lead.clone(),
-            reference: reference.clone(),
-            config: None,
-            dataset: None,
-            checksum: io::ChecksumPolicy::default(),
+            read: read.clone(),
         };
         let (rec, params, _) = load(&input, &o)?;
         if rec.annotations.beats.is_empty() {

@@ -91,16 +91,16 @@ pub fn run(cli: Cli) -> Result<()> {
         }
         Command::Score {
             inputs,
-            reference,
-            fs_hz,
-            lead,
+            read,
             learning_s,
             leave_out,
             json,
             labels,
             label_map,
         } => match labels {
-            Some(l) => super::label_score::run(&inputs, &l, &label_map, lead, json, quiet),
+            Some(l) => {
+                super::label_score::run(&inputs, &l, &label_map, read.lead.clone(), json, quiet)
+            }
             None => {
                 let rules = beatfold::beats::ec57::Ec57Rules {
                     learning_s,
@@ -108,7 +108,7 @@ pub fn run(cli: Cli) -> Result<()> {
                     ..Default::default()
                 };
                 rules.check()?;
-                super::beats::score_cmd(&inputs, reference, fs_hz, lead, json, quiet, &rules)
+                super::beats::score_cmd(&inputs, &read, json, quiet, &rules)
             }
         },
         Command::Embed { input, opts } => super::embed::embed_cmd(&input, &opts, quiet),
@@ -173,12 +173,12 @@ fn default_out(input: &Path) -> PathBuf {
 }
 
 pub(super) fn params_from(input: &InputArgs) -> Result<AnalyzeParams> {
-    let mut p = match &input.config {
+    let mut p = match &input.read.config {
         Some(c) => AnalyzeParams::from_json_file(c)?,
         None => AnalyzeParams::default(),
     };
-    if input.lead.is_some() {
-        p.lead = input.lead.clone();
+    if input.read.lead.is_some() {
+        p.lead = input.read.lead.clone();
     }
     p.check()?;
     Ok(p)
@@ -189,10 +189,11 @@ pub(super) fn load(input: &InputArgs, o: &Out) -> Result<(Record, AnalyzeParams,
     let loaded = io::read_record(
         &input.input,
         &ReadOptions {
-            fs_hz: input.fs_hz,
-            annotations: input.reference.clone(),
-            dataset: input.dataset.clone(),
-            checksum: input.checksum,
+            fs_hz: input.read.fs_hz,
+            annotations: input.read.reference.clone(),
+            annotation_suffix: input.read.annotation_suffix.clone(),
+            dataset: input.read.dataset.clone(),
+            checksum: input.read.checksum,
         },
     )?;
     o.warn(&loaded.warnings);

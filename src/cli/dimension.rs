@@ -35,12 +35,12 @@ fn dimension_points(
     use beatfold::dimension::delay;
     let from = opts.from.trim();
     if !["features", "rr", "signal"].contains(&from) {
-        bail!("--from: `{from}` is not a source; use features, rr or signal");
+        bail!("--cloud: `{from}` is not a point cloud; use features, rr or signal");
     }
     if io::looks_like_points(&input.input) {
         if from != "features" {
             bail!(
-                "--from {from} needs a recording; {} is a point cloud",
+                "--cloud {from} needs a recording; {} is a point cloud",
                 input.input.display()
             );
         }

@@ -72,20 +72,33 @@ pub struct EmbedOptions {
     pub json: bool,
 }
 
-/// Reading options shared by commands that take a recording.
+/// A recording and how to read it (commands that take one recording).
 #[derive(Debug, Args, Clone)]
 pub struct InputArgs {
     /// Recording (.csv/.tsv, .edf, .hea, .h5) or, where accepted, a plain numeric CSV of points.
     pub input: PathBuf,
+    /// How to read it.
+    #[command(flatten)]
+    pub read: ReadArgs,
+}
+
+/// Reading options, defined once for every command that reads recordings.
+#[derive(Debug, Args, Clone, Default)]
+pub struct ReadArgs {
     /// Sampling rate in Hz for files without a time column or rate comment (no default).
     #[arg(long = "fs", value_name = "HZ")]
     pub fs_hz: Option<f64>,
     /// Lead to analyse, by name or zero-based index (default: the first lead).
     #[arg(long, value_name = "NAME|INDEX")]
     pub lead: Option<String>,
-    /// Reference annotation file (default: a sibling `<stem>.annotations.csv` if present).
-    #[arg(long, value_name = "ANN")]
+    /// Reference annotation file: a beatfold annotation CSV, or a PhysioNet annotation file
+    /// (default: a sibling `<stem>.annotations.csv`, or for a .hea record its `.atr` file).
+    #[arg(long, value_name = "FILE")]
     pub reference: Option<PathBuf>,
+    /// For a PhysioNet-format record: the suffix of the annotation file beside its header to use
+    /// as the reference, e.g. `qrs` (default `atr`).
+    #[arg(long, value_name = "SUFFIX", conflicts_with = "reference")]
+    pub annotation_suffix: Option<String>,
     /// JSON file of analysis parameters (missing keys take defaults; see docs/methods.md).
     #[arg(long, value_name = "FILE")]
     pub config: Option<PathBuf>,
@@ -158,11 +171,11 @@ pub enum Command {
         figures: String,
         /// Start of the time range of the trace, trajectory and recurrence figures, seconds
         /// (default 0).
-        #[arg(long = "from", value_name = "SECONDS")]
+        #[arg(long = "view-start", value_name = "SECONDS")]
         from_s: Option<f64>,
         /// End of that time range, seconds (default: 10 s after the start for the trace, 60 s
         /// for the trajectory, one recurrence window for the recurrence plot).
-        #[arg(long = "to", value_name = "SECONDS")]
+        #[arg(long = "view-end", value_name = "SECONDS")]
         to_s: Option<f64>,
         /// Colour of the embedding figure's points: time (default), rr, class or rhythm.
         #[arg(long = "colour-by", value_name = "WHAT", default_value = "time")]
@@ -185,15 +198,9 @@ pub enum Command {
         /// Recordings to score.
         #[arg(required = true)]
         inputs: Vec<PathBuf>,
-        /// Reference annotation file (default per recording: `<stem>.annotations.csv`).
-        #[arg(long, value_name = "ANN")]
-        reference: Option<PathBuf>,
-        /// Sampling rate in Hz for files without one.
-        #[arg(long = "fs", value_name = "HZ")]
-        fs_hz: Option<f64>,
-        /// Lead, by name or zero-based index (default: the first).
-        #[arg(long)]
-        lead: Option<String>,
+        /// How to read them (the same options for every recording).
+        #[command(flatten)]
+        read: ReadArgs,
         /// Seconds at the start of each record not scored (EC57 learning period).
         #[arg(long = "learning-s", value_name = "S", default_value_t = beatfold::beats::ec57::LEARNING_S)]
         learning_s: f64,
@@ -205,7 +212,7 @@ pub enum Command {
         json: bool,
         /// Score record verdicts instead of beats: a `record,label` file for the records of the
         /// one folder given (research labels, never a diagnosis).
-        #[arg(long, value_name = "CSV", conflicts_with_all = ["reference", "fs_hz"])]
+        #[arg(long, value_name = "CSV", conflicts_with_all = ["reference", "annotation_suffix", "fs_hz"])]
         labels: Option<std::path::PathBuf>,
         /// With --labels: which class each label stands for.
         #[arg(
@@ -242,9 +249,13 @@ pub enum Command {
         bootstrap: usize,
         /// Point cloud of a recording: beat features, or a delay embedding of the RR series or of
         /// the conditioned signal (default features; ignored for a numeric CSV of points).
-        #[arg(long, value_name = "features|rr|signal", default_value = "features")]
+        #[arg(
+            long = "cloud",
+            value_name = "features|rr|signal",
+            default_value = "features"
+        )]
         from: String,
-        /// Delay-embedding dimension for --from rr|signal, 1 to 100 (default 3).
+        /// Delay-embedding dimension for --cloud rr|signal, 1 to 100 (default 3).
         #[arg(long, value_name = "M", default_value_t = 3)]
         embed_dim: usize,
         /// Delay in beats (rr) or samples (signal), at least 1 (default: first minimum of the

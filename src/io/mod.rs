@@ -31,8 +31,12 @@ static TEMP_COUNTER: AtomicU64 = AtomicU64::new(0);
 pub struct ReadOptions {
     /// Sampling rate in Hz, for files that carry neither a rate nor a time column.
     pub fs_hz: Option<f64>,
-    /// Reference annotation file to attach (beatfold annotation CSV).
+    /// Reference annotation file to attach: a beatfold annotation CSV, or for a PhysioNet-format
+    /// record also a PhysioNet annotation file. It must exist.
     pub annotations: Option<PathBuf>,
+    /// For a PhysioNet-format record: the suffix of its annotation file beside the header
+    /// (`atr` by default, e.g. `qrs`). Cannot be given together with `annotations`.
+    pub annotation_suffix: Option<String>,
     /// For HDF5 input: the dataset holding the signal.
     pub dataset: Option<String>,
     /// For PhysioNet-format input: what a checksum mismatch does (default: a warning).
@@ -63,19 +67,30 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
         "edf" => edf::read_record(path)?,
         "h5" | "hdf5" => hdf5::read_record(path, opts.dataset.as_deref(), opts.fs_hz)?,
         "hea" => {
-            // For a PhysioNet-format record, `annotations` may name an annotation file or just
-            // its extension (default `atr`).
-            let ext_given = opts
-                .annotations
-                .as_ref()
-                .filter(|p| !p.exists() && p.components().count() == 1)
-                .map(|p| p.to_string_lossy().into_owned());
-            let file_given = opts.annotations.as_ref().filter(|p| p.exists());
-            let ann_ext = match (&ext_given, file_given) {
-                (Some(e), _) => Some(e.as_str()),
+            let file_given = opts.annotations.as_deref();
+            let suffix = opts.annotation_suffix.as_deref();
+            if let Some(sfx) = suffix {
+                if file_given.is_some() {
+                    return Err(Error::param(
+                        "annotation suffix",
+                        "give a reference file or an annotation suffix, not both",
+                    ));
+                }
+                if sfx.is_empty() || sfx.contains(['/', '\\', '.']) {
+                    return Err(Error::param(
+                        "annotation suffix",
+                        format!(
+                            "`{sfx}` is not a file suffix (letters and digits, e.g. atr or qrs)"
+                        ),
+                    ));
+                }
+            }
+            let ann_ext = match (suffix, file_given) {
+                (Some(e), _) => Some(e),
                 (None, Some(_)) => None,
                 (None, None) => Some("atr"),
             };
+            let ext_given = suffix;
             let (mut record, mut warnings) =
                 physionet::read_record_checked(path, ann_ext, opts.checksum)?;
             if ext_given.is_none() && file_given.is_none() {
@@ -83,6 +98,13 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
                 warnings.retain(|w| !w.contains("no annotation file"));
             }
             if let Some(f) = file_given {
+                if !f.exists() {
+                    return Err(Error::input(
+                        f,
+                        "reference",
+                        "no such annotation file (for another annotation file beside the header, use its suffix option instead)",
+                    ));
+                }
                 let is_csv = f.extension().is_some_and(|e| e.eq_ignore_ascii_case("csv"));
                 if is_csv {
                     record.annotations = annotations::read(f, record.fs_hz)?;
@@ -105,6 +127,15 @@ pub fn read_record(path: &Path, opts: &ReadOptions) -> Result<Loaded> {
             ))
         }
     };
+    if let Some(sfx) = &opts.annotation_suffix {
+        return Err(Error::param(
+            "annotation suffix",
+            format!(
+                "`{sfx}` applies to PhysioNet-format records (.hea) only; {} is not one",
+                path.display()
+            ),
+        ));
+    }
     let ann_path = match &opts.annotations {
         Some(p) => Some(p.clone()),
         None => {
@@ -294,6 +325,45 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_reference_file_and_an_annotation_suffix_are_separate_options() {
+        let hea = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data/mitdb-excerpt/100x.hea");
+        let by_suffix = ReadOptions {
+            annotation_suffix: Some("atr".into()),
+            ..ReadOptions::default()
+        };
+        let r = read_record(&hea, &by_suffix).unwrap().record;
+        assert!(!r.annotations.beats.is_empty());
+        let by_file = ReadOptions {
+            annotations: Some(hea.with_extension("atr")),
+            ..ReadOptions::default()
+        };
+        let f = read_record(&hea, &by_file).unwrap().record;
+        assert_eq!(f.annotations.beats.len(), r.annotations.beats.len());
+        // A file that does not exist is an error naming it, never taken for a suffix.
+        let missing = ReadOptions {
+            annotations: Some("qrs".into()),
+            ..ReadOptions::default()
+        };
+        let e = read_record(&hea, &missing).unwrap_err().to_string();
+        assert!(
+            e.contains("qrs") && e.contains("no such annotation file"),
+            "{e}"
+        );
+        // Both together, and a suffix for a CSV recording, are refused.
+        let both = ReadOptions {
+            annotations: Some(hea.with_extension("atr")),
+            annotation_suffix: Some("atr".into()),
+            ..ReadOptions::default()
+        };
+        assert!(read_record(&hea, &both).is_err());
+        let dir = tempfile::tempdir().unwrap();
+        let csv = dir.path().join("r.csv");
+        std::fs::write(&csv, "# fs_hz=250\necg\n0\n1\n").unwrap();
+        let e = read_record(&csv, &by_suffix).unwrap_err().to_string();
+        assert!(e.contains("PhysioNet"), "{e}");
+    }
 
     #[test]
     fn atomic_write_replaces_and_leaves_no_temp() {

@@ -86,7 +86,7 @@ impl ReportOptions {
         if let Some(t) = self.from_s {
             if !(t.is_finite() && t >= 0.0) {
                 return Err(Error::param(
-                    "from",
+                    "view-start",
                     format!("{t} s; must be a finite time ≥ 0 s"),
                 ));
             }
@@ -94,15 +94,15 @@ impl ReportOptions {
         if let Some(t) = self.to_s {
             if !(t.is_finite() && t > 0.0) {
                 return Err(Error::param(
-                    "to",
+                    "view-end",
                     format!("{t} s; must be a finite time > 0 s"),
                 ));
             }
             if let Some(f) = self.from_s {
                 if t <= f {
                     return Err(Error::param(
-                        "to",
-                        format!("{t} s; must be later than --from ({f} s)"),
+                        "view-end",
+                        format!("{t} s; must be later than --view-start ({f} s)"),
                     ));
                 }
             }
