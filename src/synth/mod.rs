@@ -22,6 +22,7 @@ mod noise;
 mod params;
 mod rr;
 mod scenario;
+mod schedule;
 
 pub use params::{SynthParams, MAX_MINUTES};
 pub use scenario::Scenario;

@@ -34,7 +34,7 @@
 //!   at `r_amplitude_mv` (found by simulating that beat). A second lead uses other event
 //!   amplitudes (a different projection); ectopic complexes are inverted there.
 
-use super::rr::{BeatKind, ScheduledBeat};
+use super::schedule::{BeatKind, ScheduledBeat, SETTLE_S};
 use crate::error::{Error, Result};
 use std::f64::consts::PI;
 
@@ -232,9 +232,6 @@ fn rk4(iv: &Interval, t_s: f64, h_s: f64, st: &mut State, f_start: &mut Option<[
 
 /// Output is computed in independent chunks of this many seconds (in parallel).
 const CHUNK_S: f64 = 600.0;
-/// Each chunk starts this many seconds early with z = 0; the model forgets its initial state
-/// as exp(−t / 1 s), so the start-up error is below e⁻²⁰ ≈ 2·10⁻⁹ of a wave's size.
-pub(crate) const SETTLE_S: f64 = 20.0;
 
 /// Integrate the model over the schedule and return `n_leads` noise-free leads of `n_samples`
 /// samples at `fs_hz`, in mV (`gain_mv` · z). `beats` must start at least [`SETTLE_S`] before

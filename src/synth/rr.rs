@@ -20,6 +20,8 @@
 //! current RR, never under 250 ms) and are followed by a full compensatory pause, so coupling + pause = 2 RR exactly.
 
 use super::params::SynthParams;
+use super::schedule::SETTLE_S;
+pub(crate) use super::schedule::{BeatKind, ScheduledBeat};
 use crate::error::{Error, Result};
 use rand::Rng;
 use rand_chacha::ChaCha8Rng;
@@ -41,36 +43,7 @@ pub(crate) const COUPLING_RANGE: (f64, f64) = (0.60, 0.75);
 /// shorter, no ectopic beat is placed.
 pub(crate) const MIN_COUPLING_S: f64 = 0.25;
 /// Seconds of beats scheduled before t = 0 (at constant RR) so the model can settle.
-pub(crate) const WARM_UP_S: f64 = super::model::SETTLE_S + 2.0;
-
-/// The kind of a beat, which decides its waveform.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) enum BeatKind {
-    /// Regular rhythm: P wave, narrow QRS, T wave. Code `N`.
-    Sinus,
-    /// Beat inside an irregular-rhythm episode: no P wave, narrow QRS. Code `N`.
-    Conducted,
-    /// Premature ectopic beat: no P wave, wide QRS, large inverted T. Code `V`.
-    Ventricular,
-}
-
-impl BeatKind {
-    /// One-letter annotation code.
-    pub(crate) fn code(self) -> char {
-        match self {
-            BeatKind::Sinus | BeatKind::Conducted => 'N',
-            BeatKind::Ventricular => 'V',
-        }
-    }
-}
-
-/// One beat: the exact time (s from record start, may be negative in the warm-up) at which the
-/// model's phase crosses the R event angle, and its kind.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(crate) struct ScheduledBeat {
-    pub t_s: f64,
-    pub kind: BeatKind,
-}
+pub(crate) const WARM_UP_S: f64 = SETTLE_S + 2.0;
 
 /// The regular-rhythm RR process `rr(t)`, sampled at [`TACHOGRAM_RATE_HZ`] from t = 0.
 #[derive(Debug, Clone)]
