@@ -133,7 +133,7 @@ fn cubes_and_spheres_of_known_dimension() {
                 // d = 8, measured: cube k-means 6.65, TwoNN 7.19, MLE 6.90; sphere k-means 8.00,
                 // TwoNN 7.95, MLE 7.59.
                 for (m, v) in ["TwoNN", "MLE"].iter().zip(&est[1..]) {
-                    // Source: REFERENCES.md §6 [C] (uniform cubes, N = 4000, d = 10: TwoNN 8.65,
+                    // Source: docs/references.md §6 [C] (uniform cubes, N = 4000, d = 10: TwoNN 8.65,
                     // MLE 8.26) and Levina & Bickel (2004): neighbour-based estimates fall below
                     // d as d grows (too few points within the neighbourhood scale, boundary
                     // effects). Known bias: asserted downward and less than 20 %.

@@ -79,7 +79,7 @@ fn circle_spectrum_pairs_and_eigenfunctions() {
     eprintln!("circle eigenvalues {e:?} residual {}", emb.residual);
     // Source: Coifman & Lafon (2006): with α = 1 the generator is the Laplace–Beltrami operator;
     // on the circle its spectrum is m² with eigenfunctions cos mθ, sin mθ (each m ≥ 1 twice).
-    // REFERENCES.md §5 [C]: λ_m = I_m(2/ε)/I_0(2/ε) ≈ exp(−εm²/4), so (1 − λ_m)/(1 − λ_1) = m²
+    // docs/references.md §5 [C]: λ_m = I_m(2/ε)/I_0(2/ε) ≈ exp(−εm²/4), so (1 − λ_m)/(1 − λ_1) = m²
     // up to O(ε m²) = 1e-3 here. Tolerance ±8 % of each ratio: the sampling error of a
     // graph-Laplacian eigenvalue with N = 2000 random points and a kernel 6 spacings wide is a
     // few per cent (measured spread of the pair members below 3 %); a missed or duplicated
@@ -91,7 +91,7 @@ fn circle_spectrum_pairs_and_eigenfunctions() {
     for (r, w) in ratios.iter().zip(want) {
         assert!((r / w - 1.0).abs() < 0.08, "ratios {ratios:?}");
     }
-    // Source: §5 [C], 1 − λ_1 = 1 − I_1(5000)/I_0(5000) ≈ ε/4 = 1e-4 (asymptotic
+    // Source: docs/references.md §5 [C], 1 − λ_1 = 1 − I_1(5000)/I_0(5000) ≈ ε/4 = 1e-4 (asymptotic
     // I_1/I_0 ≈ 1 − 1/(2x)) for the kernel without its diagonal; the self-weight k(x,x) = 1
     // makes the walk lazy by w = 1/Σ_j K_ij ≈ 2π/(N√(πε)) = 0.0886, so 1 − λ_1 ≈ (1 − w)·ε/4
     // = 9.11e-5. Tolerance 5 %: the pair members themselves differ by ±1.5 % here.

@@ -139,7 +139,7 @@ mod tests {
 
     #[test]
     fn uniform_cubes() {
-        // Source: REFERENCES.md §6 [C] (uniform cubes, N = 4000): TwoNN 1.02 / 1.97 / 2.90 and
+        // Source: docs/references.md §6 [C] (uniform cubes, N = 4000): TwoNN 1.02 / 1.97 / 2.90 and
         // MLE (k 10–20) 1.00 / 1.97 / 2.91 for d = 1 / 2 / 3; DESIGN.md target ±10 % of the
         // true d for d ≤ 3 (the [C] values are not regenerated here, so we assert only the
         // ±10 % target, which they meet).

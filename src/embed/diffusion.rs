@@ -919,7 +919,7 @@ mod tests {
         let (th, pts) = circle(1500, 11);
         let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
         let sin: Vec<f64> = th.iter().map(|t| t.sin()).collect();
-        // Source: REFERENCES.md §5 [C]: on the uniform unit circle λ_k = I_k(2/ε)/I_0(2/ε),
+        // Source: docs/references.md §5 [C]: on the uniform unit circle λ_k = I_k(2/ε)/I_0(2/ε),
         // each k ≥ 1 twice (cos kθ, sin kθ). ε = 0.1: 0.97467051, 0.90253295.
         // Tolerance: §5 gives ±0.003 for N = 2000 random points; the sampling error scales like
         // N^{-1/2}, so ±0.003·√(2000/1500) ≈ ±0.0035 for N = 1500; we allow ±0.005.
@@ -937,7 +937,7 @@ mod tests {
         eprintln!("circle R2 cos {rc} sin {rs}");
         assert!(rc > 0.98 && rs > 0.98);
 
-        // Source: REFERENCES.md §5 [C]: ε = 1: λ = 0.69777466 (twice), 0.30222534 (twice).
+        // Source: docs/references.md §5 [C]: ε = 1: λ = 0.69777466 (twice), 0.30222534 (twice).
         let emb = diffusion_map(&pts, &params(1.0, 4)).unwrap();
         eprintln!("circle eps 1 eigenvalues {:?}", emb.eigenvalues);
         // With this wide kernel the random angles split each degenerate pair at first order

@@ -1218,7 +1218,7 @@ mod tests {
 
     #[test]
     fn format_212_packs_the_reference_pairs() {
-        // Source: REFERENCES.md §10 [C] and the format 212 definition in data/mitdb/SOURCE.md:
+        // Source: docs/references.md §10 [C] and the format 212 definition in data/mitdb/SOURCE.md:
         // (995, 1011) → e3 33 f3; (−1, 1000) → ff 3f e8.
         assert_eq!(
             encode(&[vec![995], vec![1011]], 212).unwrap(),

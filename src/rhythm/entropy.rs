@@ -123,7 +123,7 @@ mod tests {
 
     #[test]
     fn sample_entropy_of_the_worked_example() {
-        // Source: REFERENCES.md §3 [C], counted by hand under the Richman & Moorman (2000)
+        // Source: docs/references.md §3 [C], counted by hand under the Richman & Moorman (2000)
         // definition: x below, m = 2, r = 0.5 gives B = 9, A = 7, SampEn = ln(9/7) = 0.251314.
         let x = [1., 2., 3., 4., 5., 1., 2., 3., 4., 6., 1., 2., 3., 4., 5.];
         assert!((sample_entropy(&x, 2, 0.5) - (9.0f64 / 7.0).ln()).abs() < 1e-12);
@@ -139,7 +139,7 @@ mod tests {
 
     #[test]
     fn sample_entropy_of_white_noise() {
-        // Source: REFERENCES.md §3 [C]: for i.i.d. Gaussian data, m = 2, r = 0.2·SD, SampEn
+        // Source: docs/references.md §3 [C]: for i.i.d. Gaussian data, m = 2, r = 0.2·SD, SampEn
         // tends to −ln P(|X−Y| ≤ r) = −ln erf(0.1) = 2.18513 as N grows. With N = 3000 the
         // match count A is about 3000²/2 · 0.1125³ ≈ 6400, so the relative error of A/B is
         // about 1/√6400 ≈ 1.3 %; allow ±0.08 (six such errors).
@@ -162,7 +162,7 @@ mod tests {
         assert_eq!(turning_point_ratio(&[1., 2., 1., 2., 1., 2.]), 1.0);
         assert_eq!(turning_point_ratio(&[1., 2., 3., 4.]), 0.0);
         // Source: Kendall's turning-point test: for i.i.d. data the expected count is
-        // (2N − 4)/3 with variance (16N − 29)/90 (REFERENCES.md §4 [C]). N = 5000: SD of the
+        // (2N − 4)/3 with variance (16N − 29)/90 (docs/references.md §4 [C]). N = 5000: SD of the
         // ratio ≈ √(16·5000/90)/4998 ≈ 0.006; allow ±0.03.
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(1);
         let nd = Normal::new(0.0, 1.0).unwrap();

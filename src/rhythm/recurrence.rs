@@ -341,7 +341,7 @@ mod tests {
 
     #[test]
     fn hand_made_tridiagonal_matrix() {
-        // Source: REFERENCES.md §7 [C], counted by hand under Marwan et al. (2007): the 5 × 5
+        // Source: docs/references.md §7 [C], counted by hand under Marwan et al. (2007): the 5 × 5
         // tridiagonal plot with the identity line kept has RR 13/25 = 0.52, DET 1, diagonal
         // lines 5, 4, 4 (L = 13/3, Lmax 5, ENTR = −(⅔ ln ⅔ + ⅓ ln ⅓) = 0.6365), and vertical
         // lines 2, 3, 3, 3, 2 (LAM 1, TT 2.6).
@@ -385,7 +385,7 @@ mod tests {
 
     #[test]
     fn uniform_noise_has_chance_determinism() {
-        // Source: REFERENCES.md §7 [C]: for i.i.d. uniform values on [0,1] (m = 1) with
+        // Source: docs/references.md §7 [C]: for i.i.d. uniform values on [0,1] (m = 1) with
         // threshold ε, a pair recurs with p = 2ε − ε², and a recurrent point lies on a line of
         // length ≥ 2 when a diagonal neighbour recurs: DET ≈ 1 − (1 − p)² = 0.1855 for ε = 0.05.
         // N = 600: about 17 000 recurrent pairs, so the SD of DET is about 0.005; allow ±0.03.

@@ -540,7 +540,7 @@ mod tests {
         // preserved exactly by the pre-warped bilinear transform (Oppenheim & Schafer).
         assert!((sos.magnitude(5.0) - half).abs() < 1e-6);
         assert!((sos.magnitude(15.0) - half).abs() < 1e-6);
-        // Source: REFERENCES.md §9 [C]: unity gain at (fs/pi)·atan(sqrt(tan(pi·5/fs)·tan(pi·15/fs))).
+        // Source: docs/references.md §9 [C]: unity gain at (fs/pi)·atan(sqrt(tan(pi·5/fs)·tan(pi·15/fs))).
         let fc = 250.0 / std::f64::consts::PI
             * ((std::f64::consts::PI * 5.0 / 250.0).tan()
                 * (std::f64::consts::PI * 15.0 / 250.0).tan())
