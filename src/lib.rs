@@ -22,6 +22,7 @@ pub mod io;
 pub mod pipeline;
 pub mod points;
 pub mod record;
+pub mod record_score;
 pub mod report;
 pub mod rhythm;
 pub mod signal;

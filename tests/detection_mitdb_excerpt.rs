@@ -11,8 +11,6 @@ use beatfold::io::{read_record, ReadOptions};
 use beatfold::pipeline::{detect_beats, AnalyzeParams};
 use std::path::PathBuf;
 
-/// (TP, FP, FN).
-type Counts = (usize, usize, usize);
 
 fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -36,27 +34,30 @@ fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
 }
 
 #[test]
-fn difficult_excerpts_score_as_measured() {
-    // (excerpt, reference beats, primary (TP, FP, FN), Pan–Tompkins (TP, FP, FN)): the counts
-    // measured when this test was written; a change in either detector shows up here.
-    let expected: [(&str, usize, Counts, Counts); 3] = [
-        ("105d", 181, (177, 15, 4), (175, 40, 6)),
-        ("108d", 139, (124, 32, 15), (82, 118, 57)),
-        ("203d", 189, (181, 4, 8), (182, 8, 7)),
-    ];
+fn with_both_leads_every_excerpt_meets_the_noisy_data_sensitivity_target() {
+    // Target of issue 19 for noisy data (the 6 dB noise stress target Se ≥ 97 %), on each of the
+    // three hardest two-minute excerpts, with both leads used (`fuse_leads`, the setting for
+    // two-lead records). Positive predictivity on these excerpts is below its 95 % target
+    // (docs/validation-noise.md tracks the detector under noise), so it is not asserted here.
+    let p = AnalyzeParams {
+        fuse_leads: true,
+        ..AnalyzeParams::default()
+    };
+    for name in ["105d", "108d", "203d"] {
+        let (s, _) = run(name, &p);
+        eprintln!("{name} fused: Se {:.2} +P {:.2}", 100.0 * s.se, 100.0 * s.ppv);
+        assert!(s.se >= 0.97, "{name}: {s:?}");
+    }
+}
+
+#[test]
+fn the_primary_detector_errs_no_more_than_pan_tompkins_on_the_excerpts() {
     let p = AnalyzeParams::default();
-    for (name, n_ref, prim, pt) in expected {
+    for name in ["105d", "108d", "203d"] {
         let (s, s_pt) = run(name, &p);
-        eprintln!(
-            "{name}: reference {} primary ({}, {}, {}) Pan-Tompkins ({}, {}, {})",
-            s.reference, s.tp, s.fp, s.fn_, s_pt.tp, s_pt.fp, s_pt.fn_
-        );
-        assert_eq!(s.reference, n_ref, "{name}: reference beats");
-        assert_eq!((s.tp, s.fp, s.fn_), prim, "{name}: primary detector");
-        assert_eq!((s_pt.tp, s_pt.fp, s_pt.fn_), pt, "{name}: Pan-Tompkins");
-        // These are the hardest two minutes of each record (the 97 % per-record floor is checked
-        // on the full records by examples/validate_mitdb.rs); here the primary detector makes
-        // no more errors than Pan–Tompkins.
+        // Source: MIT-BIH reference beats of the excerpt (expert annotations, scored by the EC57
+        // 150 ms matching): the reference count is fixed by the data.
+        assert_eq!(s.reference, s_pt.reference);
         assert!(
             s.fp + s.fn_ <= s_pt.fp + s_pt.fn_,
             "{name}: {s:?} vs {s_pt:?}"
@@ -67,7 +68,8 @@ fn difficult_excerpts_score_as_measured() {
 #[test]
 fn second_lead_helps_where_the_first_is_noisy() {
     // Record 108's excerpt: lead MLII carries bursts of noise; with `fuse_leads` each 10 s window
-    // takes the lead whose two detectors agree best (measured counts when written).
+    // takes the lead whose two detectors agree best. Target: the fused Se reaches the 97 %
+    // noisy-data target of issue 19, and fusing removes errors.
     let p = AnalyzeParams {
         fuse_leads: true,
         ..AnalyzeParams::default()
@@ -75,6 +77,6 @@ fn second_lead_helps_where_the_first_is_noisy() {
     let (fused, _) = run("108d", &p);
     let (single, _) = run("108d", &AnalyzeParams::default());
     eprintln!("108d fused ({}, {}, {})", fused.tp, fused.fp, fused.fn_);
-    assert_eq!((fused.tp, fused.fp, fused.fn_), (137, 25, 2));
+    assert!(fused.se >= 0.97, "{fused:?}");
     assert!(fused.fp + fused.fn_ < single.fp + single.fn_);
 }

@@ -4,9 +4,7 @@ use super::commands::{load, Out};
 use super::InputArgs;
 use anyhow::{bail, Result};
 use beatfold::io;
-use beatfold::pipeline::{self, AnalyzeParams};
-use beatfold::record::Record;
-use beatfold::rhythm::screen::irregular_reference;
+use beatfold::pipeline;
 use beatfold::NOTICE;
 use serde_json::json;
 use std::path::{Path, PathBuf};
@@ -59,14 +57,24 @@ pub(super) fn score_cmd(
     quiet: bool,
     rules: &beatfold::beats::ec57::Ec57Rules,
 ) -> Result<()> {
+    use beatfold::beats::noise_stress;
+    use beatfold::record_score;
     let o = Out {
         quiet: quiet || json,
     };
     if read.reference.is_some() && inputs.len() > 1 {
         bail!("--reference names one file, but {} recordings were given; leave it out to use each recording's `<stem>.annotations.csv`", inputs.len());
     }
+    // Noise stress records (names such as 118e06) also get the table per SNR.
+    let noise_mode = !inputs.is_empty()
+        && inputs
+            .iter()
+            .all(|p| noise_stress::snr_db_from_name(&io::file_stem(p)).is_some());
+    let readable_params = beatfold::beats::readable::ReadableParams::default();
+    let schedule = noise_stress::NoiseSchedule::default();
     let mut rows = Vec::new();
     let mut scores = Vec::new();
+    let mut noise_rows = Vec::new();
     o.notice();
     o.line(rules.describe());
     o.line(format!(
@@ -81,21 +89,13 @@ pub(super) fn score_cmd(
         let (rec, params, _) = load(&input, &o)?;
         if rec.annotations.beats.is_empty() {
             bail!(
-                "{}: no reference beats (give --reference ANN or put `{}` beside it)",
+                "{}: no reference beats (give --reference FILE or put `{}` beside it)",
                 path.display(),
                 io::annotations::sibling_path(path).display()
             );
         }
         let b = pipeline::detect_beats(&rec, &params)?;
-        let r: Vec<usize> = rec.annotations.beats.iter().map(|x| x.sample).collect();
-        let rs = beatfold::beats::ec57::score_record(
-            &rec.name,
-            &r,
-            &b.samples,
-            rec.fs_hz,
-            rec.n_samples(),
-            rules,
-        );
+        let rs = record_score::beat_score(&rec, &b, rules);
         let s = rs.score;
         scores.push(rs);
         o.line(format!(
@@ -109,20 +109,31 @@ pub(super) fn score_cmd(
             100.0 * s.se,
             100.0 * s.ppv
         ));
-        let rhythm = rhythm_score(&rec, &b, &params)?;
+        let rhythm = record_score::rhythm_duration(&rec, &b, &params)?;
         if let Some(r) = &rhythm {
+            let pct = |v: Option<f64>| v.map_or("–".to_string(), |x| format!("{:.2}", 100.0 * x));
             o.line(format!(
-                "{:<24} irregular-rhythm screen (research): reference {:.0} s, screened {:.0} s, duration Se {:.2} %, Sp {:.2} %",
+                "{:<24} irregular-rhythm screen (research): reference {:.0} s, screened {:.0} s, duration Se {} %, Sp {} %",
                 "",
-                r["reference_irregular_s"].as_f64().unwrap_or(0.0),
-                r["detected_irregular_s"].as_f64().unwrap_or(0.0),
-                100.0 * r["duration_se"].as_f64().unwrap_or(f64::NAN),
-                100.0 * r["duration_sp"].as_f64().unwrap_or(f64::NAN)
+                r.reference_irregular_s,
+                r.detected_irregular_s,
+                pct(r.duration_se),
+                pct(r.duration_sp)
             ));
+        }
+        if noise_mode {
+            noise_rows.push(record_score::noise_record(
+                &rec,
+                &b,
+                &params,
+                &readable_params,
+                rules,
+                &schedule,
+            )?);
         }
         rows.push(json!({
             "record": rec.name, "duration_s": rec.duration_s(),
-            "beats": s, "rhythm": rhythm.unwrap_or(serde_json::Value::Null),
+            "beats": s, "rhythm": rhythm,
         }));
     }
     let t = beatfold::beats::ec57::totals(&scores, rules);
@@ -153,42 +164,26 @@ pub(super) fn score_cmd(
             100.0 * t.average_ppv
         ));
     }
+    let snr_rows = noise_stress::by_snr(&noise_rows);
+    if noise_mode {
+        o.line(format!(
+            "noise stress test (research): per SNR; noise from {:.0} s, {:.0} s noisy then {:.0} s clean in turn; unreadable = detector agreement bSQI below {} per {:.0} s window or a quality flag",
+            schedule.first_noisy_s, schedule.noisy_s, schedule.clean_s, readable_params.bsqi_min, readable_params.window_s
+        ));
+        o.line(noise_stress::snr_table_markdown(&snr_rows).trim_end());
+    }
     if json {
-        let j = if rows.len() == 1 {
+        let mut j = if rows.len() == 1 {
             rows.remove(0)
         } else {
             json!({"records": rows, "rules": rules, "pooled": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}, "average": {"se": t.average_se, "ppv": t.average_ppv, "records": t.records}, "left_out": t.left_out})
         };
+        if noise_mode {
+            j["noise_stress"] = json!({"schedule": schedule, "unreadable": readable_params,
+                "records": noise_rows, "by_snr": snr_rows});
+        }
+        j["notice"] = json!(beatfold::NOTICE);
         println!("{}", serde_json::to_string_pretty(&j)?);
     }
     Ok(())
-}
-
-/// Duration agreement of the irregular-rhythm screen with the reference rhythm labels, or None
-/// when the reference has no rhythm labels.
-fn rhythm_score(
-    rec: &Record,
-    b: &pipeline::BeatsResult,
-    params: &AnalyzeParams,
-) -> Result<Option<serde_json::Value>> {
-    if rec.annotations.rhythms.is_empty() {
-        return Ok(None);
-    }
-    let sc = pipeline::screen_rhythm(b, rec.fs_hz, params)?;
-    let truth = irregular_reference(&rec.annotations);
-    let found = sc.episode_bounds();
-    let (r, d, se, sp) =
-        beatfold::rhythm::screen::duration_agreement(&truth, &found, rec.duration_s());
-    let num = |v: f64| {
-        if v.is_finite() {
-            json!(v)
-        } else {
-            serde_json::Value::Null
-        }
-    };
-    Ok(Some(json!({
-        "reference_irregular_s": r, "detected_irregular_s": d,
-        "duration_se": num(se), "duration_sp": num(sp),
-        "reference_episodes": truth.len(), "detected_episodes": found.len(),
-    })))
 }
