@@ -115,7 +115,10 @@ impl Conditioner {
         p.check()?;
         let band = Sos::checked_bandpass(p.order, p.band_hz, fs_hz)?;
         let chain = match p.notch_hz {
-            Some(f0) => band.then(&Sos::notch(f0, p.notch_q, fs_hz)?)?,
+            Some(f0) => band.then(&super::plan::planned(
+                super::plan::PlanKey::new("notch", 2, [f0, p.notch_q, fs_hz]),
+                || Sos::notch(f0, p.notch_q, fs_hz),
+            )?)?,
             None => band,
         };
         let baseline = if p.remove_baseline {

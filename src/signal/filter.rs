@@ -464,7 +464,8 @@ pub fn check_band(band_hz: (f64, f64), order: usize, order_key: &str) -> Result<
 
 impl Sos {
     /// A Butterworth band-pass for a record at `fs_hz`, after checking the rate is usable and the
-    /// high corner lies below the Nyquist frequency (errors name `fs_hz` or `band_hz`).
+    /// high corner lies below the Nyquist frequency (errors name `fs_hz` or `band_hz`). Designed
+    /// once per order, band and rate ([`super::plan`]) and copied after that.
     pub fn checked_bandpass(order: usize, band_hz: (f64, f64), fs_hz: f64) -> Result<Sos> {
         if !(fs_hz.is_finite() && fs_hz > 0.0) {
             return Err(Error::param(
@@ -482,7 +483,10 @@ impl Sos {
                 ),
             ));
         }
-        Sos::butter_bandpass(order, band_hz.0, band_hz.1, fs_hz)
+        super::plan::planned(
+            super::plan::PlanKey::new("band-pass", order, [band_hz.0, band_hz.1, fs_hz]),
+            || Sos::butter_bandpass(order, band_hz.0, band_hz.1, fs_hz),
+        )
     }
 }
 

@@ -8,13 +8,15 @@
 //! zero-phase application), [`median`] (sliding-window median), [`condition`] (the conditioning
 //! chain with its checked [`ConditionParams`]), [`quality`] (per-segment flags), [`resample`]
 //! (integer decimation for detection on records sampled far above 250 Hz).
-//! Filters are designed once per sampling rate ([`Conditioner::new`]) and applied to many leads.
+//! Filters are designed once per design and sampling rate ([`plan`]) and applied to many leads
+//! and records.
 
 use serde::{Deserialize, Serialize};
 
 pub mod condition;
 pub mod filter;
 pub mod median;
+pub mod plan;
 pub mod quality;
 pub mod resample;
 
