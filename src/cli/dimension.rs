@@ -107,7 +107,7 @@ pub(super) fn dimension_cmd(
     let s = dimension_suite(&pts, &p)?;
     let mut written = Vec::new();
     if let Some(stem) = &opts.figure {
-        written = report::dimension_figure::write_suite_figure(&s, stem)?;
+        written = report::write_suite_figure(&s, stem)?;
     }
     if json {
         println!(

@@ -17,7 +17,7 @@
 //! highlighted, counts the figures, and writes `PASS …` or `FAIL …` into the element
 //! `#selftest-result` and the page title (read by `scripts/browser-check.sh`).
 
-use super::figures::row_beats;
+use super::figures::colouring::row_beats;
 use super::{html_escape, json_for_script};
 use crate::pipeline::Analysis;
 use rand::SeedableRng;

@@ -17,12 +17,10 @@
 //! Design", chosen to stay distinguishable under the common colour-vision deficiencies.
 //! The HDF5 layout is documented in `docs/results-format.md`.
 
-pub mod dimension_figure;
 mod figures;
 pub mod json_views;
 /// The embedded figure font, shared with other figure writers (e.g. the cohort's).
 pub(crate) use figures::{ensure_font, FONT};
-mod figures_more;
 mod h5;
 mod html;
 mod interactive;
@@ -35,6 +33,7 @@ use crate::pipeline::Analysis;
 use std::fs;
 use std::path::{Path, PathBuf};
 
+pub use figures::dimension_suite::{render_suite_svg, write_suite_figure};
 pub use figures::{ColourBy, Figure};
 pub use h5::write_results_h5;
 pub use summary::summary_json;

@@ -2,13 +2,13 @@
 //! with bootstrap intervals of the estimates and the noise-dominated regime shaded.
 //!
 //! In: a [`DimensionSuite`] (read only). Out: an SVG document or a PNG file (1800 × 1000 px),
-//! drawn with plotters using the embedded font of `figures.rs` and the Okabe & Ito (2008)
+//! drawn with plotters using the embedded font of `style.rs` and the Okabe & Ito (2008)
 //! colour-blind-safe hues; each estimator also has its own marker shape, so the figure reads
 //! without colour. Display only: non-finite or non-positive scales are skipped; local d values
 //! above 50 are clipped to the top of the axis (they mark noise, their exact size does not
 //! matter for reading the figure). Every figure carries the research-use notice.
 
-use super::figures::{ensure_font, FONT};
+use super::style::{ensure_font, FONT};
 use crate::dimension::{DimensionSuite, Method};
 use crate::error::{Error, Result};
 use plotters::coord::Shift;

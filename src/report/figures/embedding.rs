@@ -1,0 +1,124 @@
+//! Figure 3, `embedding`: diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3, coloured as chosen.
+
+use super::colouring::{colouring, draw_colour_key, Colouring};
+use super::style::{
+    axis_range, draw_message, stride_indices, time_colour, with_title, Area, Ctx, DrawResult,
+    DESC_PX, FONT, GREY, LABEL_PX, MAX_SCATTER,
+};
+use super::view::View;
+use crate::pipeline::Analysis;
+use plotters::prelude::*;
+
+pub(crate) fn draw_embedding<DB: DrawingBackend>(
+    a: &Analysis,
+    view: &View,
+    area: &Area<DB>,
+) -> DrawResult {
+    let title = "Diffusion map of the beats";
+    let e = &a.embedding;
+    let k = e.components;
+    if e.n < 2 || k < 2 || e.coords.len() != e.n * k {
+        return draw_message(
+            area,
+            title,
+            "not enough beats (or components) for an embedding",
+        );
+    }
+    let colouring = colouring(a, view.colour_by);
+    let rows: Vec<usize> = stride_indices(e.n, MAX_SCATTER).collect();
+    // Categorical colours: the commonest category first, so rare classes stay on top.
+    let mut rows = rows;
+    if let Colouring::Categorical(cats, names, ..) = &colouring {
+        let mut count = vec![0usize; names.len()];
+        for &c in cats {
+            if let Some(x) = count.get_mut(c) {
+                *x += 1;
+            }
+        }
+        rows.sort_by_key(|&i| {
+            std::cmp::Reverse(
+                cats.get(i)
+                    .and_then(|&c| count.get(c))
+                    .copied()
+                    .unwrap_or(0),
+            )
+        });
+    }
+    let crange = match &colouring {
+        Colouring::Continuous(v, _) => {
+            axis_range(rows.iter().filter_map(|&i| v.get(i).copied())).unwrap_or((0.0, 1.0))
+        }
+        Colouring::Categorical(..) => (0.0, 1.0),
+    };
+    let colour_of = |i: usize| -> RGBColor {
+        match &colouring {
+            Colouring::Continuous(v, _) => {
+                let x = v.get(i).copied().unwrap_or(f64::NAN);
+                if x.is_finite() {
+                    time_colour((x - crange.0) / (crange.1 - crange.0))
+                } else {
+                    GREY
+                }
+            }
+            Colouring::Categorical(cats, _, colours, _) => cats
+                .get(i)
+                .and_then(|&c| colours.get(c))
+                .copied()
+                .unwrap_or(GREY),
+        }
+    };
+    let pairs: Vec<(usize, usize)> = if k >= 3 {
+        vec![(0, 1), (0, 2), (1, 2)]
+    } else {
+        vec![(0, 1)]
+    };
+    let body = with_title(
+        area,
+        &format!("{title} ({} of {} beats shown)", rows.len(), e.n),
+    )?;
+    let (w, _) = body.dim_in_pixel();
+    let (panels, key) = body.split_horizontally(w.saturating_sub(320));
+    let cells = panels.split_evenly((1, pairs.len()));
+    let coord = |i: usize, c: usize| e.coords.get(i * k + c).copied().unwrap_or(f64::NAN);
+    for (cell, &(cx, cy)) in cells.iter().zip(&pairs) {
+        let pts: Vec<(f64, f64, RGBColor)> = rows
+            .iter()
+            .map(|&i| (coord(i, cx), coord(i, cy), colour_of(i)))
+            .filter(|p| p.0.is_finite() && p.1.is_finite())
+            .collect();
+        let (Some((x0, x1)), Some((y0, y1))) = (
+            axis_range(pts.iter().map(|p| p.0)),
+            axis_range(pts.iter().map(|p| p.1)),
+        ) else {
+            draw_message(cell, "", "no finite coordinates")?;
+            continue;
+        };
+        let mut chart = ChartBuilder::on(cell)
+            .caption(format!("ψ{}–ψ{}", cx + 1, cy + 1), (FONT, DESC_PX))
+            .margin(16)
+            .x_label_area_size(80)
+            .y_label_area_size(if pairs.len() > 1 { 120 } else { 160 })
+            .build_cartesian_2d(x0..x1, y0..y1)
+            .ctx()?;
+        chart
+            .configure_mesh()
+            .x_desc(format!("ψ{} (dimensionless)", cx + 1))
+            .y_desc(format!("ψ{} (dimensionless)", cy + 1))
+            .axis_desc_style((FONT, DESC_PX))
+            .label_style((FONT, LABEL_PX - 4))
+            .light_line_style(RGBColor(235, 235, 235))
+            .x_labels(4)
+            .y_labels(6)
+            .x_label_formatter(&|v| format!("{v:.2}"))
+            .y_label_formatter(&|v| format!("{v:.2}"))
+            .draw()
+            .ctx()?;
+        chart
+            .draw_series(
+                pts.iter()
+                    .map(|&(x, y, c)| Circle::new((x, y), 4, c.mix(0.85).filled())),
+            )
+            .ctx()?;
+    }
+    draw_colour_key(&key, &colouring, crange)
+}
