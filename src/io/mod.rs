@@ -12,6 +12,7 @@ pub mod hdf5;
 pub mod matv4;
 pub mod physionet;
 pub mod tables;
+pub mod beat_table;
 
 pub use physionet::ChecksumPolicy;
 
