@@ -79,7 +79,9 @@ fn main() -> anyhow::Result<()> {
             .map(PathBuf::from)
     };
     let paths = |set: &[&str]| -> Vec<PathBuf> {
-        set.iter().map(|r| folder.join(format!("{r}.hea"))).collect()
+        set.iter()
+            .map(|r| folder.join(format!("{r}.hea")))
+            .collect()
     };
     let p = AnalyzeParams::default();
     let sp = SeparateParams::default();
@@ -149,8 +151,14 @@ fn main() -> anyhow::Result<()> {
         page,
         "\nPublished anchor (de Chazal et al. 2004, linear discriminants on hand-made morphology and interval features, DS2; from memory): V Se 77.7 %, +P 81.9 %; S Se 75.9 %, +P 38.5 %. beatfold's built-in beat windows with a neighbour vote:\n"
     );
-    let _ = writeln!(page, "| space | V Se % | V +P % | S Se % | S +P % |\n| --- | --- | --- | --- | --- |");
-    let _ = writeln!(page, "| de Chazal et al. 2004 (from memory) | 77.7 | 81.9 | 75.9 | 38.5 |");
+    let _ = writeln!(
+        page,
+        "| space | V Se % | V +P % | S Se % | S +P % |\n| --- | --- | --- | --- | --- |"
+    );
+    let _ = writeln!(
+        page,
+        "| de Chazal et al. 2004 (from memory) | 77.7 | 81.9 | 75.9 | 38.5 |"
+    );
     for space in ["diffusion", "pca", "features"] {
         if let (Some(v), Some(s)) = (pick(space, BeatClass::V), pick(space, BeatClass::S)) {
             let _ = writeln!(

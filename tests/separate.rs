@@ -113,7 +113,10 @@ fn bad_input_gets_clear_errors() {
     let mut bare = record(31, 1.0, 0.1);
     bare.annotations.beats.clear();
     let e = labelled_beats(&bare, &p, None).unwrap_err().to_string();
-    assert!(e.contains("syn31") && e.contains("no reference beat labels"), "{e}");
+    assert!(
+        e.contains("syn31") && e.contains("no reference beat labels"),
+        "{e}"
+    );
     let one = labelled_beats(&record(32, 2.0, 0.0), &p, None).unwrap();
     let e = within_record(&[one.clone()], &p, &SeparateParams::default())
         .unwrap_err()
@@ -133,7 +136,10 @@ fn bad_input_gets_clear_errors() {
     let e = labelled_beats(&record(34, 1.0, 0.1), &p, Some(&t))
         .unwrap_err()
         .to_string();
-    assert!(e.contains("far.csv") && e.contains("none of the 1 rows"), "{e}");
+    assert!(
+        e.contains("far.csv") && e.contains("none of the 1 rows"),
+        "{e}"
+    );
 }
 
 fn beatfold(args: &[&str], dir: &Path) -> std::process::Output {
@@ -150,12 +156,25 @@ fn command_reports_spaces_and_table_gaps() {
     let d = tmp.path();
     for (name, seed) in [("a.csv", "41"), ("b.csv", "42")] {
         let o = beatfold(
-            &["synth", "--out", name, "--minutes", "2", "--seed", seed, "--scenario", "ambulatory-noisy"],
+            &[
+                "synth",
+                "--out",
+                name,
+                "--minutes",
+                "2",
+                "--seed",
+                seed,
+                "--scenario",
+                "ambulatory-noisy",
+            ],
             d,
         );
         assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     }
-    let o = beatfold(&["separate", "--fit", "a.csv", "--test", "b.csv", "--json"], d);
+    let o = beatfold(
+        &["separate", "--fit", "a.csv", "--test", "b.csv", "--json"],
+        d,
+    );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let j: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
     assert_eq!(j["protocol"], "inter-patient");
@@ -178,8 +197,39 @@ fn command_reports_spaces_and_table_gaps() {
     std::fs::write(d.join("u.csv"), "sample,x\n10,1\n").unwrap();
     let o = beatfold(&["separate", "a.csv", "b.csv", "--features", "u.csv"], d);
     let err = String::from_utf8_lossy(&o.stderr);
-    assert!(!o.status.success() && err.contains("no `record` column"), "{err}");
+    assert!(
+        !o.status.success() && err.contains("no `record` column"),
+        "{err}"
+    );
     // Options that cannot apply together are refused.
-    let o = beatfold(&["separate", "a.csv", "--fit", "b.csv", "--test", "a.csv"], d);
+    let o = beatfold(
+        &["separate", "a.csv", "--fit", "b.csv", "--test", "a.csv"],
+        d,
+    );
     assert_eq!(o.status.code(), Some(2));
+}
+
+/// The record numbers listed after `label` in docs/references.md §12 (up to the next `;`).
+fn listed(doc: &str, label: &str) -> Vec<String> {
+    let start = doc.find(label).expect(label) + label.len();
+    let end = start + doc[start..].find(';').expect("list ends with ;");
+    doc[start..end]
+        .split(|c: char| !c.is_ascii_digit())
+        .filter(|s| s.len() == 3)
+        .map(str::to_string)
+        .collect()
+}
+
+#[test]
+fn record_split_matches_the_cited_paper_as_written_in_the_references() {
+    // Source: de Chazal, O'Dwyer & Reilly (2004), the DS1/DS2 split as written out in
+    // docs/references.md §12 (from memory); the code must use exactly those lists.
+    let doc = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/docs/references.md"))
+        .unwrap();
+    assert_eq!(listed(&doc, "DS1 (fit):"), separate::DS1.to_vec());
+    assert_eq!(listed(&doc, "DS2 (test):"), separate::DS2.to_vec());
+    for paced in ["102", "104", "107", "217"] {
+        assert!(!separate::DS1.contains(&paced) && !separate::DS2.contains(&paced));
+    }
+    assert!(separate::DS1.iter().all(|r| !separate::DS2.contains(r)));
 }

@@ -201,7 +201,10 @@ mod tests {
         let e = parse(Path::new("f.csv"), "sample,x\n10,abc\n")
             .unwrap_err()
             .to_string();
-        assert!(e.contains("f.csv") && e.contains("line 2") && e.contains("`x`"), "{e}");
+        assert!(
+            e.contains("f.csv") && e.contains("line 2") && e.contains("`x`"),
+            "{e}"
+        );
         let e = parse(Path::new("f.csv"), "beat,x\n10,1\n")
             .unwrap_err()
             .to_string();
@@ -214,7 +217,9 @@ mod tests {
             .unwrap_err()
             .to_string();
         assert!(e.contains("`sample`"), "{e}");
-        let e = parse(Path::new("f.csv"), "sample\n3\n").unwrap_err().to_string();
+        let e = parse(Path::new("f.csv"), "sample\n3\n")
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("no feature column"), "{e}");
     }
 }

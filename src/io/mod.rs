@@ -6,13 +6,13 @@
 //! rename, so an interrupted run never leaves a half-written output.
 
 pub mod annotations;
+pub mod beat_table;
 pub mod csv;
 pub mod edf;
 pub mod hdf5;
 pub mod matv4;
 pub mod physionet;
 pub mod tables;
-pub mod beat_table;
 
 pub use physionet::ChecksumPolicy;
 

@@ -24,7 +24,10 @@ const HUES: [RGBColor; 5] = [
 ];
 const LIGHT: RGBColor = RGBColor(215, 215, 215);
 
-fn draw<DB: DrawingBackend>(m: &MapView, root: &DrawingArea<DB, Shift>) -> std::result::Result<(), String> {
+fn draw<DB: DrawingBackend>(
+    m: &MapView,
+    root: &DrawingArea<DB, Shift>,
+) -> std::result::Result<(), String> {
     let e = |x: DrawingAreaErrorKind<DB::ErrorType>| format!("drawing failed: {x}");
     root.fill(&WHITE).map_err(e)?;
     let (top, rest) = root.split_vertically(70);
@@ -35,7 +38,10 @@ fn draw<DB: DrawingBackend>(m: &MapView, root: &DrawingArea<DB, Shift>) -> std::
         (FONT, 30).into_font(),
     ))
     .map_err(e)?;
-    let legend: Vec<String> = BeatClass::ALL.iter().map(|c| c.name().to_string()).collect();
+    let legend: Vec<String> = BeatClass::ALL
+        .iter()
+        .map(|c| c.name().to_string())
+        .collect();
     for (k, name) in legend.iter().enumerate() {
         top.draw(&Text::new(
             format!("● {name}"),
@@ -50,7 +56,11 @@ fn draw<DB: DrawingBackend>(m: &MapView, root: &DrawingArea<DB, Shift>) -> std::
         (FONT, 22).into_font().color(&RGBColor(90, 90, 90)),
     ))
     .map_err(e)?;
-    let all = m.fit.iter().chain(&m.test).filter(|p| p.0.is_finite() && p.1.is_finite());
+    let all = m
+        .fit
+        .iter()
+        .chain(&m.test)
+        .filter(|p| p.0.is_finite() && p.1.is_finite());
     let (mut x0, mut x1, mut y0, mut y1) = (f64::MAX, f64::MIN, f64::MAX, f64::MIN);
     for &(x, y, _) in all {
         x0 = x0.min(x);
@@ -88,8 +98,12 @@ fn draw<DB: DrawingBackend>(m: &MapView, root: &DrawingArea<DB, Shift>) -> std::
             .map_err(e)?;
         let pts = if k == 0 { &m.fit } else { &m.test };
         if k == 1 {
-            ch.draw_series(m.fit.iter().map(|&(x, y, _)| Circle::new((x, y), 1, LIGHT.filled())))
-                .map_err(e)?;
+            ch.draw_series(
+                m.fit
+                    .iter()
+                    .map(|&(x, y, _)| Circle::new((x, y), 1, LIGHT.filled())),
+            )
+            .map_err(e)?;
         }
         // Common classes first, so rare ones stay visible on top.
         for c in BeatClass::ALL {

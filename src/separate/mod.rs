@@ -195,3 +195,117 @@ impl Separation {
         })
     }
 }
+
+/// Add the group `/separation` of a results file: attributes `protocol`, `vote_neighbors`,
+/// `caution`; datasets `spaces` and `classes` (names), `confusion` (`spaces × 5 × 5`, rows
+/// reference class, columns voted class), and `n`, `se`, `ppv`, `f1`, `rank_index`
+/// (`spaces × 5`, NaN where undefined).
+pub fn add_h5_group(b: &mut hdf5_pure::FileBuilder, s: &Separation) {
+    use hdf5_pure::AttrValue;
+    let mut g = b.create_group("separation");
+    g.set_attr(
+        "protocol",
+        AttrValue::VarLenString(s.protocol.name().to_string()),
+    );
+    g.set_attr("vote_neighbors", AttrValue::U64(s.vote_neighbors as u64));
+    if s.protocol == Protocol::WithinRecord {
+        g.set_attr("caution", AttrValue::VarLenString(WITHIN_NOTE.to_string()));
+    }
+    let names: Vec<&str> = s.spaces.iter().map(|(k, _)| k.as_str()).collect();
+    let classes: Vec<&str> = BeatClass::ALL.iter().map(|c| c.name()).collect();
+    let ns = s.spaces.len() as u64;
+    g.create_dataset("spaces").with_vlen_strings(&names);
+    g.create_dataset("classes").with_vlen_strings(&classes);
+    let conf: Vec<u64> = s
+        .spaces
+        .iter()
+        .flat_map(|(_, sc)| sc.confusion.iter().flatten().map(|&v| v as u64))
+        .collect();
+    g.create_dataset("confusion")
+        .with_u64_data(&conf)
+        .with_shape(&[ns, 5, 5]);
+    let n: Vec<u64> = s
+        .spaces
+        .iter()
+        .flat_map(|(_, sc)| sc.classes.iter().map(|c| c.n as u64))
+        .collect();
+    g.create_dataset("n").with_u64_data(&n).with_shape(&[ns, 5]);
+    let per = |f: fn(&vote::ClassScore) -> f64| -> Vec<f64> {
+        s.spaces
+            .iter()
+            .flat_map(|(_, sc)| sc.classes.iter().map(f))
+            .collect()
+    };
+    for (name, f) in [
+        (
+            "se",
+            (|c: &vote::ClassScore| c.se) as fn(&vote::ClassScore) -> f64,
+        ),
+        ("ppv", |c| c.ppv),
+        ("f1", |c| c.f1),
+        ("rank_index", |c| c.rank_index),
+    ] {
+        g.create_dataset(name)
+            .with_f64_data(&per(f))
+            .with_shape(&[ns, 5]);
+    }
+    b.add_group(g.finish());
+}
+
+impl Separation {
+    /// An HTML section (heading, the bench note, the caution for within-record runs, one table of
+    /// per-class scores and one confusion matrix per space). Holds no user text.
+    pub fn html(&self) -> String {
+        use std::fmt::Write as _;
+        let cell = |x: f64, pct: bool| match (x.is_finite(), pct) {
+            (false, _) => "–".to_string(),
+            (true, true) => format!("{:.1}", 100.0 * x),
+            (true, false) => format!("{x:.3}"),
+        };
+        let mut o = String::new();
+        let _ = writeln!(
+            o,
+            "<h2 id=\"separation\">Beat-class separation ({})</h2>\n<p>{}</p>",
+            self.protocol.name(),
+            BENCH_NOTE
+        );
+        if self.protocol == Protocol::WithinRecord {
+            let _ = writeln!(o, "<p><strong>{WITHIN_NOTE}</strong></p>");
+        }
+        let _ = writeln!(
+            o,
+            "<p>{}-nearest-neighbour vote; rank index = ROC area of the neighbour share (0.5 chance).</p>\n<table>\n<tr><th>space</th><th>class</th><th>n</th><th>Se %</th><th>+P %</th><th>F1</th><th>rank index</th></tr>",
+            self.vote_neighbors
+        );
+        for (key, s) in &self.spaces {
+            for c in s.classes.iter().filter(|c| c.n + c.predicted > 0) {
+                let _ = writeln!(
+                    o,
+                    "<tr><td>{key}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
+                    c.class.name(),
+                    c.n,
+                    cell(c.se, true),
+                    cell(c.ppv, true),
+                    cell(c.f1, false),
+                    cell(c.rank_index, false)
+                );
+            }
+        }
+        o.push_str("</table>\n");
+        for (key, s) in &self.spaces {
+            let _ = writeln!(
+                o,
+                "<table>\n<caption>Confusion, {key} (rows: reference class, columns: voted class)</caption>\n<tr><th></th><th>N</th><th>S</th><th>V</th><th>F</th><th>Q</th></tr>"
+            );
+            for c in BeatClass::ALL {
+                let _ = write!(o, "<tr><th scope=\"row\">{}</th>", c.name());
+                for v in s.confusion[c.index()] {
+                    let _ = write!(o, "<td class=\"num\">{v}</td>");
+                }
+                o.push_str("</tr>\n");
+            }
+            o.push_str("</table>\n");
+        }
+        o
+    }
+}

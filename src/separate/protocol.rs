@@ -185,10 +185,7 @@ fn concat(parts: &[&Points]) -> Result<Points> {
         ));
     }
     let n = parts.iter().map(|p| p.n).sum();
-    let data = parts
-        .iter()
-        .flat_map(|p| p.data.iter().copied())
-        .collect();
+    let data = parts.iter().flat_map(|p| p.data.iter().copied()).collect();
     Points::new(n, dim, data)
 }
 
@@ -263,7 +260,11 @@ fn feature_sets(
     let mut sets = Vec::new();
     if has_table {
         let tables = |ls: &[&LabelledBeats]| -> Result<Points> {
-            concat(&ls.iter().filter_map(|l| l.table.as_ref()).collect::<Vec<_>>())
+            concat(
+                &ls.iter()
+                    .filter_map(|l| l.table.as_ref())
+                    .collect::<Vec<_>>(),
+            )
         };
         let t_fit = tables(fit)?;
         let t_test = test.map(tables).transpose()?;
@@ -480,7 +481,10 @@ pub fn inter_patient(
     sp: &SeparateParams,
 ) -> Result<Separation> {
     sp.check()?;
-    if let Some(r) = fit.iter().find(|f| test.iter().any(|t| t.record == f.record)) {
+    if let Some(r) = fit
+        .iter()
+        .find(|f| test.iter().any(|t| t.record == f.record))
+    {
         return Err(Error::param(
             "test",
             format!(
@@ -547,4 +551,90 @@ pub fn inter_patient(
         map,
         records: counts_of(fit.iter().chain(test)),
     })
+}
+
+/// Within-record separation of one analysed record from what `analyze` already computed: its
+/// feature rows, their diffusion coordinates and PCA baseline scores (row i ↔ feature row i),
+/// the detected beat samples (`beat_index` of the rows refers to them) and the reference beats.
+/// No space is refitted. `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
+/// they hold a single class.
+pub fn within_analysed(
+    record: &str,
+    reference: &[crate::record::BeatAnnotation],
+    beat_samples: &[usize],
+    fs_hz: f64,
+    window_s: f64,
+    features: &crate::features::Features,
+    embedding: &crate::embed::Embedding,
+    vote_neighbors: usize,
+) -> Result<Option<Separation>> {
+    if reference.is_empty() || features.points.n == 0 {
+        return Ok(None);
+    }
+    let cls = super::classes::classify_detections(reference, beat_samples, fs_hz, window_s);
+    let rows: Vec<usize> = (0..features.points.n)
+        .filter(|&r| {
+            features
+                .beat_index
+                .get(r)
+                .and_then(|&b| cls.class.get(b).copied().flatten())
+                .is_some()
+        })
+        .collect();
+    let truth: Vec<BeatClass> = rows
+        .iter()
+        .filter_map(|&r| cls.class[features.beat_index[r]])
+        .collect();
+    if truth.len() < MIN_BEATS_FOR_GEOMETRY || distinct_classes(&truth) < 2 {
+        return Ok(None);
+    }
+    let mut spaces = Vec::new();
+    let mut add = |name: &str, all: Option<Points>| -> Result<()> {
+        if let Some(all) = all {
+            let pts = all.select(&rows);
+            let v = space_votes(&pts, &truth, None, vote_neighbors)?;
+            spaces.push((name.to_string(), vote::score(&truth, &v)));
+        }
+        Ok(())
+    };
+    let e = embedding;
+    add(
+        "diffusion",
+        (e.n == features.points.n && e.components > 0)
+            .then(|| Points::new(e.n, e.components, e.coords.clone()))
+            .transpose()?,
+    )?;
+    add(
+        "pca",
+        (e.n == features.points.n && e.pca_components > 0)
+            .then(|| Points::new(e.n, e.pca_components, e.pca_coords.clone()))
+            .transpose()?,
+    )?;
+    add("features", Some(features.points.clone()))?;
+    let kept = truth.len();
+    Ok(Some(Separation {
+        protocol: Protocol::WithinRecord,
+        vote_neighbors,
+        spaces,
+        fit_records: vec![record.to_string()],
+        test_records: Vec::new(),
+        notes: Vec::new(),
+        map: None,
+        records: vec![(
+            record.to_string(),
+            BeatCounts {
+                reference: reference.len(),
+                detected: beat_samples.len(),
+                kept,
+                missed_reference: cls.missed_reference,
+                unmatched_detections: cls.unmatched_detections,
+                other_codes: cls.other_codes,
+                no_window: (0..beat_samples.len())
+                    .filter(|&b| cls.class[b].is_some())
+                    .count()
+                    .saturating_sub(kept),
+                ..BeatCounts::default()
+            },
+        )],
+    }))
 }

@@ -180,7 +180,10 @@ mod tests {
         // Source: the Mann–Whitney definition (Mann & Whitney 1947): members 0.9, 0.4; others
         // 0.1, 0.4, 0.5. Pairs won: 0.9 beats 3; 0.4 beats 0.1, ties 0.4 (½), loses to 0.5 →
         // U = 3 + 1.5 = 4.5 of 6 pairs.
-        let auc = rank_auc(&[0.9, 0.4, 0.1, 0.4, 0.5], &[true, true, false, false, false]);
+        let auc = rank_auc(
+            &[0.9, 0.4, 0.1, 0.4, 0.5],
+            &[true, true, false, false, false],
+        );
         assert!((auc - 0.75).abs() < 1e-12, "{auc}");
         assert_eq!(rank_auc(&[1.0, 0.0], &[true, false]), 1.0);
         assert!(rank_auc(&[1.0, 0.0], &[true, true]).is_nan());
