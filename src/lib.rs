@@ -25,6 +25,7 @@ pub mod record;
 pub mod record_score;
 pub mod report;
 pub mod rhythm;
+pub mod separate;
 pub mod signal;
 pub mod stats;
 pub mod synth;

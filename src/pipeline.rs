@@ -75,6 +75,9 @@ pub struct Analysis {
     pub reference: Annotations,
     /// Detection score against the reference beats, when there are any.
     pub score: Option<Score>,
+    /// Within-record beat-class separation of the embedded beats, where reference beat labels
+    /// give at least two classes (see `separate::protocol::within_analysed`).
+    pub separation: Option<crate::separate::Separation>,
     /// All parameters used, as JSON (for provenance).
     pub parameters: serde_json::Value,
     /// What could not be computed, and why (shown in the report).
@@ -577,6 +580,16 @@ pub fn analyze(
         let r: Vec<usize> = reference.beats.iter().map(|x| x.sample).collect();
         beats::score(&r, &b.samples, rec.fs_hz, p.score_window_s)
     });
+    let separation = crate::separate::protocol::within_analysed(
+        &rec.name,
+        &reference.beats,
+        &b.samples,
+        rec.fs_hz,
+        p.score_window_s,
+        &feats,
+        &embedding,
+        crate::separate::SeparateParams::default().vote_neighbors,
+    )?;
     let parameters = serde_json::to_value(p).map_err(|e| Error::Analysis(e.to_string()))?;
     Ok(Analysis {
         record_name: rec.name.clone(),
@@ -607,6 +620,7 @@ pub fn analyze(
         geometry_index,
         reference,
         score,
+        separation,
         parameters,
         notes,
         elapsed_s: t0.elapsed().as_secs_f64(),

@@ -13,7 +13,7 @@
 use crate::beats::Score;
 
 /// Pairs (reference index, detection index) by the EC57 rule; both inputs sorted increasing.
-fn match_pairs(
+pub fn match_pairs(
     reference: &[usize],
     detected: &[usize],
     fs_hz: f64,

@@ -153,6 +153,7 @@ pub fn run(cli: Cli) -> Result<()> {
             quiet,
         ),
         Command::Cohort(args) => super::cohort::cohort_cmd(&args, quiet),
+        Command::Separate(args) => super::separate::separate_cmd(&args, quiet),
         Command::Inspect { file } => {
             let text = io::hdf5::inspect(&file)?;
             if !quiet {

@@ -6,6 +6,7 @@
 //! rename, so an interrupted run never leaves a half-written output.
 
 pub mod annotations;
+pub mod beat_table;
 pub mod csv;
 pub mod edf;
 pub mod hdf5;

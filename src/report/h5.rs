@@ -166,6 +166,10 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
         .with_u8_data(&ref_labels);
     b.add_group(g.finish());
 
+    if let Some(sep) = &a.separation {
+        crate::separate::add_h5_group(&mut b, sep);
+    }
+
     // /features
     let mut g = b.create_group("features");
     g.create_dataset("matrix")

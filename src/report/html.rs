@@ -180,6 +180,10 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
     );
     let _ = writeln!(o, "<h2 id=\"summary\">Summary</h2>\n<table>\n{t}</table>");
 
+    if let Some(sep) = &a.separation {
+        o.push_str(&sep.html());
+    }
+
     // Reference annotations (labels are user text).
     if !a.reference.is_empty() {
         let _ = writeln!(

@@ -96,6 +96,7 @@ pub fn summary_json(a: &Analysis) -> Value {
         "verdict": crate::rhythm::verdict::verdict_json(&a.verdict),
         "geometry_index": num(a.geometry_index),
         "score": score,
+        "separation": a.separation.as_ref().map(|s| s.to_json()),
         "embedding": {
             "n": e.n,
             "components": e.components,

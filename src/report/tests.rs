@@ -143,6 +143,7 @@ fn sample_analysis() -> Analysis {
             }],
         },
         beat_samples,
+        separation: None,
         score: Some(Score {
             reference: 24,
             detected: 24,

@@ -226,6 +226,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
             ],
         },
         beat_samples,
+        separation: None,
         score: Some(Score {
             reference: n_beats,
             detected: n_beats,

@@ -1,0 +1,640 @@
+//! The two protocols: within-record (each record scored on itself, leave-one-out) and
+//! inter-patient (fit on one set of records, score the beats of another).
+//!
+//! In: [`LabelledBeats`] of the records and checked [`SeparateParams`]. Out: a [`Separation`]:
+//! per feature set and space, the nearest-neighbour vote scores ([`super::vote`]).
+//!
+//! Spaces of a feature set: `features` (the rows as they are), `pca` (scores on the leading
+//! principal axes of the fit beats, as many as diffusion components) and `diffusion` (the
+//! diffusion map of the fit beats, Coifman & Lafon 2006, with new beats placed by its Nyström
+//! extension). Within one record a beat is classified by its k nearest other beats of the same
+//! record; across patients, a test beat by its k nearest fit beats (de Chazal, O'Dwyer & Reilly
+//! 2004 describe the record split; the classifier here is the neighbour vote, not theirs).
+
+use super::beats::{BeatCounts, LabelledBeats};
+use super::classes::BeatClass;
+use super::vote::{self, SpaceScore};
+use crate::embed::{self, knn, DiffusionParams, Pca};
+use crate::error::{Error, Result};
+use crate::pipeline::{AnalyzeParams, MIN_BEATS_FOR_GEOMETRY};
+use crate::points::Points;
+use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
+
+/// A space in which beats are compared.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Space {
+    /// The feature rows as they are.
+    Features,
+    /// Leading principal axes of the fit beats.
+    Pca,
+    /// Diffusion coordinates of the fit beats.
+    Diffusion,
+}
+
+impl Space {
+    /// Every space, in report order.
+    pub const ALL: [Space; 3] = [Space::Diffusion, Space::Pca, Space::Features];
+
+    /// Name used in JSON and on the command line.
+    pub fn name(self) -> &'static str {
+        match self {
+            Space::Features => "features",
+            Space::Pca => "pca",
+            Space::Diffusion => "diffusion",
+        }
+    }
+
+    /// Parse `diffusion`, `pca`, `features` or `all` (comma-separated lists allowed).
+    pub fn parse_list(s: &str) -> Result<Vec<Space>> {
+        let mut out = Vec::new();
+        for w in s.split(',').map(str::trim) {
+            let add: Vec<Space> = match w {
+                "all" => Space::ALL.to_vec(),
+                "diffusion" => vec![Space::Diffusion],
+                "pca" => vec![Space::Pca],
+                "features" => vec![Space::Features],
+                _ => {
+                    return Err(Error::param(
+                        "space",
+                        format!("`{w}`; allowed diffusion, pca, features or all"),
+                    ))
+                }
+            };
+            for a in add {
+                if !out.contains(&a) {
+                    out.push(a);
+                }
+            }
+        }
+        Ok(out)
+    }
+}
+
+/// How a feature table combines with the built-in beat windows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum TableMode {
+    /// The table's columns alone form the `table` feature set (scored next to `builtin`).
+    Replace,
+    /// The table's columns are appended to the built-in ones: the `joined` set.
+    Join,
+}
+
+/// Parameters of the separation bench.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct SeparateParams {
+    /// Neighbours k of the vote (default 5).
+    pub vote_neighbors: usize,
+    /// Spaces scored (default all three).
+    pub spaces: Vec<Space>,
+    /// With a feature table: replace (default) or join the built-in features.
+    pub table_mode: TableMode,
+}
+
+impl Default for SeparateParams {
+    fn default() -> Self {
+        SeparateParams {
+            vote_neighbors: 5,
+            spaces: Space::ALL.to_vec(),
+            table_mode: TableMode::Replace,
+        }
+    }
+}
+
+impl SeparateParams {
+    /// Validate: `vote_neighbors` in 1..=100; at least one space.
+    pub fn check(&self) -> Result<&Self> {
+        if !(1..=100).contains(&self.vote_neighbors) {
+            return Err(Error::param(
+                "vote_neighbors",
+                format!("{}; allowed 1 to 100 neighbours", self.vote_neighbors),
+            ));
+        }
+        if self.spaces.is_empty() {
+            return Err(Error::param("space", "at least one space is needed"));
+        }
+        Ok(self)
+    }
+}
+
+/// Which protocol produced a result.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Protocol {
+    /// Every record scored on its own beats (leave-one-out): says little about new patients.
+    WithinRecord,
+    /// Fit on one record set, scored on another.
+    InterPatient,
+}
+
+impl Protocol {
+    /// Name used in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            Protocol::WithinRecord => "within-record",
+            Protocol::InterPatient => "inter-patient",
+        }
+    }
+}
+
+/// The test beats of an inter-patient run in the fitted diffusion map (first two coordinates),
+/// with the fit beats, for the cohort figure.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MapView {
+    /// Fit beats: (ψ1, ψ2) and class.
+    pub fit: Vec<(f64, f64, BeatClass)>,
+    /// Test beats placed by Nyström extension: (ψ1, ψ2) and class.
+    pub test: Vec<(f64, f64, BeatClass)>,
+}
+
+/// Result of a separation run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Separation {
+    /// The protocol.
+    pub protocol: Protocol,
+    /// Neighbours of the vote.
+    pub vote_neighbors: usize,
+    /// Scores keyed `space` (built-in features) or `set-space` (a feature table's set).
+    pub spaces: Vec<(String, SpaceScore)>,
+    /// Records fitted on (inter-patient) or scored one by one (within-record).
+    pub fit_records: Vec<String>,
+    /// Records scored (inter-patient; empty within-record).
+    pub test_records: Vec<String>,
+    /// What could not be scored, and why.
+    pub notes: Vec<String>,
+    /// The fitted map with the test beats (inter-patient, built-in features, diffusion).
+    pub map: Option<MapView>,
+    /// What happened to the beats of every record read (fit records first).
+    pub records: Vec<(String, BeatCounts)>,
+}
+
+/// A feature set's fit and query matrices.
+struct SetData {
+    key_prefix: &'static str,
+    fit: Points,
+    test: Option<Points>,
+}
+
+fn concat(parts: &[&Points]) -> Result<Points> {
+    let dim = parts.first().map_or(0, |p| p.dim);
+    if parts.iter().any(|p| p.dim != dim) {
+        return Err(Error::Analysis(
+            "feature rows of different lengths across records".into(),
+        ));
+    }
+    let n = parts.iter().map(|p| p.n).sum();
+    let data = parts.iter().flat_map(|p| p.data.iter().copied()).collect();
+    Points::new(n, dim, data)
+}
+
+/// Per-column mean and standard deviation (divisor n; a constant column gets SD 1).
+fn column_stats(p: &Points) -> (Vec<f64>, Vec<f64>) {
+    let n = p.n.max(1) as f64;
+    let mut mean = vec![0.0; p.dim];
+    for r in p.rows() {
+        for (m, v) in mean.iter_mut().zip(r) {
+            *m += v / n;
+        }
+    }
+    let mut sd = vec![0.0; p.dim];
+    for r in p.rows() {
+        for ((s, v), m) in sd.iter_mut().zip(r).zip(&mean) {
+            *s += (v - m) * (v - m) / n;
+        }
+    }
+    let sd = sd
+        .into_iter()
+        .map(|v| if v > 0.0 { v.sqrt() } else { 1.0 })
+        .collect();
+    (mean, sd)
+}
+
+/// `(x − mean)/sd · scale` column by column.
+fn standardise(p: &Points, mean: &[f64], sd: &[f64], scale: f64) -> Points {
+    let data = p
+        .rows()
+        .flat_map(|r| {
+            r.iter()
+                .zip(mean)
+                .zip(sd)
+                .map(move |((v, m), s)| (v - m) / s * scale)
+        })
+        .collect();
+    Points {
+        n: p.n,
+        dim: p.dim,
+        data,
+    }
+}
+
+fn hstack(a: &Points, b: &Points) -> Points {
+    let data = a
+        .rows()
+        .zip(b.rows())
+        .flat_map(|(x, y)| x.iter().chain(y).copied().collect::<Vec<_>>())
+        .collect();
+    Points {
+        n: a.n,
+        dim: a.dim + b.dim,
+        data,
+    }
+}
+
+/// The feature sets of a run. Built-in features are used as they are (their columns share the
+/// signal's unit by construction). Table columns are z-scored with the fit beats' mean and SD
+/// (common practice for distance-based methods on columns of different units); when joined,
+/// they are further scaled so that the table block's total variance on the fit beats equals the
+/// built-in block's, so neither block outweighs the other by its units alone.
+fn feature_sets(
+    fit: &[&LabelledBeats],
+    test: Option<&[&LabelledBeats]>,
+    mode: TableMode,
+) -> Result<Vec<SetData>> {
+    let b_fit = concat(&fit.iter().map(|l| &l.builtin).collect::<Vec<_>>())?;
+    let b_test = test
+        .map(|t| concat(&t.iter().map(|l| &l.builtin).collect::<Vec<_>>()))
+        .transpose()?;
+    let has_table = fit.iter().all(|l| l.table.is_some());
+    let mut sets = Vec::new();
+    if has_table {
+        let tables = |ls: &[&LabelledBeats]| -> Result<Points> {
+            concat(
+                &ls.iter()
+                    .filter_map(|l| l.table.as_ref())
+                    .collect::<Vec<_>>(),
+            )
+        };
+        let t_fit = tables(fit)?;
+        let t_test = test.map(tables).transpose()?;
+        let (mean, sd) = column_stats(&t_fit);
+        let scale = match mode {
+            TableMode::Replace => 1.0,
+            TableMode::Join => {
+                let (_, bsd) = column_stats(&b_fit);
+                let total: f64 = bsd.iter().map(|s| s * s).sum();
+                (total / t_fit.dim.max(1) as f64).sqrt()
+            }
+        };
+        let z_fit = standardise(&t_fit, &mean, &sd, scale);
+        let z_test = t_test.map(|t| standardise(&t, &mean, &sd, scale));
+        match mode {
+            TableMode::Replace => sets.push(SetData {
+                key_prefix: "table-",
+                fit: z_fit,
+                test: z_test,
+            }),
+            TableMode::Join => sets.push(SetData {
+                key_prefix: "joined-",
+                fit: hstack(&b_fit, &z_fit),
+                test: match (&b_test, &z_test) {
+                    (Some(b), Some(z)) => Some(hstack(b, z)),
+                    _ => None,
+                },
+            }),
+        }
+    }
+    sets.insert(
+        0,
+        SetData {
+            key_prefix: "",
+            fit: b_fit,
+            test: b_test,
+        },
+    );
+    Ok(sets)
+}
+
+/// The diffusion parameters `analyze` would use for `n` beats: the dense kernel for small sets,
+/// the kNN graph otherwise (see `AnalyzeParams::dense_kernel_max_beats`).
+fn diffusion_params_for(n: usize, p: &AnalyzeParams) -> DiffusionParams {
+    if n <= p.dense_kernel_max_beats && p.diffusion.neighbors > 0 {
+        DiffusionParams {
+            neighbors: 0,
+            max_fit_points: n.clamp(p.diffusion.components + 2, 5000),
+            ..p.diffusion.clone()
+        }
+    } else {
+        p.diffusion.clone()
+    }
+}
+
+/// Fit and query coordinates of one space. For the diffusion space the model is fitted on `fit`
+/// and `test` is placed by Nyström extension.
+fn space_coords(
+    space: Space,
+    fit: &Points,
+    test: Option<&Points>,
+    p: &AnalyzeParams,
+) -> Result<(Points, Option<Points>)> {
+    match space {
+        Space::Features => Ok((fit.clone(), test.cloned())),
+        Space::Pca => {
+            let pca = Pca::fit(fit)?;
+            let c = p.diffusion.components.min(fit.dim);
+            let f = pca.project(fit, c)?;
+            let t = test.map(|t| pca.project(t, c)).transpose()?;
+            Ok((f, t))
+        }
+        Space::Diffusion => {
+            let dp = diffusion_params_for(fit.n, p);
+            let e = embed::diffusion_map(fit, &dp)?;
+            let c = e.components;
+            let f = Points::new(e.n, c, e.coords)?;
+            let t = match (test, &e.model) {
+                (Some(t), Some(m)) => Some(Points::new(t.n, c, m.extend(t)?)?),
+                (Some(_), None) => {
+                    return Err(Error::Analysis(
+                        "diffusion map returned no model to extend".into(),
+                    ))
+                }
+                _ => None,
+            };
+            Ok((f, t))
+        }
+    }
+}
+
+/// Votes of the query beats (the fit beats themselves, leave-one-out, when `test` is None).
+fn space_votes(
+    fit: &Points,
+    fit_class: &[BeatClass],
+    test: Option<&Points>,
+    k: usize,
+) -> Result<Vec<(BeatClass, [f64; 5])>> {
+    match test {
+        Some(t) => {
+            let k = k.min(fit.n);
+            let nb = knn::knn(fit, t, k)?;
+            Ok(vote::votes(&nb, fit_class, k, false))
+        }
+        None => {
+            let k = k.min(fit.n.saturating_sub(1)).max(1);
+            let nb = knn::knn(fit, fit, (k + 1).min(fit.n))?;
+            Ok(vote::votes(&nb, fit_class, k, true))
+        }
+    }
+}
+
+fn counts_of<'a>(r: impl Iterator<Item = &'a LabelledBeats>) -> Vec<(String, BeatCounts)> {
+    r.map(|l| (l.record.clone(), l.counts.clone())).collect()
+}
+
+fn distinct_classes(c: &[BeatClass]) -> usize {
+    let mut seen = [false; 5];
+    for x in c {
+        seen[x.index()] = true;
+    }
+    seen.iter().filter(|&&s| s).count()
+}
+
+/// Within-record protocol: each record with at least [`MIN_BEATS_FOR_GEOMETRY`] labelled beats
+/// is embedded on its own and every beat is voted on by its k nearest other beats of the same
+/// record; votes are pooled over records. Such numbers say little about patients never seen.
+///
+/// Errors: bad parameters; no record with enough beats; a single class over all scored beats.
+pub fn within_record(
+    records: &[LabelledBeats],
+    p: &AnalyzeParams,
+    sp: &SeparateParams,
+) -> Result<Separation> {
+    sp.check()?;
+    let mut notes = Vec::new();
+    let scored: Vec<&LabelledBeats> = records
+        .iter()
+        .filter(|r| {
+            let ok = r.class.len() >= MIN_BEATS_FOR_GEOMETRY;
+            if !ok {
+                notes.push(format!(
+                    "record `{}`: {} labelled beats, fewer than {MIN_BEATS_FOR_GEOMETRY}; not scored",
+                    r.record,
+                    r.class.len()
+                ));
+            }
+            ok
+        })
+        .collect();
+    if scored.is_empty() {
+        return Err(Error::Analysis(format!(
+            "no record has at least {MIN_BEATS_FOR_GEOMETRY} labelled beats"
+        )));
+    }
+    let truth: Vec<BeatClass> = scored.iter().flat_map(|r| r.class.clone()).collect();
+    if distinct_classes(&truth) < 2 {
+        return Err(Error::Analysis(format!(
+            "all {} labelled beats are of class {}; separation needs at least two classes",
+            truth.len(),
+            truth.first().map_or("?", |c| c.name())
+        )));
+    }
+    // Per record: the feature sets and, per set and space, the votes.
+    let per_record: Vec<Vec<(String, Vec<(BeatClass, [f64; 5])>)>> = scored
+        .par_iter()
+        .map(|r| -> Result<Vec<(String, Vec<(BeatClass, [f64; 5])>)>> {
+            let mut out = Vec::new();
+            for set in feature_sets(&[r], None, sp.table_mode)? {
+                for &space in &sp.spaces {
+                    let (f, _) = space_coords(space, &set.fit, None, p)
+                        .map_err(|e| Error::Analysis(format!("record `{}`: {e}", r.record)))?;
+                    let v = space_votes(&f, &r.class, None, sp.vote_neighbors)?;
+                    out.push((format!("{}{}", set.key_prefix, space.name()), v));
+                }
+            }
+            Ok(out)
+        })
+        .collect::<Result<_>>()?;
+    let keys: Vec<String> = per_record[0].iter().map(|(k, _)| k.clone()).collect();
+    let spaces = keys
+        .iter()
+        .enumerate()
+        .map(|(i, key)| {
+            let votes: Vec<_> = per_record
+                .iter()
+                .flat_map(|r| r[i].1.iter().copied())
+                .collect();
+            (key.clone(), vote::score(&truth, &votes))
+        })
+        .collect();
+    Ok(Separation {
+        protocol: Protocol::WithinRecord,
+        vote_neighbors: sp.vote_neighbors,
+        spaces,
+        fit_records: scored.iter().map(|r| r.record.clone()).collect(),
+        test_records: Vec::new(),
+        notes,
+        map: None,
+        records: counts_of(records.iter()),
+    })
+}
+
+/// Inter-patient protocol: every space is fitted on the beats of `fit` (PCA axes, diffusion
+/// map, table standardisation), the beats of `test` are placed in it (projection, Nyström
+/// extension) and voted on by their k nearest fit beats.
+///
+/// Errors: bad parameters; a record in both sets; empty sets; fewer than two classes among the
+/// fit beats; no labelled test beat.
+pub fn inter_patient(
+    fit: &[LabelledBeats],
+    test: &[LabelledBeats],
+    p: &AnalyzeParams,
+    sp: &SeparateParams,
+) -> Result<Separation> {
+    sp.check()?;
+    if let Some(r) = fit
+        .iter()
+        .find(|f| test.iter().any(|t| t.record == f.record))
+    {
+        return Err(Error::param(
+            "test",
+            format!(
+                "record `{}` is in both the fit and the test set; the sets must not share patients",
+                r.record
+            ),
+        ));
+    }
+    let fit_class: Vec<BeatClass> = fit.iter().flat_map(|r| r.class.clone()).collect();
+    let truth: Vec<BeatClass> = test.iter().flat_map(|r| r.class.clone()).collect();
+    if fit_class.len() < p.diffusion.components + 2 {
+        return Err(Error::Analysis(format!(
+            "the fit records hold {} labelled beats; at least {} are needed",
+            fit_class.len(),
+            p.diffusion.components + 2
+        )));
+    }
+    if distinct_classes(&fit_class) < 2 {
+        return Err(Error::Analysis(format!(
+            "all {} labelled fit beats are of class {}; separation needs at least two classes",
+            fit_class.len(),
+            fit_class.first().map_or("?", |c| c.name())
+        )));
+    }
+    if truth.is_empty() {
+        return Err(Error::Analysis(
+            "the test records hold no labelled beat".into(),
+        ));
+    }
+    let fr: Vec<&LabelledBeats> = fit.iter().collect();
+    let tr: Vec<&LabelledBeats> = test.iter().collect();
+    let mut spaces = Vec::new();
+    let mut map = None;
+    for set in feature_sets(&fr, Some(&tr), sp.table_mode)? {
+        for &space in &sp.spaces {
+            let (f, t) = space_coords(space, &set.fit, set.test.as_ref(), p)?;
+            let t = t.ok_or_else(|| Error::Analysis("no test coordinates".into()))?;
+            let v = space_votes(&f, &fit_class, Some(&t), sp.vote_neighbors)?;
+            if space == Space::Diffusion && set.key_prefix.is_empty() && f.dim >= 2 {
+                let xy = |pts: &Points, cls: &[BeatClass]| {
+                    pts.rows()
+                        .zip(cls)
+                        .map(|(r, &c)| (r[0], r[1], c))
+                        .collect::<Vec<_>>()
+                };
+                map = Some(MapView {
+                    fit: xy(&f, &fit_class),
+                    test: xy(&t, &truth),
+                });
+            }
+            spaces.push((
+                format!("{}{}", set.key_prefix, space.name()),
+                vote::score(&truth, &v),
+            ));
+        }
+    }
+    Ok(Separation {
+        protocol: Protocol::InterPatient,
+        vote_neighbors: sp.vote_neighbors,
+        spaces,
+        fit_records: fit.iter().map(|r| r.record.clone()).collect(),
+        test_records: test.iter().map(|r| r.record.clone()).collect(),
+        notes: Vec::new(),
+        map,
+        records: counts_of(fit.iter().chain(test)),
+    })
+}
+
+/// Within-record separation of one analysed record from what `analyze` already computed: its
+/// feature rows, their diffusion coordinates and PCA baseline scores (row i ↔ feature row i),
+/// the detected beat samples (`beat_index` of the rows refers to them) and the reference beats.
+/// No space is refitted. `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
+/// they hold a single class.
+pub fn within_analysed(
+    record: &str,
+    reference: &[crate::record::BeatAnnotation],
+    beat_samples: &[usize],
+    fs_hz: f64,
+    window_s: f64,
+    features: &crate::features::Features,
+    embedding: &crate::embed::Embedding,
+    vote_neighbors: usize,
+) -> Result<Option<Separation>> {
+    if reference.is_empty() || features.points.n == 0 {
+        return Ok(None);
+    }
+    let cls = super::classes::classify_detections(reference, beat_samples, fs_hz, window_s);
+    let rows: Vec<usize> = (0..features.points.n)
+        .filter(|&r| {
+            features
+                .beat_index
+                .get(r)
+                .and_then(|&b| cls.class.get(b).copied().flatten())
+                .is_some()
+        })
+        .collect();
+    let truth: Vec<BeatClass> = rows
+        .iter()
+        .filter_map(|&r| cls.class[features.beat_index[r]])
+        .collect();
+    if truth.len() < MIN_BEATS_FOR_GEOMETRY || distinct_classes(&truth) < 2 {
+        return Ok(None);
+    }
+    let mut spaces = Vec::new();
+    let mut add = |name: &str, all: Option<Points>| -> Result<()> {
+        if let Some(all) = all {
+            let pts = all.select(&rows);
+            let v = space_votes(&pts, &truth, None, vote_neighbors)?;
+            spaces.push((name.to_string(), vote::score(&truth, &v)));
+        }
+        Ok(())
+    };
+    let e = embedding;
+    add(
+        "diffusion",
+        (e.n == features.points.n && e.components > 0)
+            .then(|| Points::new(e.n, e.components, e.coords.clone()))
+            .transpose()?,
+    )?;
+    add(
+        "pca",
+        (e.n == features.points.n && e.pca_components > 0)
+            .then(|| Points::new(e.n, e.pca_components, e.pca_coords.clone()))
+            .transpose()?,
+    )?;
+    add("features", Some(features.points.clone()))?;
+    let kept = truth.len();
+    Ok(Some(Separation {
+        protocol: Protocol::WithinRecord,
+        vote_neighbors,
+        spaces,
+        fit_records: vec![record.to_string()],
+        test_records: Vec::new(),
+        notes: Vec::new(),
+        map: None,
+        records: vec![(
+            record.to_string(),
+            BeatCounts {
+                reference: reference.len(),
+                detected: beat_samples.len(),
+                kept,
+                missed_reference: cls.missed_reference,
+                unmatched_detections: cls.unmatched_detections,
+                other_codes: cls.other_codes,
+                no_window: (0..beat_samples.len())
+                    .filter(|&b| cls.class[b].is_some())
+                    .count()
+                    .saturating_sub(kept),
+                ..BeatCounts::default()
+            },
+        )],
+    }))
+}
