@@ -1,7 +1,6 @@
 """beatfold from Python: the beatfold engine on numpy arrays.
 
-**Research use only.** Not a medical device; not for diagnosis or treatment decisions. Results
-must be reviewed by qualified clinicians under local regulations.
+Research use only. Not a medical device; not for diagnosis or treatment decisions. Results must be reviewed by qualified clinicians under local regulations.
 
 The functions call the same Rust library as the ``beatfold`` command line, with the library's
 own parameter names and defaults (those of the JSON configuration file):
@@ -121,7 +120,15 @@ def detect_beats(signal, fs_hz, **params):
     return out
 
 
-class DiffusionMap:
+try:  # scikit-learn is optional: with it, DiffusionMap carries its estimator tags and mixins.
+    from sklearn.base import BaseEstimator as _Base, TransformerMixin as _Mixin
+
+    _BASES = (_Mixin, _Base)
+except ImportError:  # pragma: no cover - exercised where scikit-learn is absent
+    _BASES = (object,)
+
+
+class DiffusionMap(*_BASES):
     """Diffusion map (Coifman & Lafon 2006) on a sparse k-nearest-neighbour kernel.
 
     Parameters (defaults are the library's analysis defaults):

@@ -146,9 +146,7 @@ fn read_record<'py>(
         dataset,
         ..ReadOptions::default()
     };
-    let loaded = py
-        .detach(|| io::read_record(&path, &opts))
-        .map_err(to_py)?;
+    let loaded = py.detach(|| io::read_record(&path, &opts)).map_err(to_py)?;
     let rec = loaded.record;
     let chosen: Vec<usize> = match &lead {
         Some(_) => vec![pipeline::choose_lead(&rec, lead.as_deref()).map_err(to_py)?],
@@ -284,17 +282,59 @@ impl FittedMap {
         self.model.input_dim()
     }
 
-    /// The fitted model as JSON text (for pickling).
+    /// The fitted model as JSON text (for pickling); every float is stored by its bits, so the
+    /// round trip is exact.
     fn to_json(&self) -> PyResult<String> {
-        serde_json::to_string(&self.model).map_err(|e| bad_value(e.to_string()))
+        let v = serde_json::to_value(&self.model).map_err(|e| bad_value(e.to_string()))?;
+        json_text(&floats_to_bits(v))
     }
 
     /// A model from [`FittedMap::to_json`] text.
     #[staticmethod]
     fn from_json(text: &str) -> PyResult<FittedMap> {
-        let model: DiffusionModel =
+        let v: serde_json::Value =
             serde_json::from_str(text).map_err(|e| bad_value(format!("model: {e}")))?;
+        let model: DiffusionModel = serde_json::from_value(bits_to_floats(v))
+            .map_err(|e| bad_value(format!("model: {e}")))?;
         Ok(FittedMap { model })
+    }
+}
+
+/// Marker key of a float stored by its bits.
+const FLOAT_BITS: &str = "f64_bits";
+
+/// Replace every non-integer number by `{"f64_bits": "<hex>"}`: JSON text parsing need not round
+/// floats correctly, bits always round-trip.
+fn floats_to_bits(v: serde_json::Value) -> serde_json::Value {
+    use serde_json::Value as V;
+    match v {
+        V::Number(n) if n.is_f64() => {
+            let bits = n.as_f64().unwrap_or(f64::NAN).to_bits();
+            json!({ FLOAT_BITS: format!("{bits:016x}") })
+        }
+        V::Array(a) => V::Array(a.into_iter().map(floats_to_bits).collect()),
+        V::Object(o) => V::Object(o.into_iter().map(|(k, x)| (k, floats_to_bits(x))).collect()),
+        x => x,
+    }
+}
+
+/// Inverse of [`floats_to_bits`].
+fn bits_to_floats(v: serde_json::Value) -> serde_json::Value {
+    use serde_json::Value as V;
+    match v {
+        V::Object(o) if o.len() == 1 && o.contains_key(FLOAT_BITS) => {
+            let f = o[FLOAT_BITS]
+                .as_str()
+                .and_then(|h| u64::from_str_radix(h, 16).ok())
+                .map(f64::from_bits);
+            match f.and_then(serde_json::Number::from_f64) {
+                Some(n) => V::Number(n),
+                None => V::Null,
+            }
+        }
+        V::Array(a) => V::Array(a.into_iter().map(bits_to_floats).collect()),
+        V::Object(o) => V::Object(o.into_iter().map(|(k, x)| (k, bits_to_floats(x))).collect()),
+        x => x,
     }
 }
 

@@ -44,11 +44,12 @@ def test_swiss_roll_comes_out_monotone_in_psi1():
 
 def test_twonn_on_a_5_cube_in_10_d():
     # Source: Facco et al. (2017): TwoNN recovers the dimension of a uniformly sampled manifold;
-    # a 5-cube rotated into 10-D has d = 5. Tolerance 0.5 as the task sets it (N = 2000 gives a
-    # sampling error of about 5/sqrt(N) = 0.11, plus the cube's boundary bias).
+    # a 5-cube rotated into 10-D has d = 5. Tolerance 0.5 as the task sets it. N = 4000 as in
+    # docs/references.md §6, where scikit-dimension's TwoNN gives 4.86 on a 5-cube: the cube's
+    # boundary biases TwoNN low, more so for small N (about 4.5 at N = 2000, see docs/python.md).
     rng = np.random.default_rng(1)
     Q, _ = np.linalg.qr(rng.normal(size=(10, 10)))
-    X = rng.uniform(size=(2000, 5)) @ Q[:5]
+    X = rng.uniform(size=(4000, 5)) @ Q[:5]
     d = beatfold.intrinsic_dimension(X, methods=["twonn"], bootstrap=10)
     assert abs(d["estimates"]["twonn"]["d"] - 5.0) <= 0.5
     lo, hi = d["estimates"]["twonn"]["ci95"]
