@@ -22,7 +22,7 @@ print(rec, rec.lead_names)
 # 2. Beats of the first lead (the library's default parameters).
 b = beatfold.detect_beats(rec.signal[:, 0], rec.fs_hz)
 print("beats:", len(b["samples"]), "agreement:", round(b["agreement"], 3),
-      "labels:", dict(zip(*np.unique(b["labels"], return_counts=True))))
+      "labels:", {str(k): int(c) for k, c in zip(*np.unique(b["labels"], return_counts=True))})
 
 # 3. Rhythm measures of the RR series.
 r = beatfold.rhythm(b["rr_s"], b["labels"], b["samples"] / rec.fs_hz)

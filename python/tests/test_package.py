@@ -143,3 +143,33 @@ def test_bad_input_raises_value_error_with_the_library_message():
         beatfold.rhythm(np.array([0.8, -1.0, 0.9]))
     with pytest.raises(OSError, match="no-such-file"):
         beatfold.read_record(DATA / "no-such-file.hea")
+
+
+def test_long_work_releases_the_interpreter_lock():
+    # While a native call runs in a worker thread, the main thread must keep running Python
+    # code: the longest pause between its loop iterations stays well below the call's length
+    # (with the lock held it would equal it).
+    import threading
+    import time
+
+    X = np.random.default_rng(5).normal(size=(4000, 6))
+    done = {}
+
+    def work():
+        t0 = time.perf_counter()
+        beatfold.intrinsic_dimension(X, bootstrap=5)
+        done["s"] = time.perf_counter() - t0
+
+    th = threading.Thread(target=work)
+    last = time.perf_counter()
+    gap = 0.0
+    th.start()
+    while th.is_alive():
+        now = time.perf_counter()
+        gap = max(gap, now - last)
+        last = now
+        time.sleep(0.001)
+    th.join()
+    assert done["s"] > 0.2, done
+    print(f"native call {done['s']:.3f} s, longest pause of the main thread {gap:.4f} s")
+    assert gap < 0.5 * done["s"], (gap, done["s"])
