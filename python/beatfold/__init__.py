@@ -20,6 +20,7 @@ Long work runs with the interpreter lock released.
 """
 
 import json as _json
+import os as _os
 
 import numpy as _np
 
@@ -239,16 +240,32 @@ def intrinsic_dimension(X, methods=None, bootstrap=_DIM["bootstrap"], random_sta
                                                    int(max_points)))
 
 
-def rhythm(rr_s, labels=None, beat_times_s=None, *, window=None, step=None):
-    """Rhythm measures of RR intervals ``rr_s`` (seconds).
+def rhythm(rr_s, labels=None, beat_times_s=None, *, window=None, step=None, lead=None,
+           fs_hz=None, **params):
+    """Rhythm measures of RR intervals ``rr_s`` (seconds), or of a recording.
 
-    ``labels``: one beat label per beat (``len(rr_s) + 1``; only intervals between two ``N``
-    beats count as NN); ``beat_times_s``: the beat times (``len(rr_s) + 1``; by default the
-    cumulative sum of ``rr_s``); ``window``/``step``: sliding windows such as ``"5m"``,
-    ``"300s"``, ``"128b"``. Returns the keys of ``beatfold rhythm --json`` that need only the
-    RR series (``variability``, ``poincare``, ``sample_entropy``, ``windows``, ``notice``) and a
-    ``screen`` computed from the RR series alone.
+    Given a path (``str`` or ``os.PathLike``), the recording is read, its beats detected with the
+    analysis parameters (``**params``: configuration keys; ``lead``, ``fs_hz`` as in
+    :func:`read_record`), and the result is the content of ``beatfold rhythm --json``: the RR
+    measures below plus ``record``, the irregular-rhythm ``screen`` (with its atrial-activity
+    veto from the signal) and the record ``verdict`` (a research label, not a diagnosis).
+
+    Given RR intervals: ``labels`` has one beat label per beat (``len(rr_s) + 1``; only intervals
+    between two ``N`` beats count as NN); ``beat_times_s`` the beat times (``len(rr_s) + 1``; by
+    default the cumulative sum of ``rr_s``). The result has the keys of ``beatfold rhythm
+    --json`` that need only the RR series (``variability``, ``poincare``, ``sample_entropy``,
+    ``windows``, ``notice``) and a ``screen`` computed from the RR series alone.
+
+    ``window``/``step``: sliding windows such as ``"5m"`` (default), ``"300s"``, ``"128b"``;
+    the step defaults to half the window.
     """
+    if isinstance(rr_s, (str, _os.PathLike)):
+        return _json.loads(_native.rhythm_of_record(
+            _os.fspath(rr_s), _config(params), None if lead is None else str(lead), fs_hz,
+            window, step))
+    if params or lead is not None or fs_hz is not None:
+        raise ValueError("lead, fs_hz and analysis parameters apply to a recording, not to RR "
+                         "intervals")
     rr = _float_array(rr_s, "rr_s", 1)
     if labels is not None and not isinstance(labels, str):
         labels = "".join(str(c) for c in labels)

@@ -477,6 +477,44 @@ fn rhythm(
     json_text(&j)
 }
 
+/// `beatfold rhythm --json` of a recording, as JSON text: beats detected with the analysis
+/// parameters, then the RR measures, the irregular-rhythm screen and the record verdict.
+#[pyfunction]
+#[pyo3(signature = (path, config_json=None, lead=None, fs_hz=None, window=None, step=None))]
+fn rhythm_of_record(
+    py: Python<'_>,
+    path: PathBuf,
+    config_json: Option<&str>,
+    lead: Option<String>,
+    fs_hz: Option<f64>,
+    window: Option<&str>,
+    step: Option<&str>,
+) -> PyResult<String> {
+    let mut params = analyze_params(config_json)?;
+    if lead.is_some() {
+        params.lead = lead;
+    }
+    let window = window.unwrap_or(json_views::RHYTHM_WINDOW);
+    // Window options are checked before anything is read.
+    use beatfold::rhythm::windowed::Span;
+    Span::parse(window).map_err(to_py)?;
+    step.map(Span::parse).transpose().map_err(to_py)?;
+    let opts = ReadOptions {
+        fs_hz,
+        ..ReadOptions::default()
+    };
+    let j = py
+        .detach(|| -> beatfold::Result<serde_json::Value> {
+            let rec = io::read_record(&path, &opts)?.record;
+            let b = pipeline::detect_beats(&rec, &params)?;
+            let sc = pipeline::screen_rhythm(&b, rec.fs_hz, &params)?;
+            let (verdict, _) = beatfold::verdicts::record_verdict(&rec, &params)?;
+            json_views::record_rhythm_json(&rec.name, &b, rec.fs_hz, &sc, &verdict, window, step)
+        })
+        .map_err(to_py)?;
+    json_text(&j)
+}
+
 /// The whole chain on one recording, written to `out_dir`; returns `summary.json`'s text.
 #[pyfunction]
 #[pyo3(signature = (path, out_dir, config_json=None, lead=None, fs_hz=None, annotations=None))]
@@ -526,6 +564,7 @@ fn _native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(diffusion_fit, m)?)?;
     m.add_function(wrap_pyfunction!(intrinsic_dimension, m)?)?;
     m.add_function(wrap_pyfunction!(rhythm, m)?)?;
+    m.add_function(wrap_pyfunction!(rhythm_of_record, m)?)?;
     m.add_function(wrap_pyfunction!(analyze, m)?)?;
     Ok(())
 }

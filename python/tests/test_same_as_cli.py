@@ -63,6 +63,8 @@ def test_beats_and_rhythm_match_the_cli(cli):
     )
     for key in ("variability", "poincare", "sample_entropy", "windows"):
         assert r[key] == jr[key], key
+    # From the file, the whole `rhythm --json` content, screen and verdict included.
+    assert beatfold.rhythm(RECORD, window="30s") == jr
 
 
 def test_analyze_matches_the_cli(tmp_path, cli):

@@ -5,8 +5,7 @@ use super::InputArgs;
 use anyhow::Result;
 use beatfold::io;
 use beatfold::pipeline;
-use beatfold::report::json_views::rr_rhythm_json;
-use serde_json::json;
+use beatfold::report::json_views::record_rhythm_json;
 use std::path::Path;
 
 pub(super) fn rhythm_cmd(
@@ -45,10 +44,7 @@ pub(super) fn rhythm_cmd(
         io::write_atomic(path, io::tables::windows_csv(&wins).as_bytes())?;
     }
     if json {
-        let mut j = rr_rhythm_json(&b.rr_s, &t_end, &b.labels, window, step)?;
-        j["record"] = json!(rec.name);
-        j["screen"] = json!({"windows": sc.windows.len(), "episodes": sc.episodes});
-        j["verdict"] = beatfold::rhythm::verdict::verdict_json(&verdict);
+        let j = record_rhythm_json(&rec.name, &b, rec.fs_hz, &sc, &verdict, window, step)?;
         println!("{}", serde_json::to_string_pretty(&j)?);
         return Ok(());
     }

@@ -91,3 +91,28 @@ pub fn rr_rhythm_json(
         "windows": wj,
         "notice": NOTICE}))
 }
+
+/// JSON of `beatfold rhythm --json` for a record: [`rr_rhythm_json`] of its detected beats `b`
+/// (sampled at `fs_hz`) plus the record name, the irregular-rhythm screen `sc` and the record
+/// verdict `verdict`.
+pub fn record_rhythm_json(
+    record: &str,
+    b: &crate::pipeline::BeatsResult,
+    fs_hz: f64,
+    sc: &crate::rhythm::screen::Screen,
+    verdict: &crate::rhythm::verdict::Verdict,
+    window: &str,
+    step: Option<&str>,
+) -> crate::Result<serde_json::Value> {
+    let t_end: Vec<f64> = b
+        .samples
+        .iter()
+        .skip(1)
+        .map(|&s| s as f64 / fs_hz)
+        .collect();
+    let mut j = rr_rhythm_json(&b.rr_s, &t_end, &b.labels, window, step)?;
+    j["record"] = json!(record);
+    j["screen"] = json!({"windows": sc.windows.len(), "episodes": sc.episodes});
+    j["verdict"] = crate::rhythm::verdict::verdict_json(verdict);
+    Ok(j)
+}
