@@ -31,16 +31,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
     p.alpha = a.alpha;
     p.t = a.t;
     p.seed = a.seed;
-    if a.epsilon.is_some() {
-        p.epsilon = a.epsilon;
-        p.local_scaling_neighbors = 0;
-    }
-    if let Some(k) = a.neighbors {
-        p.neighbors = k;
-        if k > 0 {
-            p.local_scaling_neighbors = p.local_scaling_neighbors.min(k);
-        }
-    }
+    p.overlay_kernel(a.epsilon, a.neighbors);
     if let Some(m) = a.landmarks {
         p.max_fit_points = m;
         p.landmark_check = p.landmark_check.max(1000);

@@ -293,7 +293,7 @@ pub enum Command {
         input: InputArgs,
         /// Sliding window for variability: seconds (`300s`), minutes (`5m`) or RR intervals
         /// (`128b`). Default 5m.
-        #[arg(long, default_value = "5m", value_name = "SPAN")]
+        #[arg(long, default_value = beatfold::report::json_views::RHYTHM_WINDOW, value_name = "SPAN")]
         window: String,
         /// Step between windows, in the window's unit (default: half the window).
         #[arg(long, value_name = "SPAN")]

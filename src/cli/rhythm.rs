@@ -5,8 +5,7 @@ use super::InputArgs;
 use anyhow::Result;
 use beatfold::io;
 use beatfold::pipeline;
-use beatfold::NOTICE;
-use serde_json::json;
+use beatfold::report::json_views::record_rhythm_json;
 use std::path::Path;
 
 pub(super) fn rhythm_cmd(
@@ -23,12 +22,9 @@ pub(super) fn rhythm_cmd(
     };
     // Check the window options before reading anything.
     let len = Span::parse(window)?;
-    let step = match step {
+    let step_span = match step {
         Some(s) => Span::parse(s)?,
-        None => match len {
-            Span::Beats(n) => Span::Beats((n / 2).max(1)),
-            Span::Seconds(s) => Span::Seconds(0.5 * s),
-        },
+        None => len.half(),
     };
     let (rec, params, _) = load(input, &o)?;
     let b = pipeline::detect_beats(&rec, &params)?;
@@ -43,34 +39,12 @@ pub(super) fn rhythm_cmd(
         .skip(1)
         .map(|&s| s as f64 / rec.fs_hz)
         .collect();
-    let wins = windowed_variability(&b.rr_s, &t_end, &b.labels, len, step)?;
+    let wins = windowed_variability(&b.rr_s, &t_end, &b.labels, len, step_span)?;
     if let Some(path) = windows_out {
         io::write_atomic(path, io::tables::windows_csv(&wins).as_bytes())?;
     }
-    let num = |x: f64| {
-        if x.is_finite() {
-            json!(x)
-        } else {
-            serde_json::Value::Null
-        }
-    };
     if json {
-        let wj: Vec<serde_json::Value> = wins
-            .iter()
-            .map(|w| {
-                let v = &w.variability;
-                json!({"start_s": w.start_s, "end_s": w.end_s, "n_intervals": w.n_intervals,
-                    "n_nn": v.n_rr, "mean_hr_bpm": num(v.mean_hr_bpm), "sdnn_ms": num(v.sdnn_ms),
-                    "rmssd_ms": num(v.rmssd_ms), "pnn50": num(v.pnn50), "cv": num(w.cv)})
-            })
-            .collect();
-        let j = json!({"record": rec.name, "variability": v,
-            "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
-            "sample_entropy": num(sampen),
-            "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
-            "verdict": beatfold::rhythm::verdict::verdict_json(&verdict),
-            "windows": wj,
-            "notice": NOTICE});
+        let j = record_rhythm_json(&rec.name, &b, rec.fs_hz, &sc, &verdict, window, step)?;
         println!("{}", serde_json::to_string_pretty(&j)?);
         return Ok(());
     }

@@ -115,6 +115,23 @@ impl Default for DiffusionParams {
 }
 
 impl DiffusionParams {
+    /// Overlay user choices of the kernel on these parameters: a given `epsilon` replaces the
+    /// automatic bandwidth and turns local scaling off; a given `neighbors` count replaces the
+    /// graph's and caps the local-scaling rank at it (a sparse kernel needs rank ≤ k). `None`
+    /// keeps the current value. Shared by the command line and the Python package.
+    pub fn overlay_kernel(&mut self, epsilon: Option<f64>, neighbors: Option<usize>) {
+        if epsilon.is_some() {
+            self.epsilon = epsilon;
+            self.local_scaling_neighbors = 0;
+        }
+        if let Some(k) = neighbors {
+            self.neighbors = k;
+            if k > 0 {
+                self.local_scaling_neighbors = self.local_scaling_neighbors.min(k);
+            }
+        }
+    }
+
     /// Validate: `components` in 1..=1000; `alpha` in [0, 1]; `t` in [0, 1e6]; `epsilon`, when
     /// given, finite and above 0; `neighbors` 0 or 2..=1000; `local_scaling_neighbors` at most
     /// `neighbors` (sparse kernel); `max_fit_points` from components + 2 to 5000 (dense) or

@@ -43,3 +43,76 @@ pub fn dimension_json(
         "notice": NOTICE,
     })
 }
+
+/// Default sliding window of the windowed variability (`5m`: five minutes).
+pub const RHYTHM_WINDOW: &str = "5m";
+
+/// JSON of the rhythm measures that need only the RR series: NN variability (Task Force 1996),
+/// Poincaré SD1/SD2 and sample entropy (Richman & Moorman 2000) of the NN intervals, and the
+/// variability in sliding windows. `t_end_s` is the time of the beat that ends each interval;
+/// `labels` has one label per beat (`rr_s.len() + 1`) or is empty (every interval is NN).
+/// `window` and `step` are spans such as `300s`, `5m`, `128b`; `step` defaults to half the window.
+pub fn rr_rhythm_json(
+    rr_s: &[f64],
+    t_end_s: &[f64],
+    labels: &[char],
+    window: &str,
+    step: Option<&str>,
+) -> crate::Result<serde_json::Value> {
+    use crate::rhythm::windowed::{windowed_variability, Span};
+    let len = Span::parse(window)?;
+    let step = match step {
+        Some(s) => Span::parse(s)?,
+        None => len.half(),
+    };
+    let num = |x: f64| {
+        if x.is_finite() {
+            json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    let nn = crate::rhythm::nn_intervals(rr_s, labels);
+    let v = crate::rhythm::variability(&nn);
+    let (sd1, sd2, sampen) = crate::rhythm::entropy::nn_descriptors(&nn);
+    let wins = windowed_variability(rr_s, t_end_s, labels, len, step)?;
+    let wj: Vec<serde_json::Value> = wins
+        .iter()
+        .map(|w| {
+            let v = &w.variability;
+            json!({"start_s": w.start_s, "end_s": w.end_s, "n_intervals": w.n_intervals,
+                "n_nn": v.n_rr, "mean_hr_bpm": num(v.mean_hr_bpm), "sdnn_ms": num(v.sdnn_ms),
+                "rmssd_ms": num(v.rmssd_ms), "pnn50": num(v.pnn50), "cv": num(w.cv)})
+        })
+        .collect();
+    Ok(json!({"variability": v,
+        "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
+        "sample_entropy": num(sampen),
+        "windows": wj,
+        "notice": NOTICE}))
+}
+
+/// JSON of `beatfold rhythm --json` for a record: [`rr_rhythm_json`] of its detected beats `b`
+/// (sampled at `fs_hz`) plus the record name, the irregular-rhythm screen `sc` and the record
+/// verdict `verdict`.
+pub fn record_rhythm_json(
+    record: &str,
+    b: &crate::pipeline::BeatsResult,
+    fs_hz: f64,
+    sc: &crate::rhythm::screen::Screen,
+    verdict: &crate::rhythm::verdict::Verdict,
+    window: &str,
+    step: Option<&str>,
+) -> crate::Result<serde_json::Value> {
+    let t_end: Vec<f64> = b
+        .samples
+        .iter()
+        .skip(1)
+        .map(|&s| s as f64 / fs_hz)
+        .collect();
+    let mut j = rr_rhythm_json(&b.rr_s, &t_end, &b.labels, window, step)?;
+    j["record"] = json!(record);
+    j["screen"] = json!({"windows": sc.windows.len(), "episodes": sc.episodes});
+    j["verdict"] = crate::rhythm::verdict::verdict_json(verdict);
+    Ok(j)
+}

@@ -23,6 +23,14 @@ pub enum Span {
 }
 
 impl Span {
+    /// Half of this span (at least one beat): the default step between windows.
+    pub fn half(self) -> Span {
+        match self {
+            Span::Beats(n) => Span::Beats((n / 2).max(1)),
+            Span::Seconds(s) => Span::Seconds(0.5 * s),
+        }
+    }
+
     /// Parse `300s`, `5m` (minutes) or `128b` (beats); a bare number is seconds.
     pub fn parse(s: &str) -> Result<Span> {
         let t = s.trim();
