@@ -52,7 +52,7 @@ pub const RECORD_EXTENSIONS: [&str; 6] = ["csv", "tsv", "edf", "hea", "h5", "hdf
 pub const PLAN_FILE: &str = "cohort-plan.json";
 /// Folder of the per-record outputs.
 pub const RECORDS_DIR: &str = "records";
-/// Per-record table row file.
+/// Table row file of a record that failed (an analysed record's row is in its manifest).
 pub const ROW_FILE: &str = "row.json";
 /// Per-record manifest file.
 pub const MANIFEST_FILE: &str = "manifest.json";
@@ -175,6 +175,9 @@ pub struct CohortLabels {
     pub labels: Vec<(String, String)>,
     /// The label map, `LABEL=class,…` (parsed by [`LabelMap::parse`]).
     pub map: String,
+    /// The label file, never taken for a record of the cohort folder.
+    #[serde(skip)]
+    pub source: Option<PathBuf>,
 }
 
 impl CohortLabels {
@@ -185,6 +188,7 @@ impl CohortLabels {
         let l = CohortLabels {
             labels,
             map: map.to_string(),
+            source: Some(path.to_path_buf()),
         };
         l.check()?;
         Ok(l)
@@ -323,6 +327,8 @@ pub struct Manifest {
     pub params_sha256: String,
     /// Every output file (relative to the record folder) with its SHA-256.
     pub files: Vec<(String, String)>,
+    /// The record's table row (an analysed record has no separate `row.json`).
+    pub row: Row,
 }
 
 fn sha256_hex(bytes: &[u8]) -> String {
@@ -614,7 +620,7 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
     });
     match result {
         Ok((h, row)) => {
-            write_json(&dir.join(ROW_FILE), &row)?;
+            let _ = std::fs::remove_file(dir.join(ROW_FILE));
             let mut files = Vec::new();
             let mut rels = list_files(&dir)?;
             rels.sort();
@@ -629,11 +635,15 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
                 reference_sha256: h.1,
                 params_sha256: params_hash,
                 files,
+                row,
             };
             write_json(&dir.join(MANIFEST_FILE), &m)?;
             Ok(Outcome::Analysed)
         }
         Err(e) => {
+            for f in [compact::COMPACT_FILE, "shared_embedding.h5"] {
+                let _ = std::fs::remove_file(dir.join(f));
+            }
             let row = Row::error(
                 &spec.name,
                 &spec.group,
@@ -752,7 +762,12 @@ pub fn run_with_progress(
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<RunSummary> {
     opts.check()?;
-    let specs = list_records(input)?;
+    let mut specs = list_records(input)?;
+    // A label file inside the cohort folder is not a recording.
+    if let Some(src) = opts.labels.as_ref().and_then(|l| l.source.as_ref()) {
+        let src = src.canonicalize().unwrap_or_else(|_| src.clone());
+        specs.retain(|s| s.path.canonicalize().map_or(true, |p| p != src));
+    }
     std::fs::create_dir_all(out.join(RECORDS_DIR)).map_err(|e| Error::io(out, e))?;
     let base = if input.is_dir() {
         input.to_path_buf()
@@ -834,20 +849,32 @@ pub fn merge(out: &Path) -> Result<MergeSummary> {
     }
     let mut rows = Vec::with_capacity(plan.records.len());
     for spec in &plan.records {
-        let path = record_dir(out, &spec.name).join(ROW_FILE);
-        let row = match std::fs::read_to_string(&path) {
-            Ok(t) => serde_json::from_str::<Row>(&t).unwrap_or_else(|e| {
-                Row::error(
+        let dir = record_dir(out, &spec.name);
+        // An analysed record's row is in its manifest; a failed record has only `row.json`.
+        let row = match std::fs::read_to_string(dir.join(MANIFEST_FILE)) {
+            Ok(t) => serde_json::from_str::<Manifest>(&t)
+                .map(|m| m.row)
+                .unwrap_or_else(|e| {
+                    Row::error(
+                        &spec.name,
+                        &spec.group,
+                        &format!("unreadable manifest.json: {e}"),
+                    )
+                }),
+            Err(_) => match std::fs::read_to_string(dir.join(ROW_FILE)) {
+                Ok(t) => serde_json::from_str::<Row>(&t).unwrap_or_else(|e| {
+                    Row::error(
+                        &spec.name,
+                        &spec.group,
+                        &format!("unreadable row.json: {e}"),
+                    )
+                }),
+                Err(_) => Row::error(
                     &spec.name,
                     &spec.group,
-                    &format!("unreadable row.json: {e}"),
-                )
-            }),
-            Err(_) => Row::error(
-                &spec.name,
-                &spec.group,
-                "no outputs: the record's shard has not run",
-            ),
+                    "no outputs: the record's shard has not run",
+                ),
+            },
         };
         rows.push(row);
     }

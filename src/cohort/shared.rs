@@ -4,8 +4,9 @@
 //! records are comparable in one coordinate system.
 //!
 //! In: the cohort plan, the table rows and each record's `results.h5` (`/features/matrix`).
-//! Out: `cohort_embedding.h5` (the model and the fit sample), `records/<name>/shared_embedding.h5`
-//! (every beat's shared coordinates), the figure `cohort_embedding.{png,svg}` and each record's
+//! Out: `cohort_embedding.h5` (the model, the fit sample and every record's mean position),
+//! `records/<name>/shared_embedding.h5` (every beat's shared coordinates, for records with full
+//! outputs), the figure `cohort_embedding.{png,svg}` and each record's
 //! mean position for the cohort page. When the cohort has more records than `max_total`, one
 //! beat each from a seeded choice of `max_total` records forms the fit sample (the choice
 //! depends on the seed and the sorted record names only, never on shards). Records are
@@ -255,6 +256,13 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         .max(f64::MIN_POSITIVE);
     let mut worst = 0.0f64;
     let mut positions = BTreeMap::new();
+    // Every beat's shared coordinates are written for records with full outputs only (one
+    // small file each); the others keep their mean position in `cohort_embedding.h5`.
+    let full: std::collections::HashSet<&str> = rows
+        .iter()
+        .filter(|r| r.has_report)
+        .map(|r| r.name.as_str())
+        .collect();
     for (ri, name) in ok.iter().enumerate() {
         if !used.get(ri).copied().unwrap_or(false) {
             continue;
@@ -289,13 +297,12 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
                 m.1
             })
             .collect();
-        write_record_h5(
-            &dir.join("shared_embedding.h5"),
-            &coords,
-            pts.n,
-            c,
-            &rows_fit,
-        )?;
+        let shared_path = dir.join("shared_embedding.h5");
+        if full.contains(name) {
+            write_record_h5(&shared_path, &coords, pts.n, c, &rows_fit)?;
+        } else if shared_path.exists() {
+            let _ = std::fs::remove_file(&shared_path);
+        }
     }
     let names: Vec<String> = ok.iter().map(|s| s.to_string()).collect();
     write_cohort_h5(
@@ -305,6 +312,7 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         &members,
         &fit_coords,
         sp,
+        &positions,
     )?;
     let groups: Vec<String> = ok
         .iter()
@@ -358,7 +366,9 @@ fn write_record_h5(
 
 /// `cohort_embedding.h5`: `/embedding/model` (see `embed::model_io`), `/sample/record` (index
 /// into `/sample/records`), `/sample/row` (feature row in that record), `/sample/coords` (fit
-/// coordinates), `/sample/records` (record names); root attributes `notice`, `parameters`.
+/// coordinates), `/sample/records` (record names), `/records/name` and `/records/position`
+/// (every placed record's mean (ψ1, ψ2), sorted by name); root attributes `notice`,
+/// `parameters`.
 fn write_cohort_h5(
     path: &Path,
     model: &DiffusionModel,
@@ -366,6 +376,7 @@ fn write_cohort_h5(
     members: &[(usize, usize)],
     fit_coords: &[f64],
     sp: &SharedParams,
+    positions: &BTreeMap<String, [f64; 2]>,
 ) -> Result<()> {
     let mut b = FileBuilder::new();
     b.set_attr("notice", AttrValue::VarLenString(crate::NOTICE.to_string()));
@@ -384,6 +395,14 @@ fn write_cohort_h5(
         .with_shape(&[members.len() as u64, model.components() as u64]);
     let refs: Vec<&str> = names.iter().map(String::as_str).collect();
     g.create_dataset("records").with_vlen_strings(&refs);
+    b.add_group(g.finish());
+    let mut g = b.create_group("records");
+    let names: Vec<&str> = positions.keys().map(String::as_str).collect();
+    let pos: Vec<f64> = positions.values().flat_map(|p| [p[0], p[1]]).collect();
+    g.create_dataset("name").with_vlen_strings(&names);
+    g.create_dataset("position")
+        .with_f64_data(&pos)
+        .with_shape(&[names.len() as u64, 2]);
     b.add_group(g.finish());
     encode(b, path)
 }
