@@ -146,6 +146,10 @@ pub struct AnalyzeParams {
     pub dense_kernel_max_beats: usize,
     /// Diffusion coordinates used as the trajectory for recurrence (default 3).
     pub recurrence_components: usize,
+    /// Fewest beats with complete windows for which the dimension suite is computed (default
+    /// 30, the embedding's own minimum; never below it). Callers that would not report an
+    /// estimate from fewer points (e.g. a cohort's minimum support) raise it to save the work.
+    pub dimension_min_points: usize,
     /// Quality segment length, seconds.
     pub quality_segment_s: f64,
     /// Beat matching window for scoring against reference beats, seconds (EC57: 0.150).
@@ -176,6 +180,7 @@ impl Default for AnalyzeParams {
             verdict: crate::rhythm::verdict::VerdictParams::default(),
             dense_kernel_max_beats: 2000,
             recurrence_components: 3,
+            dimension_min_points: MIN_BEATS_FOR_GEOMETRY,
             quality_segment_s: 10.0,
             score_window_s: 0.150,
         }
@@ -526,16 +531,24 @@ pub fn analyze(
         };
         notes.extend(separate_groups_note(&e.eigenvalues));
         progress(4, STAGES[4]);
-        let sp = dimension::SuiteParams {
-            seed: p.dimension.seed,
-            bootstrap: SUITE_BOOTSTRAP,
-            kmeans: p.dimension.clone(),
-            ..dimension::SuiteParams::default()
-        };
-        let suite = dimension::dimension_suite(&feats.points, &sp)?;
-        notes.extend(suite.failures.iter().map(|f| format!("dimension: {f}")));
-        let d = suite.kmeans.clone().unwrap_or_else(empty_curve);
-        (e, d, Some(suite))
+        if feats.points.n >= p.dimension_min_points {
+            let sp = dimension::SuiteParams {
+                seed: p.dimension.seed,
+                bootstrap: SUITE_BOOTSTRAP,
+                kmeans: p.dimension.clone(),
+                ..dimension::SuiteParams::default()
+            };
+            let suite = dimension::dimension_suite(&feats.points, &sp)?;
+            notes.extend(suite.failures.iter().map(|f| format!("dimension: {f}")));
+            let d = suite.kmeans.clone().unwrap_or_else(empty_curve);
+            (e, d, Some(suite))
+        } else {
+            notes.push(format!(
+                "only {} beats with complete windows: the dimension estimate needs at least {} (dimension_min_points) and was not computed",
+                feats.points.n, p.dimension_min_points
+            ));
+            (e, empty_curve(), None)
+        }
     } else {
         notes.push(format!(
             "only {} beats with complete windows: at least {MIN_BEATS_FOR_GEOMETRY} are needed for the embedding and the dimension estimate, which were not computed",

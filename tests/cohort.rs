@@ -2,7 +2,7 @@
 //! one broken file: error rows, resume, shards against a single run, thread counts, and the
 //! shared embedding's Nyström extension at its own fit points.
 
-use beatfold::cohort::{self, CohortOptions, Shard, Status};
+use beatfold::cohort::{self, CohortOptions, RecordOutputs, Shard, Status};
 use beatfold::io;
 use beatfold::report::ReportOptions;
 use beatfold::synth::{self, Scenario, SynthParams};
@@ -26,12 +26,13 @@ fn make_cohort(dir: &Path) {
     std::fs::write(dir.join("broken.csv"), "time_s,ecg\nnot,a number\n").unwrap();
 }
 
-/// Options of the tests: per-record figures as SVG only (PNG encoding is the slowest part of a
-/// 1-minute record and the first test keeps the default of both).
+/// Options of the tests: full per-record outputs, figures as SVG only (PNG encoding is the
+/// slowest part of a 1-minute record and the first test keeps the default of both).
 fn opts(jobs: usize, shard: Option<Shard>) -> CohortOptions {
     CohortOptions {
         jobs,
         shard,
+        outputs: RecordOutputs::Full,
         report: ReportOptions {
             png: false,
             ..ReportOptions::default()
@@ -58,6 +59,7 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
     let out = t.path().join("out");
     let full_report = CohortOptions {
         jobs: 2,
+        outputs: RecordOutputs::Full,
         ..CohortOptions::default()
     };
     let s = cohort::run(&input, &out, &full_report).unwrap();
@@ -86,9 +88,10 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
     }
     let csv = String::from_utf8(read(&out.join("cohort.csv"))).unwrap();
     assert_eq!(csv.lines().count(), 5);
-    assert!(csv.lines().nth(1).unwrap().starts_with("broken,,error,"));
+    assert!(csv.lines().nth(1).unwrap().starts_with("broken,,,error,"));
     let page = String::from_utf8(read(&out.join("cohort.html"))).unwrap();
-    assert!(page.contains("href=\"records/rec2/report.html\""));
+    // The page links a record's report (built in the browser from these flags, row order).
+    assert!(page.contains("\"report\":[false,true,true,true]"));
     assert!(page.contains("Research use only"));
     for f in [
         "report.html",
@@ -152,7 +155,8 @@ fn resume_after_interruption_gives_identical_outputs() {
     let m: cohort::Manifest =
         serde_json::from_slice(&read(&out.join("records/rec1/manifest.json"))).unwrap();
     let listed: Vec<&str> = m.files.iter().map(|f| f.0.as_str()).collect();
-    assert!(listed.contains(&"results.h5") && listed.contains(&"row.json"));
+    assert!(listed.contains(&"results.h5") && listed.contains(&"record.h5"));
+    assert_eq!(m.row.name, "rec1");
     assert!(!listed.iter().any(|f| f.contains(".tmp-")));
     assert!(
         !dir.join(".results.h5.tmp-1-0").exists(),

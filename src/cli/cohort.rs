@@ -2,7 +2,9 @@
 //! merge of shard outputs). No analysis happens here.
 
 use anyhow::{bail, Result};
-use beatfold::cohort::{self, CohortOptions, Shard, SharedParams, Status};
+use beatfold::cohort::{
+    self, CohortLabels, CohortOptions, RecordOutputs, Shard, SharedParams, Status,
+};
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::NOTICE;
 use clap::{Args, Subcommand};
@@ -43,6 +45,34 @@ pub struct CohortArgs {
     /// Most beats in the shared embedding's fit sample, 10 to 5000 (default 1000).
     #[arg(long, value_name = "N", default_value_t = 1000)]
     pub max_total: usize,
+    /// What each record writes: `summary` (default: table row and compact record.h5) or
+    /// `full` (also report.html, results.h5, summary.json, figures/).
+    #[arg(long, value_name = "summary|full", default_value = "summary")]
+    pub record_outputs: String,
+    /// File of record names (one a line, `#` comments) that write full outputs.
+    #[arg(long, value_name = "FILE")]
+    pub full_for: Option<PathBuf>,
+    /// Label file, one `record,label` line a record; the cohort page scores verdicts against it.
+    #[arg(long, value_name = "FILE", requires = "label_map")]
+    pub labels: Option<PathBuf>,
+    /// Label map for --labels, `LABEL=class,…` (classes regular, irregular, other, unreadable).
+    #[arg(long, value_name = "MAP", requires = "labels")]
+    pub label_map: Option<String>,
+}
+
+/// Record names from a `--full-for` file: one a line; blank lines and `#` comments skipped.
+fn read_names(path: &Path) -> Result<Vec<String>> {
+    let text = beatfold::io::read_text(path)?;
+    let names: Vec<String> = text
+        .lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty() && !l.starts_with('#'))
+        .map(String::from)
+        .collect();
+    if names.is_empty() {
+        bail!("{}: --full-for names no record", path.display());
+    }
+    Ok(names)
 }
 
 /// Sub-actions of `beatfold cohort`.
@@ -117,6 +147,17 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             per_record: a.per_record,
             max_total: a.max_total,
             ..SharedParams::default()
+        },
+        outputs: RecordOutputs::parse(&a.record_outputs)?,
+        full_for: a
+            .full_for
+            .as_deref()
+            .map(read_names)
+            .transpose()?
+            .unwrap_or_default(),
+        labels: match (&a.labels, &a.label_map) {
+            (Some(f), Some(m)) => Some(CohortLabels::read(f, m)?),
+            _ => None,
         },
         ..CohortOptions::default()
     };

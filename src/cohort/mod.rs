@@ -23,17 +23,23 @@
 //! record by the Nyström method (as in Coifman & Lafon 2006, section on geometric harmonics),
 //! so beats of different records lie in one coordinate system.
 
+pub mod compact;
 mod figure;
+mod page;
 mod shared;
+pub mod support;
 mod table;
 
 pub use shared::{SharedEmbeddingSummary, SharedParams};
-pub use table::{table_csv, Row, Status};
+pub use support::Support;
+pub use table::{table_csv, Row, Status, COLUMNS};
 
 use crate::error::{Error, Result};
 use crate::io::{self, ReadOptions};
 use crate::pipeline::{self, AnalyzeParams, InputInfo};
 use crate::report::{self, ReportOptions};
+use crate::rhythm::label_score::{LabelMap, LabelScore};
+use crate::rhythm::verdict::VerdictClass;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
@@ -46,7 +52,7 @@ pub const RECORD_EXTENSIONS: [&str; 6] = ["csv", "tsv", "edf", "hea", "h5", "hdf
 pub const PLAN_FILE: &str = "cohort-plan.json";
 /// Folder of the per-record outputs.
 pub const RECORDS_DIR: &str = "records";
-/// Per-record table row file.
+/// Table row file of a record that failed (an analysed record's row is in its manifest).
 pub const ROW_FILE: &str = "row.json";
 /// Per-record manifest file.
 pub const MANIFEST_FILE: &str = "manifest.json";
@@ -119,10 +125,91 @@ pub struct CohortOptions {
     pub shard: Option<Shard>,
     /// Sampling rate, Hz, for files that carry none.
     pub fs_hz: Option<f64>,
-    /// Per-record report options.
+    /// Per-record report options (records with full outputs only).
     pub report: ReportOptions,
     /// Shared embedding settings (stored in the plan, used by [`merge`]).
     pub shared: SharedParams,
+    /// What every record writes (default [`RecordOutputs::Summary`]).
+    pub outputs: RecordOutputs,
+    /// Records (by name) that write full outputs although `outputs` is `Summary`.
+    pub full_for: Vec<String>,
+    /// Minimum support of the table's estimates.
+    pub support: Support,
+    /// Record labels and the label map, scored on the cohort page (stored in the plan).
+    pub labels: Option<CohortLabels>,
+}
+
+/// What each record writes into `records/<name>/`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum RecordOutputs {
+    /// `row.json`, `record.h5` (the compact results file) and `manifest.json`: a few tens of
+    /// kilobytes for a short record. The dimension suite is not computed below the dimension's
+    /// minimum support (the table would not show it).
+    #[default]
+    Summary,
+    /// Everything `analyze` writes as well (`report.html`, `results.h5`, `summary.json`,
+    /// `figures/`).
+    Full,
+}
+
+impl RecordOutputs {
+    /// Parse `summary` or `full`.
+    pub fn parse(s: &str) -> Result<RecordOutputs> {
+        match s {
+            "summary" => Ok(RecordOutputs::Summary),
+            "full" => Ok(RecordOutputs::Full),
+            _ => Err(Error::param(
+                "record-outputs",
+                format!("`{s}`; allowed: summary, full"),
+            )),
+        }
+    }
+}
+
+/// Record labels for the cohort page: `(record name, label)` pairs as read by
+/// [`crate::rhythm::label_score::read_labels`] and the label map as text (`LABEL=class,…`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct CohortLabels {
+    /// `(record name, label)`, in the label file's order.
+    pub labels: Vec<(String, String)>,
+    /// The label map, `LABEL=class,…` (parsed by [`LabelMap::parse`]).
+    pub map: String,
+    /// The label file, never taken for a record of the cohort folder.
+    #[serde(skip)]
+    pub source: Option<PathBuf>,
+}
+
+impl CohortLabels {
+    /// Read a label file and check that every label is in the map (errors name the record
+    /// and the label).
+    pub fn read(path: &Path, map: &str) -> Result<CohortLabels> {
+        let labels = crate::rhythm::label_score::read_labels(path)?;
+        let l = CohortLabels {
+            labels,
+            map: map.to_string(),
+            source: Some(path.to_path_buf()),
+        };
+        l.check()?;
+        Ok(l)
+    }
+
+    /// Check the map and that every label is in it.
+    pub fn check(&self) -> Result<()> {
+        let m = LabelMap::parse(&self.map)?;
+        for (name, label) in &self.labels {
+            if m.class_of(label).is_none() {
+                return Err(Error::param(
+                    "labels",
+                    format!(
+                        "record `{name}`: label `{label}` is not in the label map ({})",
+                        m.describe()
+                    ),
+                ));
+            }
+        }
+        Ok(())
+    }
 }
 
 impl Default for CohortOptions {
@@ -134,6 +221,10 @@ impl Default for CohortOptions {
             fs_hz: None,
             report: ReportOptions::default(),
             shared: SharedParams::default(),
+            outputs: RecordOutputs::Summary,
+            full_for: Vec::new(),
+            support: Support::default(),
+            labels: None,
         }
     }
 }
@@ -156,8 +247,23 @@ impl CohortOptions {
                 ));
             }
         }
+        if self.outputs == RecordOutputs::Full && !self.full_for.is_empty() {
+            return Err(Error::param(
+                "full-for",
+                "names records for full outputs, but every record already writes full outputs (record-outputs full); give one or the other",
+            ));
+        }
         self.report.check()?;
+        self.support.check()?;
+        if let Some(l) = &self.labels {
+            l.check()?;
+        }
         self.shared.check()
+    }
+
+    /// True when record `name` writes full outputs.
+    pub fn is_full(&self, name: &str) -> bool {
+        self.outputs == RecordOutputs::Full || self.full_for.iter().any(|n| n == name)
     }
 }
 
@@ -187,6 +293,8 @@ pub struct MergeSummary {
     pub shared: Option<SharedEmbeddingSummary>,
     /// Why parts could not be made (shown on the cohort page).
     pub notes: Vec<String>,
+    /// The verdicts scored against the labels, when labels were given.
+    pub labels: Option<LabelScore>,
 }
 
 /// The plan file: the whole sorted record list and the merge settings, written by every run.
@@ -200,6 +308,9 @@ pub struct Plan {
     pub shared: SharedParams,
     /// Folder the input paths are relative to, stripped from error messages in the table.
     pub base: PathBuf,
+    /// Record labels and their map, when given.
+    #[serde(default)]
+    pub labels: Option<CohortLabels>,
 }
 
 /// Value of [`Plan::format`].
@@ -216,6 +327,8 @@ pub struct Manifest {
     pub params_sha256: String,
     /// Every output file (relative to the record folder) with its SHA-256.
     pub files: Vec<(String, String)>,
+    /// The record's table row (an analysed record has no separate `row.json`).
+    pub row: Row,
 }
 
 fn sha256_hex(bytes: &[u8]) -> String {
@@ -395,6 +508,8 @@ fn params_sha256(spec: &RecordSpec, opts: &CohortOptions) -> Result<String> {
         "params": p,
         "fs_hz": opts.fs_hz,
         "report": format!("{:?}", opts.report),
+        "full": opts.is_full(&spec.name),
+        "support": opts.support,
         "name": spec.name,
         "group": spec.group,
     });
@@ -476,6 +591,17 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
     // into this record's folder at the same time: shards own disjoint records).
     let _ = std::fs::remove_file(dir.join(MANIFEST_FILE));
     remove_stale_temps(&dir);
+    // Outputs of an earlier run with other settings must not outlive them (a record switched
+    // from full to summary outputs keeps no report).
+    for f in [
+        "report.html",
+        "results.h5",
+        "summary.json",
+        compact::COMPACT_FILE,
+    ] {
+        let _ = std::fs::remove_file(dir.join(f));
+    }
+    let _ = std::fs::remove_dir_all(dir.join("figures"));
     // A panic inside a stage (a bug, not bad data) must not take the other records down: it
     // becomes this record's error row.
     let result = hashes.and_then(|h| {
@@ -494,7 +620,7 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
     });
     match result {
         Ok((h, row)) => {
-            write_json(&dir.join(ROW_FILE), &row)?;
+            let _ = std::fs::remove_file(dir.join(ROW_FILE));
             let mut files = Vec::new();
             let mut rels = list_files(&dir)?;
             rels.sort();
@@ -509,11 +635,15 @@ fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> 
                 reference_sha256: h.1,
                 params_sha256: params_hash,
                 files,
+                row,
             };
             write_json(&dir.join(MANIFEST_FILE), &m)?;
             Ok(Outcome::Analysed)
         }
         Err(e) => {
+            for f in [compact::COMPACT_FILE, "shared_embedding.h5"] {
+                let _ = std::fs::remove_file(dir.join(f));
+            }
             let row = Row::error(
                 &spec.name,
                 &spec.group,
@@ -584,9 +714,19 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
         sha256: Some(io::sha256_file(&spec.path)?),
         warnings: loaded.warnings.clone(),
     };
+    let full = opts.is_full(&spec.name);
+    if !full {
+        // The table shows no dimension below its support: do not compute one.
+        p.dimension_min_points = p.dimension_min_points.max(opts.support.dimension_points);
+    }
     let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
-    report::write_all(&a, dir, &opts.report)?;
-    Ok(Row::from_analysis(&spec.name, &spec.group, &a))
+    compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
+    if full {
+        report::write_all(&a, dir, &opts.report)?;
+    }
+    let mut row = Row::from_analysis(&spec.name, &spec.group, &a, &opts.support);
+    row.has_report = full;
+    Ok(row)
 }
 
 fn common_base(specs: &[RecordSpec]) -> PathBuf {
@@ -622,7 +762,12 @@ pub fn run_with_progress(
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<RunSummary> {
     opts.check()?;
-    let specs = list_records(input)?;
+    let mut specs = list_records(input)?;
+    // A label file inside the cohort folder is not a recording.
+    if let Some(src) = opts.labels.as_ref().and_then(|l| l.source.as_ref()) {
+        let src = src.canonicalize().unwrap_or_else(|_| src.clone());
+        specs.retain(|s| s.path.canonicalize().map_or(true, |p| p != src));
+    }
     std::fs::create_dir_all(out.join(RECORDS_DIR)).map_err(|e| Error::io(out, e))?;
     let base = if input.is_dir() {
         input.to_path_buf()
@@ -634,6 +779,7 @@ pub fn run_with_progress(
         records: specs.clone(),
         shared: opts.shared.clone(),
         base: base.clone(),
+        labels: opts.labels.clone(),
     };
     write_json(&out.join(PLAN_FILE), &plan)?;
     let pos = shard_positions(specs.len(), opts.shard);
@@ -698,26 +844,42 @@ pub fn read_plan(out: &Path) -> Result<Plan> {
 /// cannot be fitted (too few beats) is a note, not an error.
 pub fn merge(out: &Path) -> Result<MergeSummary> {
     let plan = read_plan(out)?;
+    if let Some(l) = &plan.labels {
+        l.check()?;
+    }
     let mut rows = Vec::with_capacity(plan.records.len());
     for spec in &plan.records {
-        let path = record_dir(out, &spec.name).join(ROW_FILE);
-        let row = match std::fs::read_to_string(&path) {
-            Ok(t) => serde_json::from_str::<Row>(&t).unwrap_or_else(|e| {
-                Row::error(
+        let dir = record_dir(out, &spec.name);
+        // An analysed record's row is in its manifest; a failed record has only `row.json`.
+        let row = match std::fs::read_to_string(dir.join(MANIFEST_FILE)) {
+            Ok(t) => serde_json::from_str::<Manifest>(&t)
+                .map(|m| m.row)
+                .unwrap_or_else(|e| {
+                    Row::error(
+                        &spec.name,
+                        &spec.group,
+                        &format!("unreadable manifest.json: {e}"),
+                    )
+                }),
+            Err(_) => match std::fs::read_to_string(dir.join(ROW_FILE)) {
+                Ok(t) => serde_json::from_str::<Row>(&t).unwrap_or_else(|e| {
+                    Row::error(
+                        &spec.name,
+                        &spec.group,
+                        &format!("unreadable row.json: {e}"),
+                    )
+                }),
+                Err(_) => Row::error(
                     &spec.name,
                     &spec.group,
-                    &format!("unreadable row.json: {e}"),
-                )
-            }),
-            Err(_) => Row::error(
-                &spec.name,
-                &spec.group,
-                "no outputs: the record's shard has not run",
-            ),
+                    "no outputs: the record's shard has not run",
+                ),
+            },
         };
         rows.push(row);
     }
     let mut notes = Vec::new();
+    let labels = apply_labels(&plan, &mut rows, &mut notes)?;
     let shared = match shared::build(out, &plan, &rows) {
         Ok(s) => Some(s),
         Err(e) => {
@@ -730,13 +892,68 @@ pub fn merge(out: &Path) -> Result<MergeSummary> {
     }
     io::write_atomic(&out.join("cohort.csv"), table::table_csv(&rows).as_bytes())?;
     table::write_h5(&rows, &out.join("cohort.h5"))?;
-    let page = table::render_html(&rows, shared.as_ref(), &notes);
+    let page = page::render(
+        &rows,
+        &page::PageParts {
+            shared: shared.as_ref(),
+            notes: &notes,
+            labels: labels
+                .as_ref()
+                .map(|(sc, map, unscored)| (sc, map.clone(), *unscored)),
+        },
+    );
     io::write_atomic(&out.join("cohort.html"), page.as_bytes())?;
     Ok(MergeSummary {
         rows,
         shared,
         notes,
+        labels: labels.map(|l| l.0),
     })
+}
+
+/// Give every row its label from the plan and score the verdicts of the labelled, analysed
+/// records against them: `(score, label map, analysed records not scored)`.
+fn apply_labels(
+    plan: &Plan,
+    rows: &mut [Row],
+    notes: &mut Vec<String>,
+) -> Result<Option<(LabelScore, String, usize)>> {
+    let Some(l) = &plan.labels else {
+        return Ok(None);
+    };
+    let map = LabelMap::parse(&l.map)?;
+    let by_name: std::collections::HashMap<&str, &str> = l
+        .labels
+        .iter()
+        .map(|(n, x)| (n.as_str(), x.as_str()))
+        .collect();
+    let mut pairs = Vec::new();
+    let mut unscored = 0;
+    let mut found = 0;
+    for r in rows.iter_mut() {
+        if let Some(label) = by_name.get(r.name.as_str()) {
+            r.label = label.to_string();
+            found += 1;
+        }
+        if r.status != Status::Ok {
+            continue;
+        }
+        match (map.class_of(&r.label), VerdictClass::parse(&r.verdict)) {
+            (Some(t), Some(v)) => pairs.push((t, v)),
+            _ => unscored += 1,
+        }
+    }
+    if found < l.labels.len() {
+        notes.push(format!(
+            "{} labelled records are not in the cohort",
+            l.labels.len() - found
+        ));
+    }
+    Ok(Some((
+        LabelScore::from_pairs(&pairs),
+        map.describe(),
+        unscored,
+    )))
 }
 
 #[cfg(test)]

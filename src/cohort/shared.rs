@@ -4,8 +4,12 @@
 //! records are comparable in one coordinate system.
 //!
 //! In: the cohort plan, the table rows and each record's `results.h5` (`/features/matrix`).
-//! Out: `cohort_embedding.h5` (the model and the fit sample), `records/<name>/shared_embedding.h5`
-//! (every beat's shared coordinates), and the figure `cohort_embedding.{png,svg}`. Records are
+//! Out: `cohort_embedding.h5` (the model, the fit sample and every record's mean position),
+//! `records/<name>/shared_embedding.h5` (every beat's shared coordinates, for records with full
+//! outputs), the figure `cohort_embedding.{png,svg}` and each record's
+//! mean position for the cohort page. When the cohort has more records than `max_total`, one
+//! beat each from a seeded choice of `max_total` records forms the fit sample (the choice
+//! depends on the seed and the sorted record names only, never on shards). Records are
 //! read one at a time (twice: once to sample, once to extend), so memory holds the sample and one
 //! record, never the whole cohort. Each record's sample is drawn with its own seed (the cohort
 //! seed mixed with a hash of its name), so it does not depend on which shard analysed it.
@@ -18,6 +22,7 @@ use hdf5_pure::{AttrValue, FileBuilder};
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
 use std::path::Path;
 
 /// Settings of the shared embedding.
@@ -105,6 +110,9 @@ pub struct SharedEmbeddingSummary {
     pub fit_reproduction_error: f64,
     /// Records left out, and why.
     pub notes: Vec<String>,
+    /// Each placed record's position for the cohort page: the mean of its beats' first two
+    /// shared coordinates.
+    pub record_positions: BTreeMap<String, [f64; 2]>,
 }
 
 /// The record's feature matrix from its `results.h5`.
@@ -171,6 +179,18 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         return Err(Error::Analysis("no record was analysed".into()));
     }
     let per = sp.per_record.min(sp.max_total / ok.len()).max(1);
+    // More records than fit points: a seeded choice of records gives one beat each.
+    let in_fit: Vec<bool> = if ok.len() > sp.max_total {
+        let mut v = vec![false; ok.len()];
+        for k in sample_rows(ok.len(), sp.max_total, sp.seed, "cohort records") {
+            if let Some(x) = v.get_mut(k) {
+                *x = true;
+            }
+        }
+        v
+    } else {
+        vec![true; ok.len()]
+    };
     let mut notes = Vec::new();
     // Pass 1: the stratified sample.
     let mut dim = None;
@@ -178,7 +198,7 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
     let mut members: Vec<(usize, usize)> = Vec::new(); // (record position in `ok`, row)
     let mut used = vec![false; ok.len()];
     for (ri, name) in ok.iter().enumerate() {
-        let pts = read_features(&record_dir(out, name).join("results.h5"))?;
+        let pts = read_features(&record_dir(out, name).join(super::compact::COMPACT_FILE))?;
         if pts.n == 0 {
             notes.push(format!(
                 "record {name}: no beat features, not in the shared embedding"
@@ -197,6 +217,9 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
             Some(_) => {}
         }
         used[ri] = true;
+        if !in_fit.get(ri).copied().unwrap_or(false) {
+            continue;
+        }
         for r in sample_rows(pts.n, per, sp.seed, name) {
             sample.extend_from_slice(pts.row(r));
             members.push((ri, r));
@@ -232,13 +255,32 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         .fold(0.0f64, |m, v| m.max(v.abs()))
         .max(f64::MIN_POSITIVE);
     let mut worst = 0.0f64;
+    let mut positions = BTreeMap::new();
+    // Every beat's shared coordinates are written for records with full outputs only (one
+    // small file each); the others keep their mean position in `cohort_embedding.h5`.
+    let full: std::collections::HashSet<&str> = rows
+        .iter()
+        .filter(|r| r.has_report)
+        .map(|r| r.name.as_str())
+        .collect();
     for (ri, name) in ok.iter().enumerate() {
         if !used.get(ri).copied().unwrap_or(false) {
             continue;
         }
         let dir = record_dir(out, name);
-        let pts = read_features(&dir.join("results.h5"))?;
+        let pts = read_features(&dir.join(super::compact::COMPACT_FILE))?;
         let coords = model.extend(&pts)?;
+        if pts.n > 0 && c > 0 {
+            let (mut sx, mut sy) = (0.0, 0.0);
+            for row in coords.chunks(c) {
+                sx += row.first().copied().unwrap_or(0.0);
+                sy += row.get(1).copied().unwrap_or(0.0);
+            }
+            let k = pts.n as f64;
+            if (sx / k).is_finite() && (sy / k).is_finite() {
+                positions.insert(name.to_string(), [sx / k, sy / k]);
+            }
+        }
         let rows_fit: Vec<usize> = members
             .iter()
             .enumerate()
@@ -255,13 +297,12 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
                 m.1
             })
             .collect();
-        write_record_h5(
-            &dir.join("shared_embedding.h5"),
-            &coords,
-            pts.n,
-            c,
-            &rows_fit,
-        )?;
+        let shared_path = dir.join("shared_embedding.h5");
+        if full.contains(name) {
+            write_record_h5(&shared_path, &coords, pts.n, c, &rows_fit)?;
+        } else if shared_path.exists() {
+            let _ = std::fs::remove_file(&shared_path);
+        }
     }
     let names: Vec<String> = ok.iter().map(|s| s.to_string()).collect();
     write_cohort_h5(
@@ -271,6 +312,7 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         &members,
         &fit_coords,
         sp,
+        &positions,
     )?;
     let groups: Vec<String> = ok
         .iter()
@@ -290,6 +332,7 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         eigenvalues: model.eigenvalues.clone(),
         fit_reproduction_error: worst,
         notes,
+        record_positions: positions,
     })
 }
 
@@ -323,7 +366,9 @@ fn write_record_h5(
 
 /// `cohort_embedding.h5`: `/embedding/model` (see `embed::model_io`), `/sample/record` (index
 /// into `/sample/records`), `/sample/row` (feature row in that record), `/sample/coords` (fit
-/// coordinates), `/sample/records` (record names); root attributes `notice`, `parameters`.
+/// coordinates), `/sample/records` (record names), `/records/name` and `/records/position`
+/// (every placed record's mean (ψ1, ψ2), sorted by name); root attributes `notice`,
+/// `parameters`.
 fn write_cohort_h5(
     path: &Path,
     model: &DiffusionModel,
@@ -331,6 +376,7 @@ fn write_cohort_h5(
     members: &[(usize, usize)],
     fit_coords: &[f64],
     sp: &SharedParams,
+    positions: &BTreeMap<String, [f64; 2]>,
 ) -> Result<()> {
     let mut b = FileBuilder::new();
     b.set_attr("notice", AttrValue::VarLenString(crate::NOTICE.to_string()));
@@ -349,6 +395,14 @@ fn write_cohort_h5(
         .with_shape(&[members.len() as u64, model.components() as u64]);
     let refs: Vec<&str> = names.iter().map(String::as_str).collect();
     g.create_dataset("records").with_vlen_strings(&refs);
+    b.add_group(g.finish());
+    let mut g = b.create_group("records");
+    let names: Vec<&str> = positions.keys().map(String::as_str).collect();
+    let pos: Vec<f64> = positions.values().flat_map(|p| [p[0], p[1]]).collect();
+    g.create_dataset("name").with_vlen_strings(&names);
+    g.create_dataset("position")
+        .with_f64_data(&pos)
+        .with_shape(&[names.len() as u64, 2]);
     b.add_group(g.finish());
     encode(b, path)
 }
