@@ -24,7 +24,10 @@
 //!    lies below the plateau.
 //! 5. `resolved` only when: a plateau of at least [`MIN_PLATEAU`] grid scales exists; at least
 //!    two calibrated estimates ran and every one is a member; none ran out of reference
-//!    dimensions; and, with resampling, the interval's half width is at most [`AGREE`]·d.
+//!    dimensions; with resampling, the interval's half width is at most [`AGREE`]·d; and the
+//!    answer does not hinge on the finite-sample correction: the median raw estimate of the
+//!    members is within ±[`AGREE`] of d (a larger correction depends on how well the reference
+//!    cubes stand for the data, which the data cannot tell).
 //!    Otherwise `unresolved` with the first failed condition as the reason.
 
 use super::suite::MethodEstimate;
@@ -265,6 +268,7 @@ pub fn consensus(
             .join(", ")
     };
     let plateau_len = best.map_or(0, |(i, j)| j - i);
+    let raw_med = median(used.iter().map(|e| e.d).collect());
     let reason = if plateau_len < MIN_PLATEAU {
         Some(format!(
             "the curves agree over no plateau of at least {MIN_PLATEAU} scales"
@@ -280,6 +284,12 @@ pub fn consensus(
     } else if cal.iter().any(|e| e.correction.at_cap) {
         Some(format!(
             "an estimate reached the ambient dimension {ambient}; d may be higher"
+        ))
+    } else if (raw_med / d - 1.0).abs() > AGREE {
+        Some(format!(
+            "the finite-sample correction moves the estimate from {raw_med:.2} to {d:.2}, \
+             more than ±{:.0} %; it rests on the reference cubes",
+            AGREE * 100.0
         ))
     } else if ci95[0].is_finite() && (ci95[1] - ci95[0]) / 2.0 > AGREE * d {
         Some(format!(

@@ -24,6 +24,7 @@ pub mod json_views;
 pub(crate) use figures::{ensure_font, FONT};
 mod figures_more;
 mod h5;
+mod h5_dimension;
 mod html;
 mod interactive;
 mod summary;
