@@ -135,21 +135,34 @@ pub(super) fn dimension_cmd(
             }
         ));
     }
+    let ci = |c: [f64; 2]| {
+        if c[0].is_finite() {
+            format!("[{:.2}, {:.2}]", c[0], c[1])
+        } else {
+            "-".to_string()
+        }
+    };
     o.line(format!(
-        "{:<14} {:>8} {:>18}",
-        "estimator", "d", "95 % interval"
+        "{:<19} {:>7} {:>16} {:>9} {:>16}",
+        "estimator", "raw d", "95 % interval", "corrected", "95 % interval"
     ));
     for e in &s.estimates {
+        let (cd, cc) = if e.correction.applied {
+            (format!("{:.2}", e.corrected_d), ci(e.corrected_ci95))
+        } else {
+            ("-".to_string(), "-".to_string())
+        };
         o.line(format!(
-            "{:<14} {:>8.2} {:>18}",
+            "{:<19} {:>7.2} {:>16} {:>9} {:>16}",
             e.method.name(),
             e.d,
-            if e.ci95[0].is_finite() {
-                format!("[{:.2}, {:.2}]", e.ci95[0], e.ci95[1])
-            } else {
-                "-".to_string()
-            }
+            ci(e.ci95),
+            cd,
+            cc
         ));
+    }
+    if let Some(c) = &s.consensus {
+        o.line(format!("consensus: {} [{:.2}, {:.2}]", c.sentence(), c.ci95[0], c.ci95[1]));
     }
     for e in &s.estimates {
         let c: Vec<String> = e

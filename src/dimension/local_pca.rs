@@ -1,9 +1,15 @@
-//! Local principal component analysis: the number of directions that carry a given share of
-//! the variance in neighbourhoods of growing size (Fukunaga & Olsen 1971).
+//! Local principal component analysis: the number of significant directions in neighbourhoods
+//! of growing size.
+//!
+//! Two counting rules ([`PcaRule`]):
+//! - [`PcaRule::EigenRatio`]: Fukunaga & Olsen (1971, IEEE Trans. Computers C-20:176): the
+//!   number of eigenvalues of the local covariance larger than a fraction α of the largest
+//!   (α = 0.1 by default; the published rule with the usual threshold, common practice).
+//! - [`PcaRule::VarianceShare`]: the number of leading components whose eigenvalues sum to a
+//!   share of the total variance (a cumulative-variance rule, not Fukunaga–Olsen).
 //!
 //! In: [`Points`], centre points, their nearest-neighbour table, the neighbourhood sizes and the
-//! explained-variance threshold (usually 0.95). Out: for every centre and size the number of
-//! principal components needed to reach the threshold, and the mean neighbourhood radius per
+//! rule. Out: for every centre and size the count, and the mean neighbourhood radius per
 //! size (the distance to the k-th neighbour), which is the scale of the curve.
 //! The neighbourhood is the centre and its k nearest neighbours; eigenvalues of its covariance
 //! come from faer (through the smaller of the covariance and the Gram matrix, which share their
@@ -14,9 +20,34 @@ use crate::points::Points;
 use faer::{Mat, Side};
 use rayon::prelude::*;
 
-/// Number of leading eigenvalues of the centred rows `x` (r × dim, row-major) whose sum reaches
-/// `threshold` of the total; 0 for a neighbourhood without spread.
-fn components_for(x: &[f64], r: usize, dim: usize, threshold: f64) -> Result<usize> {
+/// How significant directions are counted (see the module notes).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum PcaRule {
+    /// Fukunaga & Olsen (1971): eigenvalues above this fraction of the largest (0 < α < 1).
+    EigenRatio(f64),
+    /// Leading components up to this share of the total variance (0 < share ≤ 1).
+    VarianceShare(f64),
+}
+
+impl PcaRule {
+    fn check(self) -> Result<Self> {
+        match self {
+            PcaRule::EigenRatio(a) if !(a > 0.0 && a < 1.0) => Err(Error::param(
+                "local_pca_ratio",
+                format!("{a}; allowed 0 < ratio < 1 of the largest eigenvalue"),
+            )),
+            PcaRule::VarianceShare(s) if !(s > 0.0 && s <= 1.0) => Err(Error::param(
+                "local_pca_variance",
+                format!("{s}; allowed 0 < share ≤ 1 of the variance"),
+            )),
+            r => Ok(r),
+        }
+    }
+}
+
+/// Number of significant directions of the centred rows `x` (r × dim, row-major) under `rule`;
+/// 0 for a neighbourhood without spread.
+fn components_for(x: &[f64], r: usize, dim: usize, rule: PcaRule) -> Result<usize> {
     let ev = if r <= dim {
         Mat::<f64>::from_fn(r, r, |i, j| {
             x[i * dim..(i + 1) * dim]
@@ -37,6 +68,13 @@ fn components_for(x: &[f64], r: usize, dim: usize, threshold: f64) -> Result<usi
     if total <= 0.0 {
         return Ok(0);
     }
+    let threshold = match rule {
+        PcaRule::EigenRatio(a) => {
+            let top = ev.iter().fold(0.0f64, |m, &v| m.max(v));
+            return Ok(ev.iter().filter(|&&v| v > a * top).count());
+        }
+        PcaRule::VarianceShare(s) => s,
+    };
     let mut acc = 0.0;
     for (c, v) in ev.iter().rev().enumerate() {
         acc += v.max(0.0);
@@ -51,7 +89,7 @@ fn components_for(x: &[f64], r: usize, dim: usize, threshold: f64) -> Result<usi
 /// nearest-neighbour table (ascending); `ks` are neighbourhood sizes (each ≤ `table_k`).
 /// Returns (`centres.len() × ks.len()` row-major component counts, mean radius per k).
 ///
-/// Errors: a k of 0 or above `table_k`, a threshold outside (0, 1], a centre out of range.
+/// Errors: a k of 0 or above `table_k`, a rule threshold out of range, a centre out of range.
 pub fn local_pca_counts(
     points: &Points,
     centres: &[usize],
@@ -59,14 +97,9 @@ pub fn local_pca_counts(
     table_dist: &[f64],
     table_k: usize,
     ks: &[usize],
-    threshold: f64,
+    rule: PcaRule,
 ) -> Result<(Vec<f64>, Vec<f64>)> {
-    if !(threshold > 0.0 && threshold <= 1.0) {
-        return Err(Error::param(
-            "local_pca_variance",
-            format!("{threshold}; allowed 0 < share ≤ 1 of the variance"),
-        ));
-    }
+    let rule = rule.check()?;
     if ks.is_empty() || ks.iter().any(|&k| k == 0 || k > table_k) {
         return Err(Error::param(
             "local_pca_ks",
@@ -103,7 +136,7 @@ pub fn local_pca_counts(
                     for row in x.chunks_exact_mut(dim) {
                         row.iter_mut().zip(&mean).for_each(|(v, m)| *v -= m);
                     }
-                    components_for(&x, r, dim, threshold).map(|c| c as f64)
+                    components_for(&x, r, dim, rule).map(|c| c as f64)
                 })
                 .collect::<Result<Vec<f64>>>()
         })
@@ -142,8 +175,9 @@ mod tests {
         let pts = Points::new(800, 5, data).unwrap();
         let (idx, dist) = knn_table(&pts, 20).unwrap();
         let centres: Vec<usize> = (0..50).collect();
+        let share = PcaRule::VarianceShare(0.95);
         let (counts, radii) =
-            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[3, 10, 20], 0.95).unwrap();
+            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[3, 10, 20], share).unwrap();
         assert_eq!(counts.len(), 150);
         // Never more than the two directions that exist; with 10 or more neighbours the two
         // spreads are comparable, so both are needed (a 4-point neighbourhood may be thin).
@@ -153,7 +187,48 @@ mod tests {
             "{counts:?}"
         );
         assert!(radii[0] < radii[1] && radii[1] < radii[2]);
-        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], 0.95).is_err());
-        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], 0.0).is_err());
+        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], share).is_err());
+        let zero = PcaRule::VarianceShare(0.0);
+        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], zero).is_err());
+        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], PcaRule::EigenRatio(1.0)).is_err());
+        // Fukunaga & Olsen (1971) on the same plane: two eigenvalues of equal expected size, both
+        // far above 0.1 of the largest once the neighbourhood holds 10 or more points.
+        let (fo, _) =
+            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[10, 20], PcaRule::EigenRatio(0.1))
+                .unwrap();
+        assert!(fo.iter().all(|&c| c == 2.0), "{fo:?}");
+    }
+
+    #[test]
+    fn noisy_circle_fukunaga_olsen_reads_one() {
+        // A unit circle in 10 dimensions with isotropic Gaussian noise of SD 0.01 in every
+        // coordinate, 2000 points. Fukunaga & Olsen (1971), ratio 0.1: with 80 neighbours the
+        // arc spans about 2π·80/2000 = 0.25 in length, variance ≈ 0.25²/12 = 5.2e-3 along the
+        // tangent against 1e-4 per noise direction (ratio 0.02 < 0.1), so the count is 1. The
+        // cumulative-variance rule at 0.95 must add noise directions to reach the share
+        // (nine noise directions hold 9e-4 of 6.1e-3 = 15 % of the variance), so it reads more.
+        let mut rng = ChaCha8Rng::seed_from_u64(11);
+        let normal = rand_distr::Normal::new(0.0, 0.01).unwrap();
+        let data: Vec<f64> = (0..2000)
+            .flat_map(|_| {
+                let t = rng.gen::<f64>() * std::f64::consts::TAU;
+                let mut row = [0.0; 10];
+                row[0] = t.cos();
+                row[1] = t.sin();
+                row.iter_mut().for_each(|v| *v += rand_distr::Distribution::sample(&normal, &mut rng));
+                row
+            })
+            .collect();
+        let pts = Points::new(2000, 10, data).unwrap();
+        let (idx, dist) = knn_table(&pts, 80).unwrap();
+        let centres: Vec<usize> = (0..100).collect();
+        let mean = |rule| {
+            let (c, _) = local_pca_counts(&pts, &centres, &idx, &dist, 80, &[80], rule).unwrap();
+            c.iter().sum::<f64>() / c.len() as f64
+        };
+        let fo = mean(PcaRule::EigenRatio(0.1));
+        let share = mean(PcaRule::VarianceShare(0.95));
+        assert!((fo - 1.0).abs() < 0.15, "Fukunaga–Olsen {fo}");
+        assert!(share > 2.0, "variance share {share}");
     }
 }

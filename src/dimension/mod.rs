@@ -5,7 +5,9 @@
 //! 2000), measured on held-out points, and a [`DimensionSuite`] of five estimators — k-means
 //! scaling, TwoNN (Facco et al. 2017), MLE (Levina & Bickel 2004, MacKay & Ghahramani
 //! correction), correlation dimension (Grassberger & Procaccia 1983) and local PCA — each with a
-//! curve against scale and a bootstrap 95 % interval ([`dimension_suite`]). Point clouds from a
+//! curve against scale and a bootstrap 95 % interval ([`dimension_suite`]), a finite-sample
+//! correction against reference cubes ([`calibrate`]) and one consensus answer over a shared
+//! scale axis ([`consensus`]). Point clouds from a
 //! scalar series come from a delay embedding (Takens 1981) whose delay is the first minimum of
 //! the average mutual information (Fraser & Swinney 1986) ([`delay`]).
 
@@ -52,6 +54,8 @@ pub use knn::knn_distances;
 pub use nn_estimators::{mle, twonn};
 
 mod bootstrap;
+pub mod calibrate;
+pub mod consensus;
 mod correlation;
 pub mod delay;
 mod local_pca;
@@ -59,7 +63,9 @@ mod suite;
 
 pub use correlation::{correlation_counts, CorrelationCounts};
 pub use knn::knn_table;
-pub use local_pca::local_pca_counts;
+pub use calibrate::Correction;
+pub use consensus::{Consensus, ScaleCurve, Status};
+pub use local_pca::{local_pca_counts, PcaRule};
 pub use suite::{
     dimension_suite, subset_indices, DimensionSuite, Method, MethodEstimate, SuiteParams,
 };

@@ -15,10 +15,20 @@
 //!   k of `mle_curve_ks` against the mean distance to the k-th neighbour.
 //! - `correlation`: Grassberger & Procaccia (1983) on `correlation_refs` reference points
 //!   ([`correlation_counts`]); interval by resampling reference points.
-//! - `local_pca`: number of components carrying `local_pca_variance` of the variance in
-//!   neighbourhoods of `local_pca_ks` neighbours around `local_pca_centres` centres, against the
-//!   mean neighbourhood radius; the estimate is the median of the curve; interval by resampling
-//!   centres.
+//! - `local_pca`: Fukunaga & Olsen (1971): the number of local covariance eigenvalues above
+//!   `local_pca_ratio` of the largest, in neighbourhoods of `local_pca_ks` neighbours around
+//!   `local_pca_centres` centres, against the mean neighbourhood radius; the estimate is the
+//!   median of the curve; interval by resampling centres.
+//! - `pca_variance_share` (not run by default): the same neighbourhoods, counting components up
+//!   to `local_pca_variance` of the variance (a cumulative-variance rule).
+//!
+//! Finite-sample correction ([`super::calibrate`], on by default): TwoNN, MLE, correlation and
+//! local PCA are also run on seeded uniform cubes of known dimension with the same number of
+//! points and the same settings, and each raw estimate (and interval) is mapped through that
+//! reference curve (`corrected_d`, `corrected_ci95`; the raw values stay in `d`, `ci95`). The
+//! [`Consensus`] combines the corrected estimates with the curves on one scale axis
+//! ([`super::consensus`]). `pointwise` holds a local dimension per input point (Levina & Bickel
+//! 2004 at `mle_k2` neighbours).
 //!
 //! The four neighbour-based estimators work on a seeded random subset of at most `max_points`
 //! points (exact brute-force neighbours, O(m²·dim)); k-means has its own `max_points`. The
@@ -28,9 +38,11 @@
 //! `noise_scale` is the k-means one. Every random step derives from `seed`.
 
 use super::bootstrap::percentile_ci95;
+use super::calibrate::{correct_estimates, Correction};
+use super::consensus::{consensus, Consensus, ScaleCurve};
 use super::correlation::correlation_counts;
 use super::knn::{knn_distances, knn_table};
-use super::local_pca::local_pca_counts;
+use super::local_pca::{local_pca_counts, PcaRule};
 use super::nn_estimators::{mle_inverse, twonn_fit};
 use super::scaling::{curve_from_distortion, kmeans_scaling_errors};
 use super::{KmeansScalingParams, ScalePoint, ScalingCurve};
@@ -53,19 +65,39 @@ pub enum Method {
     Mle,
     /// Correlation dimension (Grassberger & Procaccia 1983).
     Correlation,
-    /// Local PCA with an explained-variance threshold.
+    /// Local PCA, Fukunaga & Olsen (1971) eigenvalue-ratio rule.
     LocalPca,
+    /// Local PCA counting components up to a share of the variance.
+    PcaVarianceShare,
 }
 
 impl Method {
     /// All methods, in report order.
-    pub const ALL: [Method; 5] = [
+    pub const ALL: [Method; 6] = [
+        Method::Kmeans,
+        Method::Twonn,
+        Method::Mle,
+        Method::Correlation,
+        Method::LocalPca,
+        Method::PcaVarianceShare,
+    ];
+
+    /// The methods run by default.
+    pub const DEFAULT: [Method; 5] = [
         Method::Kmeans,
         Method::Twonn,
         Method::Mle,
         Method::Correlation,
         Method::LocalPca,
     ];
+
+    /// Whether the finite-sample correction calibrates this estimator.
+    pub fn calibrated(self) -> bool {
+        matches!(
+            self,
+            Method::Twonn | Method::Mle | Method::Correlation | Method::LocalPca
+        )
+    }
 
     /// The method's name as used on the command line and as a JSON key.
     pub fn name(self) -> &'static str {
@@ -75,6 +107,7 @@ impl Method {
             Method::Mle => "mle",
             Method::Correlation => "correlation",
             Method::LocalPca => "local_pca",
+            Method::PcaVarianceShare => "pca_variance_share",
         }
     }
 
@@ -93,7 +126,7 @@ impl Method {
                         "method",
                         format!(
                             "`{part}` is not an estimator; available: kmeans, twonn, mle, \
-                             correlation, local_pca"
+                             correlation, local_pca, pca_variance_share"
                         ),
                     )
                 })?;
@@ -135,14 +168,20 @@ pub struct SuiteParams {
     pub local_pca_centres: usize,
     /// Neighbourhood sizes of the local PCA (default 10, 20, 40, 80, 160; each at least 2).
     pub local_pca_ks: Vec<usize>,
-    /// Explained-variance share of the local PCA (default 0.95; 0 < share ≤ 1).
+    /// Fukunaga–Olsen threshold: eigenvalues above this fraction of the largest count
+    /// (default 0.1; 0 < ratio < 1).
+    pub local_pca_ratio: f64,
+    /// Explained-variance share of `pca_variance_share` (default 0.95; 0 < share ≤ 1).
     pub local_pca_variance: f64,
+    /// Correct TwoNN, MLE, correlation and local PCA against uniform reference cubes (default
+    /// true).
+    pub calibrate: bool,
 }
 
 impl Default for SuiteParams {
     fn default() -> Self {
         SuiteParams {
-            methods: Method::ALL.to_vec(),
+            methods: Method::DEFAULT.to_vec(),
             bootstrap: 30,
             seed: 0,
             max_points: 5_000,
@@ -155,7 +194,9 @@ impl Default for SuiteParams {
             correlation_radii: 10,
             local_pca_centres: 200,
             local_pca_ks: vec![10, 20, 40, 80, 160],
+            local_pca_ratio: 0.1,
             local_pca_variance: 0.95,
+            calibrate: true,
         }
     }
 }
@@ -231,6 +272,15 @@ impl SuiteParams {
                 format!("{:?} neighbours; each 2 to 10000", self.local_pca_ks),
             );
         }
+        if !(self.local_pca_ratio > 0.0 && self.local_pca_ratio < 1.0) {
+            return bad(
+                "local_pca_ratio",
+                format!(
+                    "{}; allowed 0 < ratio < 1 of the largest eigenvalue",
+                    self.local_pca_ratio
+                ),
+            );
+        }
         if !(self.local_pca_variance > 0.0 && self.local_pca_variance <= 1.0) {
             return bad(
                 "local_pca_variance",
@@ -252,6 +302,15 @@ pub struct MethodEstimate {
     pub ci95: [f64; 2],
     /// Local d against scale, coarse scales first for k-means, otherwise as computed.
     pub curve: Vec<ScalePoint>,
+    /// The estimate after the finite-sample correction (equal to `d` when not calibrated).
+    #[serde(default)]
+    pub corrected_d: f64,
+    /// The interval after the correction.
+    #[serde(default)]
+    pub corrected_ci95: [f64; 2],
+    /// Whether the correction was applied, and whether it ran out of reference dimensions.
+    #[serde(default)]
+    pub correction: Correction,
 }
 
 /// Everything [`dimension_suite`] found.
@@ -273,6 +332,15 @@ pub struct DimensionSuite {
     pub noise_scale: Option<f64>,
     /// Estimators that could not run on these points, and why.
     pub failures: Vec<String>,
+    /// The one answer the estimators agree on (None when fewer than one calibrated estimator
+    /// ran).
+    #[serde(default)]
+    pub consensus: Option<Consensus>,
+    /// Local dimension per input point (Levina & Bickel 2004 at `mle_k2` neighbours, inverse of
+    /// the mean log distance ratio); NaN for points outside the neighbour subset or with
+    /// duplicates. Empty when MLE did not run.
+    #[serde(default)]
+    pub pointwise: Vec<f64>,
 }
 
 impl DimensionSuite {
@@ -318,6 +386,8 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
         kmeans: None,
         noise_scale: None,
         failures: Vec::new(),
+        consensus: None,
+        pointwise: Vec::new(),
     };
     // Seeded subset for the neighbour-based estimators.
     let order = subset_indices(points.n, p.max_points, p.seed);
@@ -326,17 +396,13 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
     let needs_table = p
         .methods
         .iter()
-        .any(|x| matches!(x, Method::Twonn | Method::Mle | Method::LocalPca));
-    let mut table_k = 2usize;
-    if p.methods.contains(&Method::Mle) {
-        table_k = table_k
-            .max(p.mle_k2)
-            .max(p.mle_curve_ks.iter().copied().max().unwrap_or(2));
-    }
-    if p.methods.contains(&Method::LocalPca) {
-        table_k = table_k.max(p.local_pca_ks.iter().copied().max().unwrap_or(2));
-    }
-    let table_k = table_k.min(m - 1);
+        .any(|x| {
+            matches!(
+                x,
+                Method::Twonn | Method::Mle | Method::LocalPca | Method::PcaVarianceShare
+            )
+        });
+    let table_k = table_size(&p.methods, p, m);
     let table = if needs_table {
         Some(knn_table(&sub, table_k)?)
     } else {
@@ -351,12 +417,10 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
                 suite.kmeans = Some(c);
                 e
             }),
-            (Method::Twonn, Some((_, dist))) => run_twonn(&sub, dist, table_k, p, &mut rng),
-            (Method::Mle, Some((_, dist))) => run_mle(dist, table_k, p, &mut rng),
-            (Method::Correlation, _) => run_correlation(&sub, p, &mut rng),
-            (Method::LocalPca, Some((idx, dist))) => {
-                run_local_pca(&sub, idx, dist, table_k, p, &mut rng)
+            (m, Some((idx, dist))) if m != Method::Correlation => {
+                run_neighbour_method(m, &sub, idx, dist, table_k, p, true, &mut rng)
             }
+            (Method::Correlation, _) => run_correlation(&sub, p, &mut rng),
             _ => Err(Error::Analysis("neighbour table missing".to_string())),
         };
         match res {
@@ -365,7 +429,122 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
             Err(e) => return Err(e),
         }
     }
+    if let (Some((_, dist)), true) = (&table, p.methods.contains(&Method::Mle)) {
+        let k = p.mle_k2.min(table_k);
+        let mut pw = vec![f64::NAN; points.n];
+        for (row, &i) in dist.chunks_exact(table_k).zip(&order) {
+            if row[0] > 0.0 && k >= 2 {
+                let inv = mle_inverse(row, k);
+                if inv > 0.0 {
+                    pw[i] = 1.0 / inv;
+                }
+            }
+        }
+        suite.pointwise = pw;
+    }
+    for e in &mut suite.estimates {
+        e.corrected_d = e.d;
+        e.corrected_ci95 = e.ci95;
+    }
+    if p.calibrate {
+        correct_estimates(&mut suite.estimates, m, points.dim, p)?;
+    }
+    let curves: Vec<ScaleCurve> = suite
+        .estimates
+        .iter()
+        .map(ScaleCurve::of_estimate)
+        .collect();
+    suite.consensus = consensus(&curves, &suite.estimates, points.dim, suite.noise_scale);
     Ok(suite)
+}
+
+/// The raw estimate of one neighbour-table method (no interval, no curve), for the reference
+/// samples of the finite-sample correction. Same code path as the suite.
+pub(crate) fn raw_estimate(
+    method: Method,
+    sub: &Points,
+    table: Option<&(Vec<usize>, Vec<f64>)>,
+    table_k: usize,
+    p: &SuiteParams,
+) -> Result<f64> {
+    let mut rng = rng_for(p.seed, method);
+    let q = SuiteParams {
+        bootstrap: 0,
+        ..p.clone()
+    };
+    match (method, table) {
+        (Method::Correlation, _) => run_correlation(sub, &q, &mut rng).map(|e| e.d),
+        (m, Some((idx, dist))) => {
+            run_neighbour_method(m, sub, idx, dist, table_k, &q, false, &mut rng).map(|e| e.d)
+        }
+        _ => Err(Error::Analysis("neighbour table missing".to_string())),
+    }
+}
+
+/// Neighbour-table size the suite uses for `methods` on `m` points.
+pub(crate) fn table_size(methods: &[Method], p: &SuiteParams, m: usize) -> usize {
+    let mut table_k = 2usize;
+    if methods.contains(&Method::Mle) {
+        table_k = table_k
+            .max(p.mle_k2)
+            .max(p.mle_curve_ks.iter().copied().max().unwrap_or(2));
+    }
+    if methods.contains(&Method::LocalPca) || methods.contains(&Method::PcaVarianceShare) {
+        table_k = table_k.max(p.local_pca_ks.iter().copied().max().unwrap_or(2));
+    }
+    table_k.min(m - 1)
+}
+
+#[allow(clippy::too_many_arguments)]
+fn run_neighbour_method(
+    method: Method,
+    sub: &Points,
+    idx: &[usize],
+    dist: &[f64],
+    table_k: usize,
+    p: &SuiteParams,
+    with_curve: bool,
+    rng: &mut ChaCha8Rng,
+) -> Result<MethodEstimate> {
+    match method {
+        Method::Twonn => run_twonn(sub, dist, table_k, p, with_curve, rng),
+        Method::Mle => run_mle(dist, table_k, p, rng),
+        Method::LocalPca => run_local_pca(
+            sub,
+            idx,
+            dist,
+            table_k,
+            p,
+            PcaRule::EigenRatio(p.local_pca_ratio),
+            rng,
+        ),
+        Method::PcaVarianceShare => run_local_pca(
+            sub,
+            idx,
+            dist,
+            table_k,
+            p,
+            PcaRule::VarianceShare(p.local_pca_variance),
+            rng,
+        ),
+        _ => Err(Error::Analysis(format!(
+            "{} does not use the neighbour table",
+            method.name()
+        ))),
+    }
+}
+
+/// A finished estimate with the correction fields equal to the raw ones.
+fn estimate(method: Method, d: f64, ci95: [f64; 2], curve: Vec<ScalePoint>) -> MethodEstimate {
+    MethodEstimate {
+        method,
+        d,
+        ci95,
+        curve,
+        corrected_d: d,
+        corrected_ci95: ci95,
+        correction: Correction::default(),
+    }
 }
 
 fn run_kmeans(
@@ -385,15 +564,7 @@ fn run_kmeans(
         }
         Some(curve_from_distortion(&c.ks, &dist).d)
     });
-    Ok((
-        MethodEstimate {
-            method: Method::Kmeans,
-            d: c.d,
-            ci95,
-            curve: c.curve.clone(),
-        },
-        c,
-    ))
+    Ok((estimate(Method::Kmeans, c.d, ci95, c.curve.clone()), c))
 }
 
 fn run_twonn(
@@ -401,6 +572,7 @@ fn run_twonn(
     dist: &[f64],
     table_k: usize,
     p: &SuiteParams,
+    with_curve: bool,
     rng: &mut ChaCha8Rng,
 ) -> Result<MethodEstimate> {
     let ratios = |d: &[f64], k: usize| -> (Vec<f64>, f64) {
@@ -424,7 +596,7 @@ fn run_twonn(
     });
     // Scale analysis: nested halvings of the (already shuffled) subset.
     let mut curve = vec![ScalePoint { scale, d }];
-    let mut size = sub.n / 2;
+    let mut size = if with_curve { sub.n / 2 } else { 0 };
     while size >= 50 {
         let idx: Vec<usize> = (0..size).collect();
         let half = sub.select(&idx);
@@ -439,12 +611,7 @@ fn run_twonn(
         size /= 2;
     }
     curve.sort_by(|a, b| b.scale.total_cmp(&a.scale));
-    Ok(MethodEstimate {
-        method: Method::Twonn,
-        d,
-        ci95,
-        curve,
-    })
+    Ok(estimate(Method::Twonn, d, ci95, curve))
 }
 
 fn run_mle(
@@ -509,12 +676,7 @@ fn run_mle(
             })
         })
         .collect();
-    Ok(MethodEstimate {
-        method: Method::Mle,
-        d,
-        ci95,
-        curve,
-    })
+    Ok(self::estimate(Method::Mle, d, ci95, curve))
 }
 
 fn run_correlation(sub: &Points, p: &SuiteParams, rng: &mut ChaCha8Rng) -> Result<MethodEstimate> {
@@ -528,12 +690,7 @@ fn run_correlation(sub: &Points, p: &SuiteParams, rng: &mut ChaCha8Rng) -> Resul
     let ci95 = percentile_ci95(rng, refs.len(), p.bootstrap, |draw| {
         c.fit(draw).map(|f| f.0)
     });
-    Ok(MethodEstimate {
-        method: Method::Correlation,
-        d,
-        ci95,
-        curve,
-    })
+    Ok(estimate(Method::Correlation, d, ci95, curve))
 }
 
 fn run_local_pca(
@@ -542,6 +699,7 @@ fn run_local_pca(
     dist: &[f64],
     table_k: usize,
     p: &SuiteParams,
+    rule: PcaRule,
     rng: &mut ChaCha8Rng,
 ) -> Result<MethodEstimate> {
     let ks: Vec<usize> = p
@@ -558,7 +716,7 @@ fn run_local_pca(
     }
     let centres: Vec<usize> = (0..p.local_pca_centres.min(sub.n)).collect();
     let (counts, radii) =
-        local_pca_counts(sub, &centres, idx, dist, table_k, &ks, p.local_pca_variance)?;
+        local_pca_counts(sub, &centres, idx, dist, table_k, &ks, rule)?;
     let nk = ks.len();
     let curve_of = |which: &[usize]| -> Vec<f64> {
         (0..nk)
@@ -576,10 +734,9 @@ fn run_local_pca(
         .zip(&means)
         .map(|(&scale, &d)| ScalePoint { scale, d })
         .collect();
-    Ok(MethodEstimate {
-        method: Method::LocalPca,
-        d,
-        ci95,
-        curve,
-    })
+    let method = match rule {
+        PcaRule::EigenRatio(_) => Method::LocalPca,
+        PcaRule::VarianceShare(_) => Method::PcaVarianceShare,
+    };
+    Ok(estimate(method, d, ci95, curve))
 }

@@ -27,7 +27,11 @@ pub fn dimension_json(
         est.insert(
             e.method.name().to_string(),
             json!({"d": num(e.d), "estimate": num(e.d),
-                   "ci95": [num(e.ci95[0]), num(e.ci95[1])], "curve": curve(&e.curve)}),
+                   "ci95": [num(e.ci95[0]), num(e.ci95[1])], "curve": curve(&e.curve),
+                   "corrected": {"d": num(e.corrected_d),
+                                 "ci95": [num(e.corrected_ci95[0]), num(e.corrected_ci95[1])],
+                                 "applied": e.correction.applied,
+                                 "at_cap": e.correction.at_cap}}),
         );
     }
     json!({
@@ -39,9 +43,36 @@ pub fn dimension_json(
         "scale_curve": s.kmeans.as_ref().map_or(Vec::new(), |k| curve(&k.curve)),
         "noise_scale": s.noise_scale.map_or(serde_json::Value::Null, num),
         "failures": s.failures,
+        "consensus": consensus_json(s.consensus.as_ref()),
         "source": source,
         "notice": NOTICE,
     })
+}
+
+/// JSON of a consensus answer: `{"d", "ci95", "scale_range": [lo, hi] | null, "status",
+/// "reason", "noise_scale", "members", "sentence"}`, or `null`.
+pub fn consensus_json(c: Option<&crate::dimension::Consensus>) -> serde_json::Value {
+    let num = |x: f64| {
+        if x.is_finite() {
+            json!(x)
+        } else {
+            serde_json::Value::Null
+        }
+    };
+    match c {
+        None => serde_json::Value::Null,
+        Some(c) => json!({
+            "d": num(c.d),
+            "ci95": [num(c.ci95[0]), num(c.ci95[1])],
+            "scale_range": c.scale_range.map(|r| json!([num(r[0]), num(r[1])])),
+            "plateau_d": c.plateau_d.map(num),
+            "noise_scale": c.noise_scale.map(num),
+            "status": c.status,
+            "reason": c.reason,
+            "members": c.members,
+            "sentence": c.sentence(),
+        }),
+    }
 }
 
 /// Default sliding window of the windowed variability (`5m`: five minutes).

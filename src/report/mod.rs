@@ -22,6 +22,7 @@ pub mod json_views;
 /// The embedded figure font, shared with other figure writers (e.g. the cohort's).
 pub(crate) use figures::{ensure_font, FONT};
 mod h5;
+mod h5_dimension;
 mod html;
 mod interactive;
 mod summary;

@@ -116,6 +116,9 @@ pub fn summary_json(a: &Analysis) -> Value {
             "n_used": a.dimension_suite.as_ref().map(|s| s.n_used),
             "bootstrap": a.dimension_suite.as_ref().map(|s| s.bootstrap),
             "methods": suite_methods(a),
+            "consensus": super::json_views::consensus_json(
+                a.dimension_suite.as_ref().and_then(|s| s.consensus.as_ref())
+            ),
         },
         "parameters": a.parameters,
         // Wall time is left out so that the same input and seed give a byte-identical file; it is

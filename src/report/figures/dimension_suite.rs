@@ -1,5 +1,6 @@
-//! Figure of the dimension suite: local dimension against scale for every estimator together,
-//! with bootstrap intervals of the estimates and the noise-dominated regime shaded.
+//! Figure of the dimension suite: local dimension against scale for every estimator together on
+//! one log scale axis (ticks at powers of ten), the consensus plateau shaded with its d, the noise
+//! scale marked, and a legend outside the data with raw and corrected estimates and intervals.
 //!
 //! In: a [`DimensionSuite`] (read only). Out: an SVG document or a PNG file (1800 × 1000 px),
 //! drawn with plotters using the embedded font of `style.rs` and the Okabe & Ito (2008)
@@ -21,12 +22,13 @@ const SIZE: (u32, u32) = (1800, 1000);
 const D_TOP: f64 = 50.0;
 const GREY: RGBColor = RGBColor(90, 90, 90);
 /// Okabe & Ito (2008) hues, one per method, in [`Method::ALL`] order.
-const HUES: [RGBColor; 5] = [
+const HUES: [RGBColor; 6] = [
     RGBColor(0, 114, 178),   // blue: k-means
     RGBColor(213, 94, 0),    // vermillion: TwoNN
     RGBColor(0, 158, 115),   // bluish green: MLE
     RGBColor(204, 121, 167), // reddish purple: correlation
     RGBColor(230, 159, 0),   // orange: local PCA
+    RGBColor(86, 180, 233),  // sky blue: PCA variance share
 ];
 
 fn hue(m: Method) -> RGBColor {
@@ -40,7 +42,8 @@ fn label(m: Method) -> &'static str {
         Method::Twonn => "TwoNN",
         Method::Mle => "MLE (Levina–Bickel)",
         Method::Correlation => "correlation dimension",
-        Method::LocalPca => "local PCA",
+        Method::LocalPca => "local PCA (Fukunaga–Olsen)",
+        Method::PcaVarianceShare => "PCA, 95 % variance share",
     }
 }
 
@@ -56,6 +59,9 @@ fn marker<DB: DrawingBackend>(
         Method::Mle => Rectangle::new([(x - 7, y - 7), (x + 7, y + 7)], s).into_dyn(),
         Method::Correlation => Cross::new((x, y), 9, c.stroke_width(3)).into_dyn(),
         Method::LocalPca => Circle::new((x, y), 9, c.stroke_width(3)).into_dyn(),
+        Method::PcaVarianceShare => {
+            Rectangle::new([(x - 7, y - 7), (x + 7, y + 7)], c.stroke_width(3)).into_dyn()
+        }
     }
 }
 
@@ -65,7 +71,22 @@ fn ctx<T, E: std::fmt::Display>(r: std::result::Result<T, E>) -> std::result::Re
     r.map_err(|e| format!("drawing failed: {e}"))
 }
 
-/// Draw the suite figure on a whole canvas of the report's figure size.
+/// Label of a power of ten 10^k.
+fn pow10_label(k: i32) -> String {
+    if (0..=4).contains(&k) {
+        format!("{}", 10i64.pow(k as u32))
+    } else if (-4..0).contains(&k) {
+        format!("{:.*}", (-k) as usize, 10f64.powi(k))
+    } else {
+        format!("1e{k}")
+    }
+}
+
+/// Draw the suite figure on a whole canvas of the report's figure size: the curves on a log
+/// scale axis with ticks at powers of ten, the consensus plateau shaded with its d as a dashed
+/// line, the noise scale as a vertical line with the finer scales tinted, and to the right,
+/// outside the data, a legend that lists every estimator's raw and corrected estimate with its
+/// interval.
 pub(super) fn draw_suite<DB: DrawingBackend>(
     s: &DimensionSuite,
     root: &DrawingArea<DB, Shift>,
@@ -77,6 +98,7 @@ pub(super) fn draw_suite<DB: DrawingBackend>(
         (24, 8),
         (FONT, 24).into_font().color(&GREY),
     )))?;
+    let (plot, side) = body.split_horizontally(1200);
     let title = format!(
         "Local dimension against scale ({} points in {} dimensions)",
         s.n, s.ambient_dim
@@ -104,106 +126,149 @@ pub(super) fn draw_suite<DB: DrawingBackend>(
         ctx(body.draw(&Text::new(title, (40, 30), (FONT, 40).into_font())))?;
         return ctx(body.draw(&Text::new("no curve values to show", (500, 450), style)));
     }
-    let pad = ((x1 - x0) * 0.05).max(0.05);
-    let (x0, x1) = (x0 - pad, x1 + pad);
+    // Whole decades, so the axis always shows at least two powers of ten.
+    let (k0, k1) = (x0.floor() as i32, (x1.ceil() as i32).max(x0.floor() as i32 + 1));
+    let (x0, x1) = (k0 as f64, k1 as f64);
+    let n_ticks = (k1 - k0 + 1) as usize;
+    let cons = s.consensus.as_ref();
     let d_max = series
         .iter()
         .flat_map(|(_, p)| p.iter().map(|q| q.1))
-        .chain(
-            s.estimates
-                .iter()
-                .map(|e| e.ci95[1])
-                .filter(|v| v.is_finite()),
-        )
+        .chain(cons.map(|c| c.d))
         .fold(1.0f64, f64::max)
         .min(D_TOP);
     let y1 = (d_max * 1.1).ceil();
-    let mut chart = ctx(ChartBuilder::on(&body)
-        .caption(title, (FONT, 40))
+    let mut chart = ctx(ChartBuilder::on(&plot)
+        .caption(title, (FONT, 36))
         .margin(24)
         .x_label_area_size(90)
-        .y_label_area_size(110)
+        .y_label_area_size(100)
         .build_cartesian_2d(x0..x1, 0.0..y1))?;
     ctx(chart
         .configure_mesh()
         .x_desc("Scale (input units, log axis)")
         .y_desc("Local dimension d")
-        .axis_desc_style((FONT, 34))
+        .axis_desc_style((FONT, 32))
         .label_style((FONT, 28))
         .light_line_style(RGBColor(235, 235, 235))
-        .x_labels(6)
         .y_labels(8)
-        .x_label_formatter(&|v| format!("{:.3e}", 10f64.powf(*v)))
+        .x_labels(n_ticks)
+        .x_label_formatter(&|v| {
+            if (v - v.round()).abs() < 1e-9 {
+                pow10_label(v.round() as i32)
+            } else {
+                String::new()
+            }
+        })
         .draw())?;
-    if let Some(ns) = s
-        .noise_scale
+    let noise = s
+        .consensus
+        .as_ref()
+        .and_then(|c| c.noise_scale)
+        .or(s.noise_scale)
         .filter(|v| v.is_finite() && *v > 0.0)
         .map(f64::log10)
-        .filter(|&v| v > x0)
-    {
+        .filter(|&v| v > x0 && v < x1);
+    if let Some(ns) = noise {
         ctx(chart.draw_series(std::iter::once(Rectangle::new(
-            [(x0, 0.0), (ns.min(x1), y1)],
-            RGBColor(230, 159, 0).mix(0.18).filled(),
-        ))))?
-        .label("noise-dominated scales (k-means)")
-        .legend(|(x, y)| {
-            Rectangle::new(
-                [(x, y - 10), (x + 44, y + 10)],
-                RGBColor(230, 159, 0).mix(0.35).filled(),
-            )
-        });
+            [(x0, 0.0), (ns, y1)],
+            RGBColor(230, 159, 0).mix(0.12).filled(),
+        ))))?;
+        ctx(chart.draw_series(std::iter::once(PathElement::new(
+            vec![(ns, 0.0), (ns, y1)],
+            RGBColor(213, 94, 0).stroke_width(3),
+        ))))?;
+    }
+    if let Some(c) = cons {
+        if let Some([lo, hi]) = c.scale_range.filter(|r| r[0] > 0.0 && r[1] > 0.0) {
+            let (a, b) = (lo.log10().max(x0), hi.log10().min(x1));
+            ctx(chart.draw_series(std::iter::once(Rectangle::new(
+                [(a, 0.0), (b, y1)],
+                RGBColor(0, 114, 178).mix(0.10).filled(),
+            ))))?;
+            if c.d.is_finite() {
+                ctx(chart.draw_series(DashedLineSeries::new(
+                    vec![(a, c.d.min(D_TOP)), (b, c.d.min(D_TOP))],
+                    12,
+                    8,
+                    BLACK.stroke_width(3),
+                )))?;
+            }
+        }
     }
     for (m, pts) in &series {
         let c = hue(*m);
-        let est = s.get(*m);
-        let text = match est {
-            Some(e) if e.ci95[0].is_finite() => format!(
-                "{}: d = {:.2} [{:.2}, {:.2}]",
-                label(*m),
-                e.d,
-                e.ci95[0],
-                e.ci95[1]
-            ),
-            Some(e) => format!("{}: d = {:.2}", label(*m), e.d),
-            None => label(*m).to_string(),
-        };
         let style = ShapeStyle {
             color: c.to_rgba(),
             filled: false,
             stroke_width: 3,
         };
         let mm = *m;
-        ctx(chart.draw_series(LineSeries::new(pts.clone(), style)))?
-            .label(text)
-            .legend(move |(x, y)| {
-                EmptyElement::at((x + 22, y))
-                    + PathElement::new(vec![(-22, 0), (22, 0)], style)
-                    + marker::<DB>(mm, (0, 0), c)
-            });
+        ctx(chart.draw_series(LineSeries::new(pts.clone(), style)))?;
         ctx(chart.draw_series(
             pts.iter()
                 .map(|&p| EmptyElement::at(p) + marker::<DB>(mm, (0, 0), c)),
         ))?;
-        // The estimate and its interval as a band at the right edge.
-        if let Some(e) = est.filter(|e| e.ci95[0].is_finite() && e.ci95[1].is_finite()) {
-            // One bar per method, side by side in the right margin.
-            let slot = Method::ALL.iter().position(|&x| x == *m).unwrap_or(0) as f64;
-            let xr = x1 - pad * (0.15 + 0.17 * slot);
-            ctx(chart.draw_series(std::iter::once(PathElement::new(
-                vec![(xr, e.ci95[0].min(D_TOP)), (xr, e.ci95[1].min(D_TOP))],
-                c.stroke_width(6),
-            ))))?;
-        }
     }
-    ctx(chart
-        .configure_series_labels()
-        .position(SeriesLabelPosition::UpperRight)
-        .background_style(WHITE.mix(0.85))
-        .border_style(GREY)
-        .label_font((FONT, 26))
-        .legend_area_size(64)
-        .margin(12)
-        .draw())
+    // Legend, outside the data.
+    let font = (FONT, 24).into_font();
+    let small = (FONT, 21).into_font().color(&GREY);
+    let mut y = 60;
+    ctx(side.draw(&Text::new("estimate: raw → corrected [95 %]", (10, y), font.clone())))?;
+    y += 44;
+    let num = |v: f64| {
+        if v.is_finite() {
+            format!("{v:.2}")
+        } else {
+            "–".to_string()
+        }
+    };
+    for e in &s.estimates {
+        let c = hue(e.method);
+        ctx(side.draw(&PathElement::new(vec![(10, y + 12), (60, y + 12)], c.stroke_width(3))))?;
+        ctx(side.draw(&(EmptyElement::at((35, y + 12)) + marker::<DB>(e.method, (0, 0), c))))?;
+        ctx(side.draw(&Text::new(label(e.method), (72, y), font.clone())))?;
+        let line = if e.correction.applied {
+            format!(
+                "{} → {} [{}, {}]{}",
+                num(e.d),
+                num(e.corrected_d),
+                num(e.corrected_ci95[0]),
+                num(e.corrected_ci95[1]),
+                if e.correction.at_cap { " (cap)" } else { "" }
+            )
+        } else {
+            format!("{} [{}, {}] (not corrected)", num(e.d), num(e.ci95[0]), num(e.ci95[1]))
+        };
+        ctx(side.draw(&Text::new(line, (72, y + 30), small.clone())))?;
+        y += 76;
+    }
+    if let Some(c) = cons {
+        ctx(side.draw(&Rectangle::new(
+            [(10, y), (60, y + 24)],
+            RGBColor(0, 114, 178).mix(0.25).filled(),
+        )))?;
+        ctx(side.draw(&Text::new(
+            format!("consensus: d = {} ({:?})", num(c.d), c.status).to_lowercase(),
+            (72, y),
+            font.clone(),
+        )))?;
+        ctx(side.draw(&Text::new(
+            format!("[{}, {}], plateau shaded", num(c.ci95[0]), num(c.ci95[1])),
+            (72, y + 30),
+            small.clone(),
+        )))?;
+        y += 76;
+    }
+    if noise.is_some() {
+        ctx(side.draw(&PathElement::new(
+            vec![(35, y), (35, y + 28)],
+            RGBColor(213, 94, 0).stroke_width(3),
+        )))?;
+        ctx(side.draw(&Text::new("noise scale; noise-dominated", (72, y), font.clone())))?;
+        ctx(side.draw(&Text::new("scales tinted to its left", (72, y + 30), small)))?;
+    }
+    Ok(())
 }
 
 /// The suite figure as an SVG document.
@@ -262,6 +327,12 @@ mod tests {
                     d: d + 3.0,
                 },
             ],
+            corrected_d: d * 1.1,
+            corrected_ci95: [d, d * 1.2],
+            correction: crate::dimension::Correction {
+                applied: true,
+                at_cap: false,
+            },
         };
         let s = DimensionSuite {
             n: 100,
@@ -272,12 +343,17 @@ mod tests {
             kmeans: None,
             noise_scale: Some(0.1),
             failures: vec![],
+            consensus: None,
+            pointwise: vec![],
         };
         let svg = render_suite_svg(&s).unwrap();
         for m in Method::ALL {
             assert!(svg.contains(label(m)), "{m:?}");
         }
         assert!(svg.contains("noise-dominated"));
+        // Power-of-ten ticks, not 1.000e-1.
+        assert!(svg.contains(">0.1<") || svg.contains(">0.01<"), "ticks");
+        assert!(!svg.contains("e-1<"));
         assert!(svg.contains("research use") || svg.contains("Research use"));
         let dir = tempfile::tempdir().unwrap();
         let files = write_suite_figure(&s, &dir.path().join("dims")).unwrap();

@@ -1,0 +1,232 @@
+//! Finite-sample correction of the dimension estimators against reference samples of known
+//! dimension.
+//!
+//! Every neighbour-based estimator reads low when the dimension is high compared with the number
+//! of points: neighbourhoods of k points in a d-dimensional set reach its boundary and do not
+//! fill their ball (Eckmann & Ruelle 1992 give the bound for the correlation dimension,
+//! d < 2·log₁₀ N). The correction follows the calibration idea of Camastra & Vinciarelli (2002),
+//! who map a correlation-dimension estimate through its values on uniform hypercubes, and of the
+//! MiND and DANCo estimators (Rozza et al. 2012; Ceruti et al. 2014), which compare statistics of
+//! the data with those of reference samples of known dimension drawn at the same N and k.
+//!
+//! Rule (ours, from those sources): for an estimator with the suite's settings and m points, its
+//! reference curve g(δ) is the raw estimate on m points drawn uniformly from the unit cube
+//! [0, 1]^δ (seeded by m and δ only, so the same data always get the same correction), for δ on
+//! the ladder 1, 2, …, 12, then ×1.12 (rounded up), ending at the ambient dimension D (a set in
+//! D coordinates cannot have a larger dimension). g is made non-decreasing (running maximum). A
+//! raw value r maps to the δ where g(δ) = r by linear interpolation between ladder steps; below
+//! g(1) to r / g(1); above g(D) to D, marked `at_cap`. The ladder stops early once every raw
+//! value and interval end lies below g(δ). Reference estimates are cached in memory for the life
+//! of the process (keyed by m, δ and the estimator settings), so a second call costs nothing.
+//!
+//! The reference is a cube because the benchmark sets and real point clouds are bounded; a ball
+//! (the DANCo choice) has less boundary and would correct less.
+
+use super::knn::knn_table;
+use super::suite::{raw_estimate, table_size, Method, MethodEstimate, SuiteParams};
+use crate::error::Result;
+use crate::points::Points;
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+use serde::{Deserialize, Serialize};
+use std::collections::HashMap;
+use std::sync::{Mutex, OnceLock};
+
+/// How an estimate was corrected.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+pub struct Correction {
+    /// The reference calibration was applied.
+    pub applied: bool,
+    /// The raw estimate exceeded the reference value at the ambient dimension, so the corrected
+    /// value is the ambient dimension (a lower bound, not an estimate).
+    pub at_cap: bool,
+}
+
+type CacheKey = (Method, usize, usize, String);
+
+fn cache() -> &'static Mutex<HashMap<CacheKey, Option<f64>>> {
+    static CACHE: OnceLock<Mutex<HashMap<CacheKey, Option<f64>>>> = OnceLock::new();
+    CACHE.get_or_init(|| Mutex::new(HashMap::new()))
+}
+
+/// The settings an estimator's raw value depends on (besides m and δ), as a cache key.
+fn settings_key(p: &SuiteParams) -> String {
+    format!(
+        "{}|{}|{}|{:?}|{}|{}|{}|{:?}|{}",
+        p.twonn_discard,
+        p.mle_k1,
+        p.mle_k2,
+        p.mle_curve_ks,
+        p.correlation_refs,
+        p.correlation_radii,
+        p.local_pca_centres,
+        p.local_pca_ks,
+        p.local_pca_ratio
+    )
+}
+
+/// Ladder of reference dimensions up to `ambient` (see the module notes).
+pub(crate) fn ladder(ambient: usize) -> Vec<usize> {
+    let mut out = Vec::new();
+    let mut d = 1usize;
+    while d < ambient {
+        out.push(d);
+        d = if d < 12 {
+            d + 1
+        } else {
+            ((d as f64) * 1.12).ceil() as usize
+        };
+    }
+    out.push(ambient.max(1));
+    out
+}
+
+/// m points uniform in [0, 1]^δ, seeded by m and δ.
+fn reference_cube(m: usize, delta: usize) -> Points {
+    let seed = 0x00C0_FFEE_u64 ^ ((m as u64) << 20) ^ (delta as u64);
+    let mut rng = ChaCha8Rng::seed_from_u64(seed);
+    let data = (0..m * delta).map(|_| rng.gen::<f64>()).collect();
+    // Shape is consistent by construction.
+    Points::new(m, delta, data).expect("reference cube shape")
+}
+
+/// Raw estimates of `methods` on the reference cube of dimension δ with m points (cached).
+fn reference_values(
+    methods: &[Method],
+    m: usize,
+    delta: usize,
+    p: &SuiteParams,
+) -> Result<Vec<Option<f64>>> {
+    let key = settings_key(p);
+    let missing: Vec<Method> = {
+        let c = cache().lock().unwrap_or_else(|e| e.into_inner());
+        methods
+            .iter()
+            .copied()
+            .filter(|&x| !c.contains_key(&(x, m, delta, key.clone())))
+            .collect()
+    };
+    if !missing.is_empty() {
+        let pts = reference_cube(m, delta);
+        let needs_table = missing.iter().any(|&x| x != Method::Correlation);
+        let tk = table_size(&missing, p, m);
+        let table = if needs_table {
+            Some(knn_table(&pts, tk)?)
+        } else {
+            None
+        };
+        let mut found = Vec::new();
+        for &x in &missing {
+            let v = raw_estimate(x, &pts, table.as_ref(), tk, p)
+                .ok()
+                .filter(|v| v.is_finite());
+            found.push((x, v));
+        }
+        let mut c = cache().lock().unwrap_or_else(|e| e.into_inner());
+        for (x, v) in found {
+            c.insert((x, m, delta, key.clone()), v);
+        }
+    }
+    let c = cache().lock().unwrap_or_else(|e| e.into_inner());
+    Ok(methods
+        .iter()
+        .map(|&x| c.get(&(x, m, delta, key.clone())).copied().flatten())
+        .collect())
+}
+
+/// Map `r` through the reference curve (δ ascending, g non-decreasing). Returns (value, at_cap).
+pub(crate) fn invert(deltas: &[f64], g: &[f64], r: f64) -> (f64, bool) {
+    if !r.is_finite() || g.is_empty() {
+        return (r, false);
+    }
+    if r <= g[0] {
+        return (if g[0] > 0.0 { r / g[0] * deltas[0] } else { r }, false);
+    }
+    for i in 1..g.len() {
+        if r <= g[i] {
+            let t = if g[i] > g[i - 1] {
+                (r - g[i - 1]) / (g[i] - g[i - 1])
+            } else {
+                0.0
+            };
+            return (deltas[i - 1] + t * (deltas[i] - deltas[i - 1]), false);
+        }
+    }
+    (deltas[deltas.len() - 1], true)
+}
+
+/// Correct the calibrated estimates in place (`m` points used, `ambient` coordinates).
+pub(crate) fn correct_estimates(
+    estimates: &mut [MethodEstimate],
+    m: usize,
+    ambient: usize,
+    p: &SuiteParams,
+) -> Result<()> {
+    let methods: Vec<Method> = estimates
+        .iter()
+        .map(|e| e.method)
+        .filter(|x| x.calibrated())
+        .collect();
+    if methods.is_empty() || m < 20 {
+        return Ok(());
+    }
+    // Largest raw value each method must reach on the ladder.
+    let target: Vec<f64> = methods
+        .iter()
+        .map(|&x| {
+            let e = estimates.iter().find(|e| e.method == x);
+            e.map_or(0.0, |e| {
+                [e.d, e.ci95[0], e.ci95[1]]
+                    .into_iter()
+                    .filter(|v| v.is_finite())
+                    .fold(0.0, f64::max)
+            })
+        })
+        .collect();
+    let mut deltas = Vec::new();
+    let mut curves: Vec<Vec<f64>> = vec![Vec::new(); methods.len()];
+    for delta in ladder(ambient) {
+        let vals = reference_values(&methods, m, delta, p)?;
+        deltas.push(delta as f64);
+        for (c, v) in curves.iter_mut().zip(vals) {
+            let last = c.last().copied().unwrap_or(0.0);
+            c.push(v.unwrap_or(last).max(last));
+        }
+        if curves.iter().zip(&target).all(|(c, &t)| c[c.len() - 1] > t) {
+            break;
+        }
+    }
+    for e in estimates.iter_mut() {
+        let Some(i) = methods.iter().position(|&x| x == e.method) else {
+            continue;
+        };
+        let g = &curves[i];
+        let (d, at_cap) = invert(&deltas, g, e.d);
+        e.corrected_d = d;
+        e.corrected_ci95 = [invert(&deltas, g, e.ci95[0]).0, invert(&deltas, g, e.ci95[1]).0];
+        e.correction = Correction {
+            applied: true,
+            at_cap,
+        };
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ladder_and_inversion() {
+        assert_eq!(ladder(3), vec![1, 2, 3]);
+        let l = ladder(70);
+        assert_eq!(l[..12], (1..=12).collect::<Vec<_>>()[..]);
+        assert_eq!(*l.last().unwrap(), 70);
+        assert!(l.windows(2).all(|w| w[1] > w[0]));
+        let deltas = [1.0, 2.0, 3.0];
+        let g = [0.9, 1.8, 2.4];
+        assert!((invert(&deltas, &g, 0.45).0 - 0.5).abs() < 1e-12);
+        assert!((invert(&deltas, &g, 2.1).0 - 2.5).abs() < 1e-12);
+        assert_eq!(invert(&deltas, &g, 2.5), (3.0, true));
+    }
+}
