@@ -594,10 +594,8 @@ pub fn analyze(
         beats::score(&r, &b.samples, rec.fs_hz, p.score_window_s)
     });
     let separation = crate::separate::protocol::within_analysed(
-        &rec.name,
-        &reference.beats,
+        rec,
         &b.samples,
-        rec.fs_hz,
         p.score_window_s,
         &feats,
         &embedding,

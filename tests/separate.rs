@@ -118,18 +118,28 @@ fn bad_input_gets_clear_errors() {
         "{e}"
     );
     let one = labelled_beats(&record(32, 2.0, 0.0), &p, None).unwrap();
-    let e = within_record(&[one.clone()], &p, &SeparateParams::default())
+    let e = within_record(std::slice::from_ref(&one), &p, &SeparateParams::default())
         .unwrap_err()
         .to_string();
     assert!(e.contains("at least two classes"), "{e}");
     let two = labelled_beats(&record(33, 2.0, 0.1), &p, None).unwrap();
-    let e = inter_patient(&[one], &[two.clone()], &p, &SeparateParams::default())
-        .unwrap_err()
-        .to_string();
+    let e = inter_patient(
+        &[one],
+        std::slice::from_ref(&two),
+        &p,
+        &SeparateParams::default(),
+    )
+    .unwrap_err()
+    .to_string();
     assert!(e.contains("fit beats") && e.contains("two classes"), "{e}");
-    let e = inter_patient(&[two.clone()], &[two], &p, &SeparateParams::default())
-        .unwrap_err()
-        .to_string();
+    let e = inter_patient(
+        std::slice::from_ref(&two),
+        std::slice::from_ref(&two),
+        &p,
+        &SeparateParams::default(),
+    )
+    .unwrap_err()
+    .to_string();
     assert!(e.contains("both the fit and the test set"), "{e}");
     // A table whose rows match no beat of the record.
     let t = beat_table::parse(Path::new("far.csv"), "sample,x\n99999999,1\n").unwrap();
@@ -200,6 +210,30 @@ fn command_reports_spaces_and_table_gaps() {
     assert!(
         !o.status.success() && err.contains("no `record` column"),
         "{err}"
+    );
+    // analyze writes the record's within-record separation where reference labels exist.
+    let o = beatfold(
+        &["analyze", "a.csv", "--out", "out", "--figures", "trace"],
+        d,
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let sj: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("out/summary.json")).unwrap())
+            .unwrap();
+    assert_eq!(sj["separation"]["protocol"], "within-record");
+    assert!(
+        sj["separation"]["spaces"]["diffusion"]["classes"]["V"]["n"]
+            .as_u64()
+            .unwrap()
+            > 0
+    );
+    let html = std::fs::read_to_string(d.join("out/report.html")).unwrap();
+    assert!(html.contains("Beat-class separation (within-record)"));
+    let o = beatfold(&["inspect", "out/results.h5"], d);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        text.contains("separation") && text.contains("confusion"),
+        "{text}"
     );
     // Options that cannot apply together are refused.
     let o = beatfold(

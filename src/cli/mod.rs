@@ -277,9 +277,7 @@ pub enum Command {
     /// cohort table (cohort.csv, cohort.h5), a cohort page and one shared embedding. Resumable;
     /// `--shard I/N` for a cluster, then `beatfold cohort merge OUT`.
     Cohort(cohort::CohortArgs),
-    /// How well beat descriptions separate reference beat classes (N, S, V, F, Q): a
-    /// nearest-neighbour vote within each record, or fitted on some records (--fit) and scored
-    /// on others (--test). A research bench, not a beat classifier.
+    /// Beat-class separation within records or across patients (research bench, not a classifier).
     Separate(separate::SeparateArgs),
     /// Print a readable summary of an HDF5 file, such as a results file.
     Inspect {

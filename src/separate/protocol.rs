@@ -362,7 +362,7 @@ fn space_votes(
     fit_class: &[BeatClass],
     test: Option<&Points>,
     k: usize,
-) -> Result<Vec<(BeatClass, [f64; 5])>> {
+) -> Result<Votes> {
     match test {
         Some(t) => {
             let k = k.min(fit.n);
@@ -376,6 +376,9 @@ fn space_votes(
         }
     }
 }
+
+/// One vote per beat: the voted class and the share of neighbours in each class.
+type Votes = Vec<(BeatClass, [f64; 5])>;
 
 fn counts_of<'a>(r: impl Iterator<Item = &'a LabelledBeats>) -> Vec<(String, BeatCounts)> {
     r.map(|l| (l.record.clone(), l.counts.clone())).collect()
@@ -429,9 +432,9 @@ pub fn within_record(
         )));
     }
     // Per record: the feature sets and, per set and space, the votes.
-    let per_record: Vec<Vec<(String, Vec<(BeatClass, [f64; 5])>)>> = scored
+    let per_record: Vec<Vec<(String, Votes)>> = scored
         .par_iter()
-        .map(|r| -> Result<Vec<(String, Vec<(BeatClass, [f64; 5])>)>> {
+        .map(|r| -> Result<Vec<(String, Votes)>> {
             let mut out = Vec::new();
             for set in feature_sets(&[r], None, sp.table_mode)? {
                 for &space in &sp.spaces {
@@ -555,19 +558,18 @@ pub fn inter_patient(
 
 /// Within-record separation of one analysed record from what `analyze` already computed: its
 /// feature rows, their diffusion coordinates and PCA baseline scores (row i ↔ feature row i),
-/// the detected beat samples (`beat_index` of the rows refers to them) and the reference beats.
-/// No space is refitted. `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
+/// the detected beat samples (`beat_index` of the rows refers to them) and the reference beats
+/// of `rec`. No space is refitted. `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
 /// they hold a single class.
 pub fn within_analysed(
-    record: &str,
-    reference: &[crate::record::BeatAnnotation],
+    rec: &crate::record::Record,
     beat_samples: &[usize],
-    fs_hz: f64,
     window_s: f64,
     features: &crate::features::Features,
     embedding: &crate::embed::Embedding,
     vote_neighbors: usize,
 ) -> Result<Option<Separation>> {
+    let (record, reference, fs_hz) = (&rec.name, &rec.annotations.beats, rec.fs_hz);
     if reference.is_empty() || features.points.n == 0 {
         return Ok(None);
     }
@@ -616,12 +618,12 @@ pub fn within_analysed(
         protocol: Protocol::WithinRecord,
         vote_neighbors,
         spaces,
-        fit_records: vec![record.to_string()],
+        fit_records: vec![record.clone()],
         test_records: Vec::new(),
         notes: Vec::new(),
         map: None,
         records: vec![(
-            record.to_string(),
+            record.clone(),
             BeatCounts {
                 reference: reference.len(),
                 detected: beat_samples.len(),
