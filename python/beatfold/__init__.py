@@ -115,7 +115,10 @@ def detect_beats(signal, fs_hz, **params):
     ``beat_agreement`` and ``primary_detector``.
     """
     a = _np.asarray(signal)
-    a = _float_array(a, "signal", 2 if a.ndim == 2 else 1)
+    if a.ndim not in (1, 2):
+        raise ValueError(f"signal: expected samples (1-D) or samples x leads (2-D), got shape "
+                         f"{a.shape}")
+    a = _float_array(a, "signal", a.ndim)
     out = _native.detect_beats(a, float(fs_hz), _config(params))
     out["labels"] = _np.array(list(out["labels"]), dtype="<U1")
     return out

@@ -76,6 +76,25 @@ fn matrix_of(x: &Bound<'_, PyAny>, what: &str) -> PyResult<(usize, usize, Vec<f6
     )))
 }
 
+/// The columns of a 2-D float32/float64 array (samples × leads), each copied once.
+fn columns_of(x: &Bound<'_, PyAny>, what: &str) -> PyResult<Vec<Vec<f64>>> {
+    if let Ok(a) = x.extract::<PyReadonlyArray2<'_, f64>>() {
+        let v = a.as_array();
+        return Ok(v.columns().into_iter().map(|c| c.to_vec()).collect());
+    }
+    if let Ok(a) = x.extract::<PyReadonlyArray2<'_, f32>>() {
+        let v = a.as_array();
+        return Ok(v
+            .columns()
+            .into_iter()
+            .map(|c| c.iter().map(|&t| f64::from(t)).collect())
+            .collect());
+    }
+    Err(bad_value(format!(
+        "{what}: expected a 1-D or 2-D float32 or float64 array (samples × leads)"
+    )))
+}
+
 /// `f64` values of a 1-D float32/float64 array (one copy).
 fn vector_of(x: &Bound<'_, PyAny>, what: &str) -> PyResult<Vec<f64>> {
     if let Ok(a) = x.extract::<PyReadonlyArray1<'_, f64>>() {
@@ -215,26 +234,28 @@ fn detect_beats<'py>(
             format!("{fs_hz} Hz; the sampling rate must be a finite number above 0 Hz"),
         )));
     }
-    let (n, nl, data) = match vector_of(signal, "signal") {
-        Ok(v) => (v.len(), 1, v),
-        Err(_) => matrix_of(signal, "signal")?,
+    // Each lead is copied once, straight from the array into its own vector.
+    let columns: Vec<Vec<f64>> = match vector_of(signal, "signal") {
+        Ok(v) => vec![v],
+        Err(_) => columns_of(signal, "signal")?,
     };
-    if let Some(pos) = data.iter().position(|v| !v.is_finite()) {
-        return Err(bad_value(format!(
-            "signal: sample {} of lead {} is not finite",
-            pos / nl.max(1),
-            pos % nl.max(1)
-        )));
+    for (j, c) in columns.iter().enumerate() {
+        if let Some(i) = c.iter().position(|v| !v.is_finite()) {
+            return Err(bad_value(format!(
+                "signal: sample {i} of lead {j} is not finite"
+            )));
+        }
     }
     let params = analyze_params(config_json)?;
-    let leads: Vec<Lead> = (0..nl)
-        .map(|j| Lead {
+    let leads: Vec<Lead> = columns
+        .into_iter()
+        .enumerate()
+        .map(|(j, samples)| Lead {
             name: j.to_string(),
             unit: String::new(),
-            samples: (0..n).map(|i| data[i * nl + j]).collect(),
+            samples,
         })
         .collect();
-    drop(data);
     let rec = Record {
         name: "array".into(),
         fs_hz,
