@@ -149,6 +149,10 @@ pub(crate) fn read_features(path: &Path) -> Result<Points> {
     Points::new(n, dim, data)
 }
 
+/// Beats placed per record, at most, for the page position of a record outside the fit sample
+/// with summary outputs.
+const POSITION_BEATS: usize = 8;
+
 /// 64-bit FNV-1a hash of a name (Fowler, Noll & Vo), to give each record its own seed.
 fn fnv1a(s: &str) -> u64 {
     s.bytes().fold(0xcbf2_9ce4_8422_2325u64, |h, b| {
@@ -198,6 +202,9 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
     let mut members: Vec<(usize, usize)> = Vec::new(); // (record position in `ok`, row)
     let mut used = vec![false; ok.len()];
     for (ri, name) in ok.iter().enumerate() {
+        if !in_fit.get(ri).copied().unwrap_or(false) {
+            continue; // read in pass 2 only
+        }
         let pts = read_features(&record_dir(out, name).join(super::compact::COMPACT_FILE))?;
         if pts.n == 0 {
             notes.push(format!(
@@ -217,9 +224,6 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
             Some(_) => {}
         }
         used[ri] = true;
-        if !in_fit.get(ri).copied().unwrap_or(false) {
-            continue;
-        }
         for r in sample_rows(pts.n, per, sp.seed, name) {
             sample.extend_from_slice(pts.row(r));
             members.push((ri, r));
@@ -264,11 +268,42 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         .map(|r| r.name.as_str())
         .collect();
     for (ri, name) in ok.iter().enumerate() {
-        if !used.get(ri).copied().unwrap_or(false) {
-            continue;
+        let fitted = in_fit.get(ri).copied().unwrap_or(false);
+        if fitted && !used.get(ri).copied().unwrap_or(false) {
+            continue; // noted in pass 1
         }
         let dir = record_dir(out, name);
-        let pts = read_features(&dir.join(super::compact::COMPACT_FILE))?;
+        let all = read_features(&dir.join(super::compact::COMPACT_FILE))?;
+        if !fitted {
+            if all.n == 0 {
+                notes.push(format!(
+                    "record {name}: no beat features, not in the shared embedding"
+                ));
+                continue;
+            }
+            if all.dim != dim {
+                notes.push(format!(
+                    "record {name}: {} feature columns where the cohort has {dim} (another sampling rate or feature setting?), not in the shared embedding",
+                    all.dim
+                ));
+                continue;
+            }
+            if let Some(u) = used.get_mut(ri) {
+                *u = true;
+            }
+        }
+        // A record outside the fit with summary outputs needs its page position only: the mean
+        // of a seeded sample of its beats (display only; no coordinates are written for it).
+        let pts = if fitted || full.contains(name) || all.n <= POSITION_BEATS {
+            all
+        } else {
+            let rows = sample_rows(all.n, POSITION_BEATS, sp.seed, name);
+            let mut v = Vec::with_capacity(rows.len() * all.dim);
+            for &r in &rows {
+                v.extend_from_slice(all.row(r));
+            }
+            Points::new(rows.len(), all.dim, v)?
+        };
         let coords = model.extend(&pts)?;
         if pts.n > 0 && c > 0 {
             let (mut sx, mut sy) = (0.0, 0.0);
@@ -314,14 +349,13 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         sp,
         &positions,
     )?;
+    let group_of: std::collections::HashMap<&str, &str> = rows
+        .iter()
+        .map(|r| (r.name.as_str(), r.group.as_str()))
+        .collect();
     let groups: Vec<String> = ok
         .iter()
-        .map(|n| {
-            rows.iter()
-                .find(|r| r.name == *n)
-                .map(|r| r.group.clone())
-                .unwrap_or_default()
-        })
+        .map(|n| group_of.get(n).map(|g| g.to_string()).unwrap_or_default())
         .collect();
     super::figure::write(out, &names, &groups, &members, &fit_coords, c)?;
     Ok(SharedEmbeddingSummary {
