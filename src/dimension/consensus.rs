@@ -239,9 +239,9 @@ pub fn consensus(
     let lo_med = median(used.iter().map(|e| e.corrected_ci95[0]).collect());
     let hi_med = median(used.iter().map(|e| e.corrected_ci95[1]).collect());
     let ci95 = if lo_med.is_finite() && hi_med.is_finite() {
-        [lo_med.min(d_min), hi_med.max(d_max)]
+        [lo_med.min(d_min).min(d), hi_med.max(d_max).max(d)]
     } else if used.len() >= 2 {
-        [d_min, d_max]
+        [d_min.min(d), d_max.max(d)]
     } else {
         [f64::NAN, f64::NAN]
     };
