@@ -10,6 +10,7 @@
 //!    and the consensus, no bootstrap (`one`);
 //! 2. the same with 30 bootstrap resamples, calibration cache warm (`boot30`), and once more
 //!    without resamples, warm (`one_warm`): boot30 / one_warm is the cost of the intervals.
+//!
 //! Writes DIR/points.f64, DIR/subset.u32 (the suite's neighbour subset) and DIR/beatfold.json.
 
 #[allow(dead_code)]
@@ -77,7 +78,10 @@ fn main() {
     };
     let (boot30, sb) = time(&boot);
     let (one_warm, _) = time(&base);
-    println!("{n} points in {ambient} dimensions (5-cube); neighbour subset {}", s.n_used);
+    println!(
+        "{n} points in {ambient} dimensions (5-cube); neighbour subset {}",
+        s.n_used
+    );
     println!("four estimators + correction + consensus, no bootstrap, cold cache: {one:.2} s");
     println!("same with 30 bootstrap resamples, warm cache: {boot30:.2} s");
     println!("same without resamples, warm cache: {one_warm:.2} s");

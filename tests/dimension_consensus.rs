@@ -29,7 +29,11 @@ fn neighbour_methods() -> Vec<Method> {
 fn cube(n: usize, d: usize, ambient: usize, seed: u64) -> Points {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     let data = (0..n)
-        .flat_map(|_| (0..ambient).map(|j| if j < d { rng.gen::<f64>() } else { 0.0 }).collect::<Vec<_>>())
+        .flat_map(|_| {
+            (0..ambient)
+                .map(|j| if j < d { rng.gen::<f64>() } else { 0.0 })
+                .collect::<Vec<_>>()
+        })
         .collect();
     Points::new(n, ambient, data).unwrap()
 }
