@@ -50,7 +50,11 @@ fn main() {
         &std::fs::read_to_string(dir.join("manifest.json")).expect("read manifest.json"),
     )
     .expect("parse manifest.json");
-    println!("benchmark sets from {} ({})", dir.display(), manifest["versions"]);
+    println!(
+        "benchmark sets from {} ({})",
+        dir.display(),
+        manifest["versions"]
+    );
     let mut methods: Vec<Method> = vec![
         Method::Twonn,
         Method::Mle,
@@ -66,7 +70,10 @@ fn main() {
     let t_all = Instant::now();
     for e in manifest["entries"].as_array().expect("entries") {
         let file = e["file"].as_str().unwrap();
-        let (n, dim) = (e["n"].as_u64().unwrap() as usize, e["dim"].as_u64().unwrap() as usize);
+        let (n, dim) = (
+            e["n"].as_u64().unwrap() as usize,
+            e["dim"].as_u64().unwrap() as usize,
+        );
         let d = e["d"].as_f64().unwrap();
         let seed = e["seed"].as_u64().unwrap();
         let noise = format!("{}", e["noise"].as_f64().unwrap());
@@ -99,12 +106,7 @@ fn main() {
                     .or_default()
                     .push(m.corrected_d, d);
             }
-            line += &format!(
-                " {} {:.2}/{:.2}",
-                m.method.name(),
-                m.d,
-                m.corrected_d
-            );
+            line += &format!(" {} {:.2}/{:.2}", m.method.name(), m.d, m.corrected_d);
         }
         if let Some(c) = &s.consensus {
             acc.entry("consensus".into()).or_default().push(c.d, d);
@@ -116,12 +118,7 @@ fn main() {
                     r.2 += 1;
                 }
             }
-            line += &format!(
-                " | consensus {:.2} {:?} ({:.1} s)",
-                c.d,
-                c.status,
-                secs
-            );
+            line += &format!(" | consensus {:.2} {:?} ({:.1} s)", c.d, c.status, secs);
         }
         println!("{line}");
     }

@@ -56,6 +56,14 @@ fn dimension_command_json_figure_and_errors() {
         assert!(!e["curve"].as_array().unwrap().is_empty(), "{m}");
     }
     assert!(tmp.path().join("dims.svg").exists() && tmp.path().join("dims.png").exists());
+    // The consensus object (keys of docs/methods.md, "Consensus").
+    let c = &j["consensus"];
+    assert!(c["d"].as_f64().unwrap() > 0.0);
+    assert!(["resolved", "unresolved"].contains(&c["status"].as_str().unwrap()));
+    assert!(c["ci95"].is_array() && c.get("scale_range").is_some() && c["reason"].is_string());
+    for m in ["twonn", "mle", "correlation", "local_pca"] {
+        assert_eq!(j["estimates"][m]["corrected"]["applied"], true, "{m}");
+    }
 
     let o = beatfold(&["dimension", DEMO, "--cloud", "beats"], tmp.path());
     assert_eq!(o.status.code(), Some(2));

@@ -108,6 +108,9 @@ pub(super) fn analyze_and_write(
                 "dimension estimates (95 % bootstrap intervals): {}",
                 parts.join(", ")
             ));
+            if let Some(c) = &s.consensus {
+                o.line(format!("dimension consensus: {}", c.sentence()));
+            }
         }
     }
     for n in &a.notes {

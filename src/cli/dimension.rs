@@ -162,7 +162,12 @@ pub(super) fn dimension_cmd(
         ));
     }
     if let Some(c) = &s.consensus {
-        o.line(format!("consensus: {} [{:.2}, {:.2}]", c.sentence(), c.ci95[0], c.ci95[1]));
+        o.line(format!(
+            "consensus: {} [{:.2}, {:.2}]",
+            c.sentence(),
+            c.ci95[0],
+            c.ci95[1]
+        ));
     }
     for e in &s.estimates {
         let c: Vec<String> = e

@@ -203,7 +203,10 @@ pub(crate) fn correct_estimates(
         let g = &curves[i];
         let (d, at_cap) = invert(&deltas, g, e.d);
         e.corrected_d = d;
-        e.corrected_ci95 = [invert(&deltas, g, e.ci95[0]).0, invert(&deltas, g, e.ci95[1]).0];
+        e.corrected_ci95 = [
+            invert(&deltas, g, e.ci95[0]).0,
+            invert(&deltas, g, e.ci95[1]).0,
+        ];
         e.correction = Correction {
             applied: true,
             at_cap,

@@ -87,7 +87,11 @@ impl ScaleCurve {
         }
         let i = pts.partition_point(|p| p.0 < x).clamp(1, pts.len() - 1);
         let (a, b) = (pts[i - 1], pts[i]);
-        let t = if b.0 > a.0 { (x - a.0) / (b.0 - a.0) } else { 0.0 };
+        let t = if b.0 > a.0 {
+            (x - a.0) / (b.0 - a.0)
+        } else {
+            0.0
+        };
         Some(self.factor * (a.1 + t * (b.1 - a.1)))
     }
 }
@@ -234,14 +238,17 @@ pub fn consensus(
             members.clone(),
         )
     };
-    let d_min = used.iter().map(|e| e.corrected_d).fold(f64::INFINITY, f64::min);
+    let d_min = used
+        .iter()
+        .map(|e| e.corrected_d)
+        .fold(f64::INFINITY, f64::min);
     let d_max = used.iter().map(|e| e.corrected_d).fold(0.0, f64::max);
     let lo_med = median(used.iter().map(|e| e.corrected_ci95[0]).collect());
     let hi_med = median(used.iter().map(|e| e.corrected_ci95[1]).collect());
     let ci95 = if lo_med.is_finite() && hi_med.is_finite() {
-        [lo_med.min(d_min), hi_med.max(d_max)]
+        [lo_med.min(d_min).min(d), hi_med.max(d_max).max(d)]
     } else if used.len() >= 2 {
-        [d_min, d_max]
+        [d_min.min(d), d_max.max(d)]
     } else {
         [f64::NAN, f64::NAN]
     };
@@ -316,7 +323,10 @@ pub fn consensus(
         noise_scale,
         status,
         reason,
-        members: members.iter().map(|e| e.method.name().to_string()).collect(),
+        members: members
+            .iter()
+            .map(|e| e.method.name().to_string())
+            .collect(),
         axis,
     })
 }
@@ -352,7 +362,13 @@ mod tests {
             est(
                 m,
                 2.0,
-                vec![(0.01, 6.0), (0.05, 5.0), (0.1, 2.05), (1.0, 1.95), (10.0, 2.0)],
+                vec![
+                    (0.01, 6.0),
+                    (0.05, 5.0),
+                    (0.1, 2.05),
+                    (1.0, 1.95),
+                    (10.0, 2.0),
+                ],
             )
         };
         let ests = vec![c(Method::Twonn), c(Method::Mle), c(Method::Correlation)];
@@ -364,7 +380,11 @@ mod tests {
         assert!(lo > 0.05 && lo < 0.2 && hi == 10.0, "{lo} {hi}");
         let n = k.noise_scale.unwrap();
         assert!(n < lo && n >= 0.01, "{n}");
-        assert!(k.sentence().starts_with("d ≈ 2.0 over scales"), "{}", k.sentence());
+        assert!(
+            k.sentence().starts_with("d ≈ 2.0 over scales"),
+            "{}",
+            k.sentence()
+        );
         // One estimator at 4: unresolved, d stays with the agreeing pair.
         let mut ests2 = ests.clone();
         ests2[2] = est(Method::Correlation, 4.0, vec![(0.01, 4.0), (10.0, 4.0)]);

@@ -190,12 +190,28 @@ mod tests {
         assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], share).is_err());
         let zero = PcaRule::VarianceShare(0.0);
         assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], zero).is_err());
-        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], PcaRule::EigenRatio(1.0)).is_err());
+        assert!(local_pca_counts(
+            &pts,
+            &centres,
+            &idx,
+            &dist,
+            20,
+            &[5],
+            PcaRule::EigenRatio(1.0)
+        )
+        .is_err());
         // Fukunaga & Olsen (1971) on the same plane: two eigenvalues of equal expected size, both
         // far above 0.1 of the largest once the neighbourhood holds 10 or more points.
-        let (fo, _) =
-            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[10, 20], PcaRule::EigenRatio(0.1))
-                .unwrap();
+        let (fo, _) = local_pca_counts(
+            &pts,
+            &centres,
+            &idx,
+            &dist,
+            20,
+            &[10, 20],
+            PcaRule::EigenRatio(0.1),
+        )
+        .unwrap();
         assert!(fo.iter().all(|&c| c == 2.0), "{fo:?}");
     }
 
@@ -215,7 +231,8 @@ mod tests {
                 let mut row = [0.0; 10];
                 row[0] = t.cos();
                 row[1] = t.sin();
-                row.iter_mut().for_each(|v| *v += rand_distr::Distribution::sample(&normal, &mut rng));
+                row.iter_mut()
+                    .for_each(|v| *v += rand_distr::Distribution::sample(&normal, &mut rng));
                 row
             })
             .collect();

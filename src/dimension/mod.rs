@@ -61,10 +61,10 @@ pub mod delay;
 mod local_pca;
 mod suite;
 
-pub use correlation::{correlation_counts, CorrelationCounts};
-pub use knn::knn_table;
 pub use calibrate::Correction;
 pub use consensus::{Consensus, ScaleCurve, Status};
+pub use correlation::{correlation_counts, CorrelationCounts};
+pub use knn::knn_table;
 pub use local_pca::{local_pca_counts, PcaRule};
 pub use suite::{
     dimension_suite, subset_indices, DimensionSuite, Method, MethodEstimate, SuiteParams,

@@ -393,15 +393,12 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
     let order = subset_indices(points.n, p.max_points, p.seed);
     let sub = points.select(&order);
     let m = sub.n;
-    let needs_table = p
-        .methods
-        .iter()
-        .any(|x| {
-            matches!(
-                x,
-                Method::Twonn | Method::Mle | Method::LocalPca | Method::PcaVarianceShare
-            )
-        });
+    let needs_table = p.methods.iter().any(|x| {
+        matches!(
+            x,
+            Method::Twonn | Method::Mle | Method::LocalPca | Method::PcaVarianceShare
+        )
+    });
     let table_k = table_size(&p.methods, p, m);
     let table = if needs_table {
         Some(knn_table(&sub, table_k)?)
@@ -715,8 +712,7 @@ fn run_local_pca(
         )));
     }
     let centres: Vec<usize> = (0..p.local_pca_centres.min(sub.n)).collect();
-    let (counts, radii) =
-        local_pca_counts(sub, &centres, idx, dist, table_k, &ks, rule)?;
+    let (counts, radii) = local_pca_counts(sub, &centres, idx, dist, table_k, &ks, rule)?;
     let nk = ks.len();
     let curve_of = |which: &[usize]| -> Vec<f64> {
         (0..nk)

@@ -227,7 +227,10 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
             g.create_dataset(&format!("{name}_curve"))
                 .with_f64_data(&c)
                 .with_shape(&[e.curve.len() as u64, 2]);
-            g.set_attr(&format!("{name}_corrected_d"), AttrValue::F64(e.corrected_d));
+            g.set_attr(
+                &format!("{name}_corrected_d"),
+                AttrValue::F64(e.corrected_d),
+            );
         }
         super::h5_dimension::add_consensus(&mut g, s);
     }

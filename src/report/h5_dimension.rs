@@ -18,17 +18,21 @@ pub(super) fn add_consensus(g: &mut GroupBuilder, s: &DimensionSuite) {
         let [lo, hi] = c.scale_range.unwrap_or([f64::NAN, f64::NAN]);
         f(g, "consensus_scale_low", lo);
         f(g, "consensus_scale_high", hi);
-        f(g, "consensus_noise_scale", c.noise_scale.unwrap_or(f64::NAN));
+        f(
+            g,
+            "consensus_noise_scale",
+            c.noise_scale.unwrap_or(f64::NAN),
+        );
         let status = match c.status {
             Status::Resolved => "resolved",
             Status::Unresolved => "unresolved",
         };
         g.set_attr("consensus_status", AttrValue::VarLenString(status.into()));
-        g.set_attr("consensus_reason", AttrValue::VarLenString(c.reason.clone()));
         g.set_attr(
-            "consensus_sentence",
-            AttrValue::VarLenString(c.sentence()),
+            "consensus_reason",
+            AttrValue::VarLenString(c.reason.clone()),
         );
+        g.set_attr("consensus_sentence", AttrValue::VarLenString(c.sentence()));
     }
     if !s.pointwise.is_empty() {
         g.create_dataset("local_d").with_f64_data(&s.pointwise);

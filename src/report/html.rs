@@ -165,7 +165,11 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
     row(&mut t, "Eigenvalues", &eig.join(", "));
     let d = &a.dimension;
     row(&mut t, "Dimension (k-means scaling)", &f(d.d, 2));
-    if let Some(c) = a.dimension_suite.as_ref().and_then(|s| s.consensus.as_ref()) {
+    if let Some(c) = a
+        .dimension_suite
+        .as_ref()
+        .and_then(|s| s.consensus.as_ref())
+    {
         row(&mut t, "Dimension (consensus)", &html_escape(&c.sentence()));
     }
     row(
