@@ -83,12 +83,7 @@ fn main() -> anyhow::Result<()> {
         let b = pipeline::detect_beats(&rec, &params)?;
         let r = record_score::noise_record(&rec, &b, &params, &readable, &rules, &schedule)?;
         one_lead_rows.push(record_score::noise_record(
-            &rec,
-            &b,
-            &params,
-            &one_lead,
-            &rules,
-            &schedule,
+            &rec, &b, &params, &one_lead, &rules, &schedule,
         )?);
         eprintln!(
             "{}: Se {:.2} % +P {:.2} %",
