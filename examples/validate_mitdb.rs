@@ -15,8 +15,9 @@
 //! Scoring uses `beatfold::beats::ec57`, the same code as `beatfold score`.
 //!
 //! Usage: `cargo run --release --example validate_mitdb -- FOLDER [--out docs/validation-mitdb.md]
-//! [--gate-se P] [--gate-ppv P] [--gate-duration-se P] [--gate-duration-sp P]`: exits non-zero
-//! when a gate (a percentage) is given and missed. The written page holds no timing, so a rerun
+//! [--config FILE.json] [--gate-se P] [--gate-ppv P] [--gate-duration-se P] [--gate-duration-sp P]`:
+//! exits non-zero when a gate (a percentage) is given and missed. `--config` applies an analysis
+//! config (as `beatfold --config`) to every detection. The written page holds no timing, so a rerun
 //! on the same data gives the same bytes (CI checks that).
 
 use beatfold::beats;
@@ -79,7 +80,15 @@ fn main() -> anyhow::Result<()> {
         ..beats::ec57::Ec57Rules::default()
     };
     rules.check()?;
-    let params = AnalyzeParams::default();
+    let config = args
+        .iter()
+        .position(|a| a == "--config")
+        .and_then(|i| args.get(i + 1))
+        .map(PathBuf::from);
+    let params = match &config {
+        Some(c) => AnalyzeParams::from_json_file(c)?,
+        None => AnalyzeParams::default(),
+    };
     let mut md = String::new();
     let mut n_records = 0usize;
     let mut primary_rows = Vec::new();
@@ -91,7 +100,7 @@ fn main() -> anyhow::Result<()> {
     );
     let fused_params = AnalyzeParams {
         fuse_leads: true,
-        ..AnalyzeParams::default()
+        ..params.clone()
     };
     let mut alt = [(0usize, 0usize, 0usize); 2];
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);

@@ -1,8 +1,11 @@
 #!/usr/bin/env bash
 # Open a beatfold report.html in headless Chromium and check it like a reader would:
-#   - the page's own self-check (loaded with #selftest) clicks the first embedding point, checks
-#     that a beat waveform and its time appear, selects a time range and checks that beats are
-#     highlighted, and counts the figures; it must report PASS;
+#   - the page's own self-check (loaded with #selftest) clicks an embedding point other than the
+#     beat already shown, checks that the selection, waveform and time moved to that point,
+#     selects a time range and checks that beats are highlighted, and counts the figures; it must
+#     report PASS;
+#   - the same self-check must FAIL on a deliberately broken copy of the page whose click handler
+#     does nothing (so a self-check that cannot fail is caught);
 #   - the browser console stays silent (the page logs nothing, so any console line, an uncaught
 #     error included, fails the check);
 #   - every figure is present as inline SVG, and the page loads nothing from outside;
@@ -77,4 +80,26 @@ fi
 
 python3 scripts/browser_check.py --report "$report" --dom "$out_dir/dom.html" \
     --console "$out_dir/console.log" --screenshot "$out_dir/report.png"
+
+# The self-check must be able to fail: the same page with its click handler turned into a no-op.
+broken="$out_dir/report-broken-click.html"
+python3 - "$report" "$broken" <<'PY'
+import sys
+page = open(sys.argv[1], encoding="utf-8").read()
+handler = "sc.addEventListener('click',function(ev){"
+if page.count(handler) != 1:
+    sys.exit("browser-check: FAILED: click handler not found in the page, cannot build the broken copy")
+page = page.replace(handler, handler + "return;", 1)
+open(sys.argv[2], "w", encoding="utf-8").write(page)
+PY
+if ! timeout 180 "$browser" "${flags[@]}" --dump-dom "file://$(realpath "$broken")#selftest" \
+    >"$out_dir/dom-broken.html" 2>"$out_dir/console-broken.log"; then
+    echo "browser-check: FAILED: chromium did not finish on the broken page" >&2
+    exit 1
+fi
+if ! grep -q 'id="selftest-result" data-status="fail"' "$out_dir/dom-broken.html"; then
+    echo "browser-check: FAILED: the self-check did not fail on a page whose click handler is broken" >&2
+    exit 1
+fi
+echo "broken click handler: the self-check fails, as it must"
 echo "browser-check passed in $(( $(date +%s) - start_s )) s; screenshot: $out_dir/report.png"

@@ -16,7 +16,7 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 SECS="${1:-${FUZZ_SECONDS:-30}}"
-TARGETS=(csv edf physionet_header physionet_signal mit_annotations annotations_csv hdf5)
+TARGETS=(csv edf physionet_header physionet_signal mit_annotations annotations_csv hdf5 points_csv model_h5 cohort_manifest config_json)
 
 fail() {
     echo "FUZZ FAILED: $*" >&2

@@ -269,7 +269,11 @@ impl AnalyzeParams {
                 e.to_string(),
             )
         })?;
-        p.check()?;
+        // A value out of range names the file as well as the key.
+        p.check().map_err(|e| match e {
+            Error::Param { name, msg } => Error::input(path, name, msg),
+            e => e,
+        })?;
         Ok(p)
     }
 }

@@ -34,7 +34,8 @@ pub fn beat_score(rec: &Record, b: &BeatsResult, rules: &Ec57Rules) -> RecordSco
 
 /// The record scored as a noise stress test record: its SNR from its name, the noise layout of
 /// `schedule`, and the beats inside the stretches the quality index marks unreadable counted
-/// apart ([`readable::unreadable_intervals`] on the analysed lead).
+/// apart ([`readable::unreadable_intervals`] on the analysed lead, compared with the record's
+/// other leads).
 pub fn noise_record(
     rec: &Record,
     b: &BeatsResult,
@@ -45,9 +46,18 @@ pub fn noise_record(
 ) -> Result<NoiseRecord> {
     let li = pipeline::prepare(rec, p)?;
     let quality = crate::signal::quality(&rec.leads[li].samples, rec.fs_hz, p.quality_segment_s);
+    let mut other_leads = Vec::new();
+    if readable_params.cross_lead {
+        for k in (0..rec.leads.len()).filter(|&k| k != li) {
+            if rec.leads[k].samples.len() == rec.n_samples() {
+                other_leads.push(pipeline::detect_beats_on(rec, k, p)?.samples);
+            }
+        }
+    }
     let unreadable = readable::unreadable_intervals(
         &b.samples,
         &b.second,
+        &other_leads,
         &quality,
         rec.fs_hz,
         rec.n_samples(),

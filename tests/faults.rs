@@ -313,25 +313,63 @@ fn no_beats_at_all_gives_empty_results_and_notes() {
     assert!(!s.is_empty());
 }
 
+/// Names in `dir` that look like our temporary files.
+fn temporaries(dir: &std::path::Path) -> Vec<String> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.contains(".tmp"))
+        .collect()
+}
+
+#[test]
+fn an_interrupted_write_leaves_the_previous_file_whole() {
+    let dir = tempfile::tempdir().unwrap();
+    let target = dir.path().join("summary.json");
+    let previous: Vec<u8> = (0..64 * 1024).map(|i| (i % 251) as u8).collect();
+    std::fs::write(&target, &previous).unwrap();
+    // A writer that fails half-way: it writes 100 kB (more than the buffer, so bytes reach the
+    // temporary file), then reports an error as a full disk or a killed encoder would.
+    let err = beatfold::io::write_atomic_with(&target, |w| {
+        w.write_all(&vec![b'x'; 100 * 1024])?;
+        Err(std::io::Error::other("simulated failure half-way"))
+    })
+    .unwrap_err();
+    let msg = err.to_string();
+    assert!(
+        msg.contains("summary.json") && msg.contains("half-way"),
+        "{msg}"
+    );
+    // The very file the write aimed at still holds the previous bytes, whole.
+    assert_eq!(std::fs::read(&target).unwrap(), previous);
+    assert!(
+        temporaries(dir.path()).is_empty(),
+        "{:?}",
+        temporaries(dir.path())
+    );
+    // The same writer completing replaces the file.
+    beatfold::io::write_atomic_with(&target, |w| w.write_all(b"new")).unwrap();
+    assert_eq!(std::fs::read(&target).unwrap(), b"new");
+}
+
 #[test]
 fn a_failed_write_leaves_the_old_file_and_no_temporary() {
     let dir = tempfile::tempdir().unwrap();
     let old = dir.path().join("summary.json");
     std::fs::write(&old, b"{\"old\": true}").unwrap();
-    // The target is a non-empty folder: the temporary file is written, the rename fails.
+    // The rename onto the target fails: the target is a non-empty folder. The target itself
+    // (its content) must be unchanged, and no temporary file may stay.
     let blocked = dir.path().join("results.h5");
     std::fs::create_dir(&blocked).unwrap();
     std::fs::write(blocked.join("keep"), b"x").unwrap();
     let err = beatfold::io::write_atomic(&blocked, b"new bytes").unwrap_err();
     assert!(err.to_string().contains("results.h5"), "{err}");
-    assert_eq!(std::fs::read(&old).unwrap(), b"{\"old\": true}");
-    let names: Vec<String> = std::fs::read_dir(dir.path())
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
+    assert!(blocked.is_dir());
+    assert_eq!(std::fs::read(blocked.join("keep")).unwrap(), b"x");
     assert!(
-        names.iter().all(|n| !n.contains(".tmp")),
-        "temporary file left behind: {names:?}"
+        temporaries(dir.path()).is_empty(),
+        "{:?}",
+        temporaries(dir.path())
     );
     // A whole report into a folder where report.html cannot be replaced: the run fails and
     // every file already there is either the old or a complete new one, never a partial one.

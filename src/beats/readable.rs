@@ -11,6 +11,12 @@
 //! beats of two detectors that work on different principles; a window is unreadable when its
 //! bSQI is below `bsqi_min`. Noise produces beats that only one detector sees, so agreement falls
 //! where detections are least trustworthy.
+//!
+//! On records with more than one lead the same index is also taken across leads (our use of the
+//! bSQI of Li, Mark & Clifford 2008): the primary detector's beats on each other lead against
+//! those on the analysed lead, window by window. Noise rarely strikes two leads in the same
+//! way, so a window where the leads disagree is marked too. A lead that agrees with the analysed
+//! one on less than half of the record as a whole is not used (it is off, or sees other beats).
 
 use crate::beats::agreement_windows;
 use crate::error::{Error, Result};
@@ -29,6 +35,8 @@ pub struct ReadableParams {
     pub match_window_s: f64,
     /// Also mark segments whose quality flags (flat, clipped, lead off, non-finite, noisy) are set.
     pub use_quality_flags: bool,
+    /// Also compare the primary detector's beats across leads (records with several leads).
+    pub cross_lead: bool,
 }
 
 impl Default for ReadableParams {
@@ -38,6 +46,7 @@ impl Default for ReadableParams {
             window_s: 10.0,
             match_window_s: 0.150,
             use_quality_flags: true,
+            cross_lead: true,
         }
     }
 }
@@ -71,10 +80,13 @@ impl ReadableParams {
     }
 }
 
-/// Unreadable intervals (seconds, sorted, merged) of a record of `n_samples` at `fs_hz`.
+/// Unreadable intervals (seconds, sorted, merged) of a record of `n_samples` at `fs_hz`:
+/// `primary` and `second` are the two detectors' beats on the analysed lead, `other_leads` the
+/// primary detector's beats on the record's other leads (used when `p.cross_lead`).
 pub fn unreadable_intervals(
     primary: &[usize],
     second: &[usize],
+    other_leads: &[Vec<usize>],
     quality: &[QualitySegment],
     fs_hz: f64,
     n_samples: usize,
@@ -93,6 +105,26 @@ pub fn unreadable_intervals(
         ) {
             if a < p.bsqi_min {
                 marked.push((start, (start + p.window_s).min(end_s)));
+            }
+        }
+    }
+    if p.bsqi_min > 0.0 && p.cross_lead {
+        for other in other_leads {
+            // A lead that mostly sees other beats (off, or another view) says nothing here.
+            if crate::beats::agreement(primary, other, fs_hz, p.match_window_s) < 0.5 {
+                continue;
+            }
+            for (start, a) in agreement_windows(
+                primary,
+                other,
+                fs_hz,
+                p.match_window_s,
+                p.window_s,
+                n_samples,
+            ) {
+                if a < p.bsqi_min {
+                    marked.push((start, (start + p.window_s).min(end_s)));
+                }
             }
         }
     }
@@ -151,12 +183,37 @@ mod tests {
             use_quality_flags: false,
             ..ReadableParams::default()
         };
-        let u = unreadable_intervals(&a, &b, &[], fs, 3000, &p);
+        let u = unreadable_intervals(&a, &b, &[], &[], fs, 3000, &p);
         assert_eq!(u, vec![(10.0, 20.0)]);
         assert!(inside(&u, 10.0) && inside(&u, 19.99) && !inside(&u, 20.0) && !inside(&u, 9.9));
         assert!((covered_s(&u, 15.0, 40.0) - 5.0).abs() < 1e-12);
         // Agreement everywhere: nothing marked.
-        assert!(unreadable_intervals(&a, &a, &[], fs, 3000, &p).is_empty());
+        assert!(unreadable_intervals(&a, &a, &[], &[], fs, 3000, &p).is_empty());
+    }
+
+    #[test]
+    fn a_second_lead_that_disagrees_marks_its_window() {
+        let fs = 100.0;
+        // Both detectors agree on the analysed lead; the other lead sees the same 30 beats
+        // except in 20–30 s, where it has 10 extra: cross-lead bSQI 0.5 there (Li, Mark &
+        // Clifford 2008 definition), 1 elsewhere; overall 30 / 40 ≥ 0.5, so the lead is used.
+        let a: Vec<usize> = (0..30).map(|k| k * 100 + 50).collect();
+        let mut o = a.clone();
+        o.extend((20..30).map(|k| k * 100));
+        o.sort_unstable();
+        let p = ReadableParams {
+            use_quality_flags: false,
+            ..ReadableParams::default()
+        };
+        let u = unreadable_intervals(&a, &a, &[o.clone()], &[], fs, 3000, &p);
+        assert_eq!(u, vec![(20.0, 30.0)]);
+        let off = ReadableParams {
+            cross_lead: false,
+            ..p.clone()
+        };
+        assert!(unreadable_intervals(&a, &a, &[o], &[], fs, 3000, &off).is_empty());
+        // A lead with no beats at all (off) is not used.
+        assert!(unreadable_intervals(&a, &a, &[vec![]], &[], fs, 3000, &p).is_empty());
     }
 
     #[test]
@@ -175,7 +232,7 @@ mod tests {
                 ..Default::default()
             },
         ];
-        let u = unreadable_intervals(&[], &[], &q, 100.0, 2000, &ReadableParams::default());
+        let u = unreadable_intervals(&[], &[], &[], &q, 100.0, 2000, &ReadableParams::default());
         // Flat counts; a gain change alone does not.
         assert_eq!(u, vec![(0.0, 10.0)]);
         assert_eq!(

@@ -97,6 +97,7 @@ pub(super) fn score_cmd(
         let b = pipeline::detect_beats(&rec, &params)?;
         let rs = record_score::beat_score(&rec, &b, rules);
         let s = rs.score;
+        let (scored_from_s, left_out) = (rs.scored_from_s, rs.left_out);
         scores.push(rs);
         o.line(format!(
             "{:<24} {:>8} {:>8} {:>6} {:>6} {:>6} {:>8.2} {:>8.2}",
@@ -133,6 +134,7 @@ pub(super) fn score_cmd(
         }
         rows.push(json!({
             "record": rec.name, "duration_s": rec.duration_s(),
+            "scored_from_s": scored_from_s, "left_out": left_out,
             "beats": s, "rhythm": rhythm,
         }));
     }
@@ -167,7 +169,7 @@ pub(super) fn score_cmd(
     let snr_rows = noise_stress::by_snr(&noise_rows);
     if noise_mode {
         o.line(format!(
-            "noise stress test (research): per SNR; noise from {:.0} s, {:.0} s noisy then {:.0} s clean in turn; unreadable = detector agreement bSQI below {} per {:.0} s window or a quality flag",
+            "noise stress test (research): per SNR; noise from {:.0} s, {:.0} s noisy then {:.0} s clean in turn; unreadable = agreement bSQI of the two detectors, or of the leads, below {} per {:.0} s window, or a quality flag",
             schedule.first_noisy_s, schedule.noisy_s, schedule.clean_s, readable_params.bsqi_min, readable_params.window_s
         ));
         o.line(noise_stress::snr_table_markdown(&snr_rows).trim_end());
@@ -176,12 +178,13 @@ pub(super) fn score_cmd(
         let mut j = if rows.len() == 1 {
             rows.remove(0)
         } else {
-            json!({"records": rows, "rules": rules, "pooled": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}, "average": {"se": t.average_se, "ppv": t.average_ppv, "records": t.records}, "left_out": t.left_out})
+            json!({"records": rows, "pooled": {"tp": tp, "fp": fp, "fn": fn_, "se": gse, "ppv": gppv}, "average": {"se": t.average_se, "ppv": t.average_ppv, "records": t.records}, "left_out": t.left_out})
         };
         if noise_mode {
             j["noise_stress"] = json!({"schedule": schedule, "unreadable": readable_params,
                 "records": noise_rows, "by_snr": snr_rows});
         }
+        j["rules"] = json!(rules);
         j["notice"] = json!(beatfold::NOTICE);
         println!("{}", serde_json::to_string_pretty(&j)?);
     }

@@ -305,14 +305,29 @@ pub fn commit_temp(tmp: &Path, path: &Path) -> Result<()> {
 /// `path`. On failure the temporary file is removed and any existing file at `path` is left
 /// unchanged.
 pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<()> {
+    write_atomic_with(path, |w| w.write_all(bytes))
+}
+
+/// Write `path` atomically from a writer callback: `write` fills a temporary sibling file; only
+/// when it returns `Ok` is the file flushed and renamed over `path`. When `write` fails part-way
+/// (or the flush or rename fails) the temporary file is removed and any existing file at `path`
+/// is left whole and unchanged.
+pub fn write_atomic_with<F>(path: &Path, write: F) -> Result<()>
+where
+    F: FnOnce(&mut dyn Write) -> std::io::Result<()>,
+{
     let tmp = temp_sibling(path, "")?;
     let written = (|| {
-        let mut f = fs::OpenOptions::new()
+        let f = fs::OpenOptions::new()
             .write(true)
             .create_new(true)
             .open(&tmp)
             .map_err(|e| Error::io(&tmp, e))?;
-        f.write_all(bytes).map_err(|e| Error::io(&tmp, e))?;
+        let mut buf = std::io::BufWriter::new(f);
+        write(&mut buf).map_err(|e| Error::io(path, e))?;
+        let f = buf
+            .into_inner()
+            .map_err(|e| Error::io(&tmp, e.into_error()))?;
         f.sync_all().map_err(|e| Error::io(&tmp, e))?;
         Ok(())
     })();

@@ -12,8 +12,9 @@
 //! The page says so. Coordinates are quantised to 1/10 000 of their range and waveforms are
 //! base64 of signed bytes, which keeps a 24 h record's view near 1 MB.
 //!
-//! A self-check runs when the page is opened with `#selftest`: it clicks the first point,
-//! checks that a waveform was drawn, selects a time range and checks that beats were
+//! A self-check runs when the page is opened with `#selftest`: it clicks a point other than the
+//! beat already shown, checks that the click moved the selection to it and that its waveform and
+//! time were drawn, selects a time range and checks that beats were
 //! highlighted, counts the figures, and writes `PASS …` or `FAIL …` into the element
 //! `#selftest-result` and the page title (read by `scripts/browser-check.sh`).
 
@@ -345,13 +346,18 @@ function build(){
 function selftest(){
   var msgs=[],ok=true;
   function check(c,m){msgs.push((c?'ok ':'FAILED ')+m);if(!c){ok=false;}}
-  var first=circles[0];
-  check(!!first,'a point exists');
-  if(first){first.dispatchEvent(new MouseEvent('click',{bubbles:true}));}
+  // Click a point other than the one shown, then check the click's own effect.
+  var shown=selected,j=n>1?(shown===n-1?0:n-1):-1;
+  check(j>=0&&j!==shown,'a point other than the shown one exists');
+  var target=j>=0?circles[j]:null,before=info.textContent;
+  if(target){target.dispatchEvent(new MouseEvent('click',{bubbles:true}));}
+  check(j>=0&&selected===j,'clicked point '+(j+1)+' is now the shown beat');
+  check(!!target&&target.classList.contains('sel')&&(shown<0||!circles[shown].classList.contains('sel')),'selection mark moved to the clicked point');
   var line=document.getElementById('bf-wave-line').getAttribute('points')||'';
   var np=line.trim()===''?0:line.trim().split(/\s+/).length;
   check(np>=10,'waveform drawn with '+np+' points');
-  check(info.textContent.indexOf('t = ')>=0,'beat time shown');
+  var tj=j>=0&&D.t[j]!==null?'t = '+D.t[j].toFixed(2)+' s':'t = n/a';
+  check(info.textContent!==before&&info.textContent.indexOf(tj)>=0&&info.textContent.indexOf('point '+(j+1)+' of')>=0,'info line shows the clicked beat ('+tj+')');
   var t0=D.t[0]===null?0:D.t[0];
   fromIn.value=String(Math.max(0,t0-1));toIn.value=String(t0+30);
   var k=highlight();
