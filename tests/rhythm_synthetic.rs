@@ -95,3 +95,50 @@ fn screen_covers_the_synthetic_episode() {
             .all(|w| (0.0..=1.0).contains(&w.rqa.det)));
     }
 }
+
+#[test]
+fn demo_episode_is_found_at_beat_resolution() {
+    // The bundled demo recording (demo-data/, synthetic with exact ground truth in its
+    // annotation file): one irregular episode of 54 s, 144–198 s, about 60 beats, shorter than
+    // one 128-interval window. The screen must report it as one episode whose edges lie within
+    // 5 s of the truth (about five beats at the episode's rate), and the record's verdict must
+    // say `irregular` (an AF-like episode of 30 s or more, no P waves inside it).
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let opts = beatfold::io::ReadOptions {
+        annotations: Some(root.join("telemetry-night.annotations.csv")),
+        ..Default::default()
+    };
+    let rec = beatfold::io::read_record(&root.join("telemetry-night.csv"), &opts)
+        .unwrap()
+        .record;
+    let truth: Vec<(f64, f64)> = rec
+        .annotations
+        .rhythms
+        .iter()
+        .filter(|r| r.label == RHYTHM_IRREGULAR)
+        .map(|r| (r.start_s, r.end_s))
+        .collect();
+    assert_eq!(truth, vec![(144.0, 198.0)]);
+    let a = analyze(
+        &rec,
+        &InputInfo::default(),
+        &AnalyzeParams::default(),
+        &mut |_, _| {},
+    )
+    .unwrap();
+    let found = a.screen.episode_bounds();
+    eprintln!("demo episodes: {found:?}; verdict {:?}", a.verdict);
+    assert_eq!(found.len(), 1, "{found:?}");
+    let (start, end) = found[0];
+    assert!(
+        (start - 144.0).abs() <= 5.0,
+        "start {start:.1} s, truth 144 s"
+    );
+    assert!((end - 198.0).abs() <= 5.0, "end {end:.1} s, truth 198 s");
+    assert_eq!(
+        a.verdict.class,
+        beatfold::rhythm::verdict::VerdictClass::Irregular,
+        "{:?}",
+        a.verdict.reasons
+    );
+}

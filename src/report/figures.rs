@@ -89,11 +89,13 @@ pub enum Figure {
     Recurrence,
     /// 7. RR tachogram with the irregular-rhythm screen, and the Poincaré plot.
     Rr,
+    /// 8. The rhythm over the whole record: windowed indices, episodes and the verdict.
+    Rhythm,
 }
 
 impl Figure {
     /// All figures, in report order.
-    pub const ALL: [Figure; 7] = [
+    pub const ALL: [Figure; 8] = [
         Figure::Trace,
         Figure::Beats,
         Figure::Embedding,
@@ -101,6 +103,7 @@ impl Figure {
         Figure::Dimension,
         Figure::Recurrence,
         Figure::Rr,
+        Figure::Rhythm,
     ];
 
     /// File name without extension (also the name used by `--figures`).
@@ -113,6 +116,7 @@ impl Figure {
             Figure::Dimension => "dimension",
             Figure::Recurrence => "recurrence",
             Figure::Rr => "rr",
+            Figure::Rhythm => "rhythm",
         }
     }
 
@@ -126,10 +130,11 @@ impl Figure {
             Figure::Dimension => "Local dimension against scale for every estimator (k-means quantization scaling, TwoNN, MLE, correlation dimension, local PCA) with 95 % bootstrap intervals at the right; the shaded band is the noise-dominated regime. Without the estimator suite: k-means distortion against k (left) and its local dimension against scale (right).",
             Figure::Recurrence => "Left: recurrence plot of one window of the beat trajectory in diffusion coordinates. Right: recurrence rate, determinism and laminarity in sliding windows; the shaded band is the window on the left.",
             Figure::Rr => "Left: RR tachogram with irregular-rhythm research-screen episodes shaded (not a diagnosis). Right: Poincaré plot of successive RR intervals.",
+            Figure::Rhythm => "The whole record: RR with the episodes found (orange) and the reference's irregular intervals (top strip); the screen's windowed nRMSSD (long and short windows) against its threshold; the coefficient of sample entropy per segment of consecutive intervals against the verdict's threshold, with the segments whose P waves match the record's template (green strip). The title gives the record's verdict (a research label, not a diagnosis).",
         }
     }
 
-    /// Parse a comma-separated list of figure names (`trace,rr`), or `all`. Numbers 1–7 (the
+    /// Parse a comma-separated list of figure names (`trace,rr`), or `all`. Numbers 1–8 (the
     /// report order) are accepted as well.
     pub fn parse_list(list: &str) -> Result<Vec<Figure>> {
         let mut out: Vec<Figure> = Vec::new();
@@ -321,6 +326,7 @@ fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<
         Figure::Dimension => draw_dimension(a, &body),
         Figure::Recurrence => super::figures_more::draw_recurrence(a, view, &body),
         Figure::Rr => super::figures_more::draw_rr(a, &body),
+        Figure::Rhythm => super::rhythm_timeline::draw_rhythm_timeline(a, &body),
     }
 }
 

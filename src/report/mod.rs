@@ -26,6 +26,7 @@ mod figures_more;
 mod h5;
 mod html;
 mod interactive;
+mod rhythm_timeline;
 mod summary;
 #[cfg(test)]
 mod tests;
