@@ -142,3 +142,48 @@ fn demo_episode_is_found_at_beat_resolution() {
         a.verdict.reasons
     );
 }
+
+#[test]
+fn short_synthetic_records_get_their_verdict() {
+    // 30 s records at 300 Hz (the rate of the short-record challenge data), synthetic with exact
+    // truth (src/synth): sinus rhythm with the resting scenario's variability and P waves, an
+    // irregular rhythm over the whole record (gamma RR, no P wave), and ventricular bigeminy and
+    // trigeminy (`ectopic_every` 2 and 3). AF-like is `irregular` (common practice: irregularly
+    // irregular RR and no organised atrial activity); a repeating ectopic pattern is not.
+    use beatfold::rhythm::verdict::VerdictClass;
+    let p = AnalyzeParams::default();
+    let verdict = |sp: SynthParams| {
+        let rec = synthesize(&sp).unwrap();
+        beatfold::verdicts::record_verdict(&rec, &p).unwrap().0
+    };
+    for seed in [1u64, 2, 3] {
+        let base = SynthParams {
+            ectopic_rate: 0.0,
+            ..SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, seed)
+        };
+        let sinus = verdict(base.clone());
+        let irregular = verdict(SynthParams {
+            irregular_episodes: vec![(0.0, 30.0)],
+            ..base.clone()
+        });
+        eprintln!("seed {seed}: sinus {sinus:?}\n irregular {irregular:?}");
+        assert_eq!(sinus.class, VerdictClass::Regular, "{:?}", sinus.reasons);
+        assert_eq!(
+            irregular.class,
+            VerdictClass::Irregular,
+            "{:?}",
+            irregular.reasons
+        );
+        for every in [2usize, 3] {
+            let v = verdict(SynthParams {
+                ectopic_every: every,
+                ..base.clone()
+            });
+            eprintln!(" every {every}: {v:?}");
+            // Measured when written: bigeminy is `unreadable` on seed 1 (the two detectors
+            // agree on 69 % of the beats: one of them misses wide premature complexes).
+            // Either way it must not be called `irregular`.
+            assert_ne!(v.class, VerdictClass::Irregular, "{every}: {:?}", v.reasons);
+        }
+    }
+}

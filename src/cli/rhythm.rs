@@ -67,7 +67,7 @@ pub(super) fn rhythm_cmd(
         let j = json!({"record": rec.name, "variability": v,
             "poincare": {"sd1_ms": num(sd1), "sd2_ms": num(sd2)},
             "sample_entropy": num(sampen),
-            "screen": {"windows": sc.windows.len(), "episodes": sc.episodes},
+            "screen": {"windows": sc.windows.len(), "short_windows": sc.short_windows.len(), "episodes": sc.episodes},
             "verdict": beatfold::rhythm::verdict::verdict_json(&verdict),
             "windows": wj,
             "notice": NOTICE});

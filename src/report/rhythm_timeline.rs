@@ -50,7 +50,7 @@ pub(super) fn draw_rhythm_timeline<DB: DrawingBackend>(
 ) -> DrawResult {
     let v = &a.verdict;
     let title = format!(
-        "Rhythm over the whole record: verdict `{}` (irregular fraction {:.2}; research label, not a diagnosis)",
+        "Rhythm of the whole record: verdict `{}`, irregular fraction {:.2} (research label)",
         v.class.name(),
         v.irregular_fraction
     );

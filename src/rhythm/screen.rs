@@ -948,7 +948,9 @@ mod split_tests {
         // next to uniform irregular intervals the 16-interval COSEn segment and its 16-interval
         // majority filter can move each edge by up to 20 intervals (measured when written: 21,
         // 0, 36, 16 flagged for seeds 1–4; 52, 68, 36, 52 without the split). Over the seeds, the split
-        // must unflag some of them.
+        // must unflag some of them; that is checked with the beat-level edge placement off, which
+        // on its own already keeps most of the stretch out (33 flagged in all with or without
+        // the split, measured when the margin edges were written).
         let (mut total, mut total_off) = (0, 0);
         for seed in 1..5 {
             let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(200 + seed);
@@ -965,14 +967,20 @@ mod split_tests {
             let flagged = sc.irregular[400..500].iter().filter(|&&v| v).count();
             eprintln!("two levels seed {seed}: {flagged} flagged");
             assert!(flagged <= 40, "seed {seed}: {flagged} of 100 flagged");
-            let off = ScreenParams {
-                split_regular_s: 0.0,
+            let no_edges = ScreenParams {
+                edge_beats: 0,
                 ..ScreenParams::default()
             };
+            let off = ScreenParams {
+                split_regular_s: 0.0,
+                ..no_edges.clone()
+            };
+            let sc1 = screen(&rr, &t, &no_edges).unwrap();
+            let flagged1 = sc1.irregular[400..500].iter().filter(|&&v| v).count();
             let sc0 = screen(&rr, &t, &off).unwrap();
             let flagged0 = sc0.irregular[400..500].iter().filter(|&&v| v).count();
-            eprintln!("two levels seed {seed}: {flagged0} flagged without split");
-            total += flagged;
+            eprintln!("two levels seed {seed}: {flagged1} / {flagged0} flagged with / without split (edges off)");
+            total += flagged1;
             total_off += flagged0;
         }
         assert!(

@@ -365,7 +365,8 @@ fn irregular_fraction(e: &VerdictEvidence, p: &VerdictParams) -> f64 {
         .filter(|s| s[2] > p.cosen_min && !(s[3] >= p.p_wave_min))
         .map(|s| s[1] - s[0])
         .sum();
-    (irr / total).clamp(0.0, 1.0)
+    // `+ 0.0` turns the −0.0 of an empty sum into 0.0.
+    (irr / total).clamp(0.0, 1.0) + 0.0
 }
 
 fn pct(x: f64) -> String {
