@@ -187,3 +187,50 @@ fn short_synthetic_records_get_their_verdict() {
         }
     }
 }
+
+#[test]
+fn bad_records_get_an_unreadable_verdict_not_a_panic() {
+    // A record shorter than 10 s, an all-NaN one and a flat line, each 300 Hz, end to end
+    // through `record_verdict`: each is `unreadable` with a reason that says why.
+    use beatfold::record::{Annotations, Lead, Record};
+    use beatfold::rhythm::verdict::VerdictClass;
+    let p = AnalyzeParams::default();
+    let rec = |samples: Vec<f64>| Record {
+        name: "bad".into(),
+        fs_hz: 300.0,
+        leads: vec![Lead {
+            name: "ecg".into(),
+            unit: "mV".into(),
+            samples,
+        }],
+        start_time: None,
+        annotations: Annotations::default(),
+    };
+    let short = synthesize(&SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, 1))
+        .unwrap()
+        .leads[0]
+        .samples[..2400]
+        .to_vec();
+    for (name, samples, words) in [
+        ("8 s", short, "shorter than"),
+        ("all NaN", vec![f64::NAN; 9000], "missing"),
+        ("flat", vec![0.0; 9000], "beats detected"),
+    ] {
+        // A clear verdict, or a typed error that says what is wrong; never a panic.
+        match beatfold::verdicts::record_verdict(&rec(samples), &p) {
+            Ok((v, _)) => {
+                eprintln!("{name}: {:?}", v.reasons);
+                assert_eq!(v.class, VerdictClass::Unreadable, "{name}: {:?}", v.reasons);
+                assert!(
+                    v.reasons.iter().any(|r| r.contains(words)),
+                    "{name}: {:?}",
+                    v.reasons
+                );
+            }
+            Err(e) => {
+                eprintln!("{name}: error {e}");
+                assert!(name == "flat" && !e.to_string().is_empty(), "{name}: {e}");
+            }
+        }
+    }
+}
