@@ -1,24 +1,32 @@
 //! Record verdicts scored against record labels (e.g. the shared short-record sample):
-//! `cargo run --release --example validate_short -- DIR [--labels FILE] [--min-se P]
-//! [--min-sp P] [--min-f1 F]`. Prints the confusion matrix, per-class Se/+P/F1, irregular-vs-rest
-//! Se/Sp/F1 and the wall time; exits non-zero when a gate is given and missed.
+//! `cargo run --release --example validate_short -- DIR [--labels FILE] [--out PAGE.md]
+//! [--min-se P] [--min-sp P] [--min-f1 F]`. Writes (to stdout, and to PAGE.md with `--out`) the
+//! confusion matrix, per-class Se/+P/F1, irregular-vs-rest Se/Sp/F1, the RR index against the
+//! beat-geometry index, the sensitivity of the decision to its two thresholds and a five-fold
+//! cross-validation of them; prints the wall time of the verdicts on stderr (not on the page,
+//! which must not change from run to run). Exits non-zero when a gate is given and missed.
 //! Labels default to DIR/REFERENCE.csv, mapped A=irregular,N=regular,O=other,~=unreadable.
 //! Research use only.
 
 use beatfold::pipeline::AnalyzeParams;
-use beatfold::rhythm::label_score::LabelMap;
-use beatfold::rhythm::verdict::VerdictClass;
+use beatfold::rhythm::label_score::{auc, LabelMap, LabelScore};
+use beatfold::rhythm::verdict::{decide, VerdictClass, VerdictParams};
+use beatfold::verdicts::LabelledVerdict;
+use std::fmt::Write as _;
 use std::path::PathBuf;
+
+/// Thresholds of the decision scanned for the sensitivity table and the cross-validation.
+const COSEN_GRID: [f64; 6] = [-1.8, -1.6, -1.4, -1.2, -1.0, -0.8];
+const P_WAVE_GRID: [f64; 3] = [0.3, 0.5, 0.7];
+/// Folds of the cross-validation (record k in fold k mod 5).
+const FOLDS: usize = 5;
 
 fn main() -> anyhow::Result<()> {
     let args: Vec<String> = std::env::args().skip(1).collect();
-    let dir = PathBuf::from(args.first().ok_or_else(|| {
-        anyhow::anyhow!(
-            "usage: validate_short DIR [--labels FILE] [--min-se P] [--min-sp P] [--min-f1 F]"
-        )
-    })?);
+    let usage = "usage: validate_short DIR [--labels FILE] [--out PAGE.md] [--min-se P] [--min-sp P] [--min-f1 F]";
+    let dir = PathBuf::from(args.first().ok_or_else(|| anyhow::anyhow!(usage))?);
     let mut labels = dir.join("REFERENCE.csv");
-    let (mut min_se, mut min_sp, mut min_f1) = (None, None, None);
+    let (mut min_se, mut min_sp, mut min_f1, mut out) = (None, None, None, None);
     let mut i = 1;
     while i < args.len() {
         let v = args
@@ -26,53 +34,188 @@ fn main() -> anyhow::Result<()> {
             .ok_or_else(|| anyhow::anyhow!("{} needs a value", args[i]))?;
         match args[i].as_str() {
             "--labels" => labels = PathBuf::from(v),
+            "--out" => out = Some(PathBuf::from(v)),
             "--min-se" => min_se = Some(v.parse::<f64>()?),
             "--min-sp" => min_sp = Some(v.parse::<f64>()?),
             "--min-f1" => min_f1 = Some(v.parse::<f64>()?),
-            o => anyhow::bail!("unknown option {o}"),
+            o => anyhow::bail!("unknown option {o}; {usage}"),
         }
         i += 2;
     }
     let map = LabelMap::parse("A=irregular,N=regular,O=other,~=unreadable")?;
     let p = AnalyzeParams::default();
     let t0 = std::time::Instant::now();
-    let (s, rows) = beatfold::verdicts::score_labels(&dir, &labels, &map, &p)?;
+    let (s, _) = beatfold::verdicts::score_labels(&dir, &labels, &map, &p, false)?;
     let dt = t0.elapsed().as_secs_f64();
-    println!("{}", beatfold::NOTICE_SHORT);
-    println!("{} records scored in {dt:.2} s", s.n);
-    print!("{:<12}", "label\\verdict");
-    for c in VerdictClass::ALL {
-        print!("{:>11}", c.name());
-    }
-    println!();
-    for (k, c) in VerdictClass::ALL.iter().enumerate() {
-        print!("{:<13}", c.name());
-        for v in s.confusion[k] {
-            print!("{v:>11}");
+    // The beat-geometry index needs a diffusion map per record: a second pass, so that the time
+    // above is that of the verdicts alone.
+    let t1 = std::time::Instant::now();
+    let (_, rows) = beatfold::verdicts::score_labels(&dir, &labels, &map, &p, true)?;
+    let dt_geometry = t1.elapsed().as_secs_f64();
+    eprintln!(
+        "{} records: verdicts in {dt:.2} s; verdicts and beat-geometry index in {dt_geometry:.2} s (wall)",
+        s.n
+    );
+
+    let mut page = String::new();
+    let w = &mut page;
+    writeln!(
+        w,
+        "# Validation: record verdicts on short single-lead records\n"
+    )?;
+    writeln!(
+        w,
+        "Made by `cargo run --release --example validate_short -- {} --out docs/validation-short.md` \
+         (do not edit by hand). {} records of `{}`, labels mapped {} (PhysioNet/CinC Challenge \
+         2017, Clifford et al. 2017; see the folder's SOURCE.md). Every parameter at its default \
+         (docs/methods.md, \"Record verdict\"). {}\n",
+        dir.display(),
+        s.n,
+        labels.file_name().and_then(|n| n.to_str()).unwrap_or("labels"),
+        map.describe(),
+        beatfold::NOTICE_SHORT
+    )?;
+    writeln!(w, "## Confusion matrix\n")?;
+    write_score(w, &s)?;
+
+    // RR against beat geometry, side by side on the same labels.
+    writeln!(w, "\n## RR irregularity against beat geometry\n")?;
+    writeln!(
+        w,
+        "Irregular against every other label. RR index: COSEn of the record's RR (Lake & Moorman \
+         2011). Beat-geometry index: 1 − median DET of the recurrence of the first 3 diffusion \
+         coordinates over consecutive beats (Marwan et al. 2007). Rank mean: the mean of the two \
+         ranks (no fitted weight). AUC (Hanley & McNeil 1982) over the records whose index is \
+         finite. CV: a threshold chosen on four folds as the lowest that keeps Sp ≥ 97 % there, \
+         applied to the fifth (record k in fold k mod 5), pooled. \"readable\": the records whose \
+         verdict is not `unreadable`.\n"
+    )?;
+    writeln!(
+        w,
+        "| records | index | finite | AUC | CV Se % | CV Sp % |\n|---|---|---|---|---|---|"
+    )?;
+    let truth: Vec<bool> = rows
+        .iter()
+        .map(|r| r.truth == VerdictClass::Irregular)
+        .collect();
+    let readable: Vec<bool> = rows
+        .iter()
+        .map(|r| r.verdict.class != VerdictClass::Unreadable)
+        .collect();
+    let cosen: Vec<f64> = rows.iter().map(|r| r.evidence.cosen).collect();
+    let geometry: Vec<f64> = rows.iter().map(|r| r.geometry_index).collect();
+    let both: Vec<f64> = {
+        let (a, b) = (ranks(&cosen), ranks(&geometry));
+        a.iter().zip(&b).map(|(x, y)| (x + y) / 2.0).collect()
+    };
+    for set in ["all", "readable"] {
+        for (name, score) in [
+            ("RR (COSEn)", &cosen),
+            ("beat geometry", &geometry),
+            ("rank mean", &both),
+        ] {
+            let pairs: Vec<(f64, bool)> = score
+                .iter()
+                .copied()
+                .zip(truth.iter().copied())
+                .zip(&readable)
+                .filter(|(_, &ok)| set == "all" || ok)
+                .map(|(p, _)| p)
+                .collect();
+            let finite = pairs.iter().filter(|p| p.0.is_finite()).count();
+            let (se, sp) = cross_validated(&pairs, 0.97);
+            writeln!(
+                w,
+                "| {set} | {name} | {finite} | {:.3} | {:.1} | {:.1} |",
+                auc(&pairs),
+                100.0 * se,
+                100.0 * sp
+            )?;
         }
-        println!();
     }
-    for c in &s.classes {
-        println!(
-            "{:<11} n {:>3}  Se {:5.1} %  +P {:5.1} %  F1 {:.3}",
-            c.class.name(),
-            c.n_true,
-            100.0 * c.se,
-            100.0 * c.ppv,
-            c.f1
+
+    // Sensitivity of the decision to its two thresholds, decided again from the same evidence.
+    writeln!(w, "\n## Sensitivity to the decision thresholds\n")?;
+    writeln!(
+        w,
+        "The verdict decided again from each record's evidence with `cosen_min` and `p_wave_min` \
+         changed (every other parameter at its default). Shown to describe the trade-off; the \
+         defaults were not chosen from it.\n"
+    )?;
+    writeln!(
+        w,
+        "| cosen_min | p_wave_min | Se % | Sp % | F1 |\n|---|---|---|---|---|"
+    )?;
+    let grid: Vec<(f64, f64)> = COSEN_GRID
+        .iter()
+        .flat_map(|&c| P_WAVE_GRID.iter().map(move |&q| (c, q)))
+        .collect();
+    for &(c, q) in &grid {
+        let sc = rescore(&rows, (0..rows.len()).collect(), &vp(&p.verdict, c, q));
+        writeln!(
+            w,
+            "| {c} | {q} | {:.1} | {:.1} | {:.3} |",
+            100.0 * sc.irregular_se,
+            100.0 * sc.irregular_sp,
+            sc.irregular_f1
+        )?;
+    }
+
+    // Five-fold cross-validation of the two thresholds: chosen on four folds by F1, scored on
+    // the fifth.
+    writeln!(w, "\n## Cross-validated thresholds\n")?;
+    writeln!(
+        w,
+        "For each fold (record k in fold k mod {FOLDS}), the grid point above with the highest \
+         irregular-vs-rest F1 on the other four folds is applied to it; the held-out verdicts are \
+         pooled.\n"
+    )?;
+    writeln!(
+        w,
+        "| fold | cosen_min | p_wave_min | F1 on the other folds |\n|---|---|---|---|"
+    )?;
+    let mut pooled = Vec::new();
+    for f in 0..FOLDS {
+        let train: Vec<usize> = (0..rows.len()).filter(|k| k % FOLDS != f).collect();
+        let test: Vec<usize> = (0..rows.len()).filter(|k| k % FOLDS == f).collect();
+        let (best, f1) = grid
+            .iter()
+            .map(|&(c, q)| {
+                let sc = rescore(&rows, train.clone(), &vp(&p.verdict, c, q));
+                ((c, q), sc.irregular_f1)
+            })
+            .fold(((f64::NAN, f64::NAN), f64::NEG_INFINITY), |acc, x| {
+                if x.1 > acc.1 {
+                    x
+                } else {
+                    acc
+                }
+            });
+        writeln!(w, "| {f} | {} | {} | {f1:.3} |", best.0, best.1)?;
+        let vpar = vp(&p.verdict, best.0, best.1);
+        pooled.extend(
+            test.iter()
+                .map(|&k| (rows[k].truth, decide(&rows[k].evidence, &vpar).class)),
         );
     }
-    println!(
-        "irregular vs rest: Se {:.1} %, Sp {:.1} %, F1 {:.3}",
-        100.0 * s.irregular_se,
-        100.0 * s.irregular_sp,
-        s.irregular_f1
-    );
+    let cv = LabelScore::from_pairs(&pooled);
+    writeln!(
+        w,
+        "\nHeld out, pooled: irregular vs rest Se {:.1} %, Sp {:.1} %, F1 {:.3}.",
+        100.0 * cv.irregular_se,
+        100.0 * cv.irregular_sp,
+        cv.irregular_f1
+    )?;
+
+    print!("{page}");
+    if let Some(out) = &out {
+        beatfold::io::write_atomic(out, page.as_bytes())?;
+    }
     if std::env::var_os("VALIDATE_SHORT_DUMP").is_some() {
         for r in &rows {
             let e = &r.evidence;
             println!(
-                "row {},{},{},{:.4},{:.4},{:.4},{:.4},{},{:.4},{}",
+                "row {},{},{},{:.4},{:.4},{:.4},{:.4},{},{:.4},{},{:.4}",
                 r.record,
                 r.label,
                 r.verdict.class.name(),
@@ -82,7 +225,8 @@ fn main() -> anyhow::Result<()> {
                 e.flagged_fraction,
                 e.p_template,
                 e.p_wave_median,
-                e.n_beats
+                e.n_beats,
+                r.geometry_index
             );
         }
     }
@@ -103,4 +247,115 @@ fn main() -> anyhow::Result<()> {
         std::process::exit(2);
     }
     Ok(())
+}
+
+/// The confusion matrix, per-class scores and irregular-vs-rest scores as markdown.
+fn write_score(w: &mut String, s: &LabelScore) -> std::fmt::Result {
+    write!(w, "| label \\ verdict |")?;
+    for c in VerdictClass::ALL {
+        write!(w, " {} |", c.name())?;
+    }
+    writeln!(w, "\n|---|---|---|---|---|")?;
+    for (k, c) in VerdictClass::ALL.iter().enumerate() {
+        write!(w, "| {} |", c.name())?;
+        for v in s.confusion[k] {
+            write!(w, " {v} |")?;
+        }
+        writeln!(w)?;
+    }
+    writeln!(
+        w,
+        "\n| class | n | Se % | +P % | F1 |\n|---|---|---|---|---|"
+    )?;
+    for c in &s.classes {
+        writeln!(
+            w,
+            "| {} | {} | {:.1} | {:.1} | {:.3} |",
+            c.class.name(),
+            c.n_true,
+            100.0 * c.se,
+            100.0 * c.ppv,
+            c.f1
+        )?;
+    }
+    writeln!(
+        w,
+        "\nIrregular vs rest: **Se {:.1} %, Sp {:.1} %, F1 {:.3}**.",
+        100.0 * s.irregular_se,
+        100.0 * s.irregular_sp,
+        s.irregular_f1
+    )
+}
+
+/// The default verdict parameters with the two thresholds of the decision replaced.
+fn vp(base: &VerdictParams, cosen_min: f64, p_wave_min: f64) -> VerdictParams {
+    VerdictParams {
+        cosen_min,
+        p_wave_min,
+        ..base.clone()
+    }
+}
+
+/// The score of the records `idx` decided again from their evidence with `params`.
+fn rescore(rows: &[LabelledVerdict], idx: Vec<usize>, params: &VerdictParams) -> LabelScore {
+    let pairs: Vec<(VerdictClass, VerdictClass)> = idx
+        .into_iter()
+        .map(|k| (rows[k].truth, decide(&rows[k].evidence, params).class))
+        .collect();
+    LabelScore::from_pairs(&pairs)
+}
+
+/// Ranks 1..n of the finite values (ties share their mean rank); NaN stays NaN.
+fn ranks(v: &[f64]) -> Vec<f64> {
+    let mut idx: Vec<usize> = (0..v.len()).filter(|&i| v[i].is_finite()).collect();
+    idx.sort_by(|&a, &b| v[a].total_cmp(&v[b]));
+    let mut r = vec![f64::NAN; v.len()];
+    let mut k = 0;
+    while k < idx.len() {
+        let mut e = k + 1;
+        while e < idx.len() && v[idx[e]] == v[idx[k]] {
+            e += 1;
+        }
+        let mean = (k + e + 1) as f64 / 2.0;
+        for &i in &idx[k..e] {
+            r[i] = mean;
+        }
+        k = e;
+    }
+    r
+}
+
+/// Pooled held-out (Se, Sp) of the rule "score above a threshold", the threshold chosen on the
+/// other folds as the lowest that keeps their specificity at least `min_sp`. Fold of record k:
+/// k mod [`FOLDS`]. A non-finite score counts as no call.
+fn cross_validated(pairs: &[(f64, bool)], min_sp: f64) -> (f64, f64) {
+    let (mut tp, mut fneg, mut tn, mut fp) = (0usize, 0usize, 0usize, 0usize);
+    for f in 0..FOLDS {
+        let mut neg: Vec<f64> = pairs
+            .iter()
+            .enumerate()
+            .filter(|(k, p)| k % FOLDS != f && !p.1 && p.0.is_finite())
+            .map(|(_, p)| p.0)
+            .collect();
+        neg.sort_by(f64::total_cmp);
+        // At most floor((1 − min_sp)·n) negatives may lie above the threshold.
+        let allowed = ((1.0 - min_sp) * neg.len() as f64).floor() as usize;
+        let thr = neg
+            .len()
+            .checked_sub(allowed + 1)
+            .map_or(f64::NEG_INFINITY, |i| neg[i]);
+        for (_, p) in pairs.iter().enumerate().filter(|(k, _)| k % FOLDS == f) {
+            let call = p.0.is_finite() && p.0 > thr;
+            match (p.1, call) {
+                (true, true) => tp += 1,
+                (true, false) => fneg += 1,
+                (false, true) => fp += 1,
+                (false, false) => tn += 1,
+            }
+        }
+    }
+    (
+        tp as f64 / (tp + fneg).max(1) as f64,
+        tn as f64 / (tn + fp).max(1) as f64,
+    )
 }

@@ -55,6 +55,17 @@ pub fn verdict_of_beats(
 /// embedding). A record too short or too broken for detection gets an `unreadable` verdict
 /// with the reason, not an error; bad parameters are errors.
 pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, VerdictEvidence)> {
+    let (v, e, _) = record_verdict_geometry(rec, p, false)?;
+    Ok((v, e))
+}
+
+/// [`record_verdict`] and, with `geometry`, the record's beat-geometry index
+/// ([`record_geometry_index`]; NaN when not asked for or when the record has too few beats).
+pub fn record_verdict_geometry(
+    rec: &Record,
+    p: &AnalyzeParams,
+    geometry: bool,
+) -> Result<(Verdict, VerdictEvidence, f64)> {
     p.check()?;
     let li = pipeline::choose_lead(rec, p.lead.as_deref())?;
     let raw = &rec.leads[li].samples;
@@ -84,7 +95,7 @@ pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, Verdi
                 2.0 * p.condition.band_hz.1
             )];
         }
-        return Ok((v, e));
+        return Ok((v, e, f64::NAN));
     }
     let quality = crate::signal::quality(raw, rec.fs_hz, p.quality_segment_s);
     let b = pipeline::detect_beats_on(rec, li, p)?;
@@ -94,7 +105,13 @@ pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, Verdi
         .iter()
         .map(|e| (e.end_s - e.start_s).max(0.0))
         .sum();
-    verdict_of_beats(rec, li, &b, &quality, irregular_s, p)
+    let (v, e) = verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
+    let g = if geometry {
+        record_geometry_index(rec, &b, p)?
+    } else {
+        f64::NAN
+    };
+    Ok((v, e, g))
 }
 
 /// Beat-geometry irregularity index of a recurrence timeline of the embedded beat trajectory:
@@ -179,16 +196,20 @@ pub struct LabelledVerdict {
     pub evidence: VerdictEvidence,
     /// Reader warnings (e.g. a checksum that does not match).
     pub warnings: Vec<String>,
+    /// The beat-geometry irregularity index ([`record_geometry_index`]).
+    pub geometry_index: f64,
 }
 
 /// Verdicts of every record of a label file found in `dir`, in the label file's order, computed
 /// in parallel (the result does not depend on the thread count). Every record is found before
-/// any is analysed, so a missing one fails fast.
+/// any is analysed, so a missing one fails fast. With `geometry` each record's beat-geometry
+/// index is computed too (a diffusion map per record; NaN otherwise).
 pub fn verdicts_for_labels(
     dir: &Path,
     labels: &[(String, String)],
     map: &LabelMap,
     p: &AnalyzeParams,
+    geometry: bool,
 ) -> Result<Vec<LabelledVerdict>> {
     use rayon::prelude::*;
     p.check()?;
@@ -207,7 +228,8 @@ pub fn verdicts_for_labels(
     jobs.par_iter()
         .map(|(name, label, truth, path)| {
             let loaded = io::read_record(path, &ReadOptions::default())?;
-            let (verdict, evidence) = record_verdict(&loaded.record, p)?;
+            let (verdict, evidence, geometry_index) =
+                record_verdict_geometry(&loaded.record, p, geometry)?;
             Ok(LabelledVerdict {
                 record: name.clone(),
                 label: label.clone(),
@@ -215,6 +237,7 @@ pub fn verdicts_for_labels(
                 verdict,
                 evidence,
                 warnings: loaded.warnings,
+                geometry_index,
             })
         })
         .collect()
@@ -226,9 +249,10 @@ pub fn score_labels(
     labels_path: &Path,
     map: &LabelMap,
     p: &AnalyzeParams,
+    geometry: bool,
 ) -> Result<(LabelScore, Vec<LabelledVerdict>)> {
     let labels = crate::rhythm::label_score::read_labels(labels_path)?;
-    let rows = verdicts_for_labels(dir, &labels, map, p)?;
+    let rows = verdicts_for_labels(dir, &labels, map, p, geometry)?;
     let pairs: Vec<(VerdictClass, VerdictClass)> =
         rows.iter().map(|r| (r.truth, r.verdict.class)).collect();
     Ok((LabelScore::from_pairs(&pairs), rows))

@@ -27,7 +27,7 @@ fn summary(dir: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap()
 }
 
-const FIGURES: [&str; 7] = [
+const FIGURES: [&str; 8] = [
     "trace",
     "beats",
     "embedding",
@@ -35,6 +35,7 @@ const FIGURES: [&str; 7] = [
     "dimension",
     "recurrence",
     "rr",
+    "rhythm",
 ];
 
 fn assert_outputs(dir: &Path) {

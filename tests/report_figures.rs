@@ -62,7 +62,7 @@ fn figure_list_parses_names_numbers_and_all() {
         vec![Figure::Trace, Figure::Rr]
     );
     assert_eq!(Figure::parse_list("all").unwrap(), Figure::ALL.to_vec());
-    assert_eq!(Figure::ALL.len(), 7);
+    assert_eq!(Figure::ALL.len(), 8);
     let e = Figure::parse_list("trace,bogus").unwrap_err().to_string();
     assert!(e.contains("bogus") && e.contains("figures"), "{e}");
     assert!(Figure::parse_list(" , ").is_err());

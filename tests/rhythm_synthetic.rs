@@ -95,3 +95,171 @@ fn screen_covers_the_synthetic_episode() {
             .all(|w| (0.0..=1.0).contains(&w.rqa.det)));
     }
 }
+
+#[test]
+fn demo_episode_is_found_at_beat_resolution() {
+    // The bundled demo recording (demo-data/, synthetic with exact ground truth in its
+    // annotation file): one irregular episode of 54 s, 144–198 s, about 60 beats, shorter than
+    // one 128-interval window. The screen must report it as one episode whose edges lie within
+    // 5 s of the truth (about five beats at the episode's rate), and the record's verdict must
+    // say `irregular` (an AF-like episode of 30 s or more, no P waves inside it).
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data");
+    let opts = beatfold::io::ReadOptions {
+        annotations: Some(root.join("telemetry-night.annotations.csv")),
+        ..Default::default()
+    };
+    let rec = beatfold::io::read_record(&root.join("telemetry-night.csv"), &opts)
+        .unwrap()
+        .record;
+    let truth: Vec<(f64, f64)> = rec
+        .annotations
+        .rhythms
+        .iter()
+        .filter(|r| r.label == RHYTHM_IRREGULAR)
+        .map(|r| (r.start_s, r.end_s))
+        .collect();
+    assert_eq!(truth, vec![(144.0, 198.0)]);
+    let a = analyze(
+        &rec,
+        &InputInfo::default(),
+        &AnalyzeParams::default(),
+        &mut |_, _| {},
+    )
+    .unwrap();
+    let found = a.screen.episode_bounds();
+    eprintln!("demo episodes: {found:?}; verdict {:?}", a.verdict);
+    assert_eq!(found.len(), 1, "{found:?}");
+    let (start, end) = found[0];
+    assert!(
+        (start - 144.0).abs() <= 5.0,
+        "start {start:.1} s, truth 144 s"
+    );
+    assert!((end - 198.0).abs() <= 5.0, "end {end:.1} s, truth 198 s");
+    assert_eq!(
+        a.verdict.class,
+        beatfold::rhythm::verdict::VerdictClass::Irregular,
+        "{:?}",
+        a.verdict.reasons
+    );
+}
+
+#[test]
+fn short_synthetic_records_get_their_verdict() {
+    // 30 s records at 300 Hz (the rate of the short-record challenge data), synthetic with exact
+    // truth (src/synth): sinus rhythm with the resting scenario's variability and P waves, an
+    // irregular rhythm over the whole record (gamma RR, no P wave), and ventricular bigeminy and
+    // trigeminy (`ectopic_every` 2 and 3). AF-like is `irregular` (common practice: irregularly
+    // irregular RR and no organised atrial activity); a repeating ectopic pattern is not.
+    use beatfold::rhythm::verdict::VerdictClass;
+    let p = AnalyzeParams::default();
+    let verdict = |sp: SynthParams| {
+        let rec = synthesize(&sp).unwrap();
+        beatfold::verdicts::record_verdict(&rec, &p).unwrap().0
+    };
+    for seed in [1u64, 2, 3] {
+        let base = SynthParams {
+            ectopic_rate: 0.0,
+            ..SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, seed)
+        };
+        let sinus = verdict(base.clone());
+        let irregular = verdict(SynthParams {
+            irregular_episodes: vec![(0.0, 30.0)],
+            ..base.clone()
+        });
+        eprintln!("seed {seed}: sinus {sinus:?}\n irregular {irregular:?}");
+        assert_eq!(sinus.class, VerdictClass::Regular, "{:?}", sinus.reasons);
+        assert_eq!(
+            irregular.class,
+            VerdictClass::Irregular,
+            "{:?}",
+            irregular.reasons
+        );
+        // Ventricular bigeminy. Measured when written: `unreadable` on seeds 1 and 2 (the two
+        // detectors agree on 68–69 % of the beats: one of them misses the wide premature
+        // complexes). Either way it must not be called `irregular`.
+        let v = verdict(SynthParams {
+            ectopic_every: 2,
+            ..base.clone()
+        });
+        eprintln!(" bigeminy: {v:?}");
+        assert_ne!(
+            v.class,
+            VerdictClass::Irregular,
+            "bigeminy: {:?}",
+            v.reasons
+        );
+    }
+}
+
+#[test]
+#[ignore = "known defect: synthetic trigeminy (seed 2) is called `irregular` (COSEn -1.13, no P-wave template: too few locally regular beats)"]
+fn trigeminy_is_not_irregular() {
+    // Ventricular trigeminy (N N V, `ectopic_every` 3), 30 s at 300 Hz: a repeating pattern,
+    // never an irregularly irregular rhythm (common practice). Measured when written: seed 1
+    // `other`, seed 2 `irregular` (the defect), so this test is ignored until the verdict can
+    // find the P waves of the sinus beats of such a record.
+    use beatfold::rhythm::verdict::VerdictClass;
+    let p = AnalyzeParams::default();
+    for seed in [1u64, 2, 3] {
+        let sp = SynthParams {
+            ectopic_rate: 0.0,
+            ectopic_every: 3,
+            ..SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, seed)
+        };
+        let rec = synthesize(&sp).unwrap();
+        let v = beatfold::verdicts::record_verdict(&rec, &p).unwrap().0;
+        assert_ne!(
+            v.class,
+            VerdictClass::Irregular,
+            "seed {seed}: {:?}",
+            v.reasons
+        );
+    }
+}
+
+#[test]
+fn bad_records_get_an_unreadable_verdict_not_a_panic() {
+    // A record shorter than 10 s, an all-NaN one and a flat line, each 300 Hz, end to end
+    // through `record_verdict`: each is `unreadable` with a reason that says why.
+    use beatfold::record::{Annotations, Lead, Record};
+    use beatfold::rhythm::verdict::VerdictClass;
+    let p = AnalyzeParams::default();
+    let rec = |samples: Vec<f64>| Record {
+        name: "bad".into(),
+        fs_hz: 300.0,
+        leads: vec![Lead {
+            name: "ecg".into(),
+            unit: "mV".into(),
+            samples,
+        }],
+        start_time: None,
+        annotations: Annotations::default(),
+    };
+    let short = synthesize(&SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, 1))
+        .unwrap()
+        .leads[0]
+        .samples[..2400]
+        .to_vec();
+    for (name, samples, words) in [
+        ("8 s", short, "shorter than"),
+        ("all NaN", vec![f64::NAN; 9000], "missing"),
+        ("flat", vec![0.0; 9000], "beats detected"),
+    ] {
+        // A clear verdict, or a typed error that says what is wrong; never a panic.
+        match beatfold::verdicts::record_verdict(&rec(samples), &p) {
+            Ok((v, _)) => {
+                eprintln!("{name}: {:?}", v.reasons);
+                assert_eq!(v.class, VerdictClass::Unreadable, "{name}: {:?}", v.reasons);
+                assert!(
+                    v.reasons.iter().any(|r| r.contains(words)),
+                    "{name}: {:?}",
+                    v.reasons
+                );
+            }
+            Err(e) => {
+                eprintln!("{name}: error {e}");
+                assert!(name == "flat" && !e.to_string().is_empty(), "{name}: {e}");
+            }
+        }
+    }
+}

@@ -4,6 +4,7 @@ use anyhow::{bail, Result};
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::rhythm::label_score::LabelMap;
 use beatfold::rhythm::verdict::{verdict_json, VerdictClass};
+use beatfold::verdicts::LabelledVerdict;
 use serde_json::json;
 use std::path::{Path, PathBuf};
 
@@ -33,7 +34,7 @@ pub fn run(
         lead,
         ..AnalyzeParams::default()
     };
-    let (s, rows) = beatfold::verdicts::score_labels(dir, labels, &map, &p)?;
+    let (s, rows) = beatfold::verdicts::score_labels(dir, labels, &map, &p, true)?;
     let num = |x: f64| {
         if x.is_finite() {
             json!(x)
@@ -54,13 +55,16 @@ pub fn run(
             .iter()
             .map(|r| {
                 json!({"record": r.record, "label": r.label, "truth": r.truth.name(),
-                "verdict": verdict_json(&r.verdict), "warnings": r.warnings})
+                "verdict": verdict_json(&r.verdict), "geometry_index": num(r.geometry_index),
+                "warnings": r.warnings})
             })
             .collect();
         let j = json!({"n": s.n,
             "classes_order": VerdictClass::ALL.iter().map(|c| c.name()).collect::<Vec<_>>(),
             "confusion": s.confusion, "classes": classes,
             "irregular_vs_rest": {"se": num(s.irregular_se), "sp": num(s.irregular_sp), "f1": num(s.irregular_f1)},
+            "index_auc": {"cosen": num(auc_of(&rows, |r| r.evidence.cosen)),
+                "geometry": num(auc_of(&rows, |r| r.geometry_index))},
             "label_map": map.describe(), "records": recs, "notice": beatfold::NOTICE});
         println!("{}", serde_json::to_string_pretty(&j)?);
         return Ok(());
@@ -87,5 +91,19 @@ pub fn run(
         100.0 * s.irregular_sp,
         s.irregular_f1
     );
+    println!(
+        "irregular vs rest AUC: RR index (COSEn) {:.3}, beat-geometry index {:.3}",
+        auc_of(&rows, |r| r.evidence.cosen),
+        auc_of(&rows, |r| r.geometry_index)
+    );
     Ok(())
+}
+
+/// AUC of one index for irregular against every other label.
+fn auc_of(rows: &[LabelledVerdict], index: impl Fn(&LabelledVerdict) -> f64) -> f64 {
+    let pairs: Vec<(f64, bool)> = rows
+        .iter()
+        .map(|r| (index(r), r.truth == VerdictClass::Irregular))
+        .collect();
+    beatfold::rhythm::label_score::auc(&pairs)
 }

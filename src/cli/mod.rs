@@ -167,7 +167,7 @@ pub enum Command {
         #[arg(long)]
         json: bool,
         /// Figures to draw, comma separated, or `all` (default): trace, beats, embedding,
-        /// trajectory, dimension, recurrence, rr (or their numbers 1–7).
+        /// trajectory, dimension, recurrence, rr, rhythm (or their numbers 1–8).
         #[arg(long, value_name = "LIST", default_value = "all")]
         figures: String,
         /// Start of the time range of the trace, trajectory and recurrence figures, seconds

@@ -16,8 +16,8 @@
 //!   `format[xspf][:skew][+offset]`; a signal file named `*.mat` is a MATLAB v4 matrix (see
 //!   [`super::matv4`]) whose data start at the byte offset.
 //!
-//! On reading, each signal's initial value is verified (a mismatch is an error) and its 16-bit
-//! checksum (a mismatch is a warning, or an error under [`ChecksumPolicy::Strict`]).
+//! On reading, each signal's initial value and its 16-bit checksum are verified (a mismatch is a
+//! warning, or an error under [`ChecksumPolicy::Strict`]).
 
 use crate::error::{Error, Result};
 use crate::record::{Annotations, BeatAnnotation, Lead, Record};
@@ -802,11 +802,18 @@ fn assemble(
         }
         if let (Some(iv), Some(&first)) = (s.init_value, avail.first()) {
             if iv != first {
-                return Err(Error::input(
-                    hea,
-                    format!("signal {i} ({}), initial value", s.description),
-                    format!("header says {iv}, signal file starts with {first}"),
-                ));
+                // Like the checksum, the initial value is a converter-written consistency
+                // field; the policy decides whether a mismatch stops the reading.
+                let place = format!("signal {i} ({}), field initial value", s.description);
+                match policy {
+                    ChecksumPolicy::Strict => {
+                        return Err(Error::input(hea, place, format!("header says {iv}, signal file starts with {first} (checksum policy `strict`)")));
+                    }
+                    ChecksumPolicy::Warn => warnings.push(format!(
+                        "{}: {place}: header says {iv}, signal file starts with {first}; reading goes on (checksum policy `warn`; `strict` makes this an error)",
+                        hea.display()
+                    )),
+                }
             }
         }
         if let Some(cs) = s.checksum {

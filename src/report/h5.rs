@@ -248,6 +248,15 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     g.set_attr("sd1_ms", AttrValue::F64(a.poincare_ms.0));
     g.set_attr("sd2_ms", AttrValue::F64(a.poincare_ms.1));
     g.set_attr("sample_entropy", AttrValue::F64(a.sample_entropy));
+    // The record's verdict (a research label, never a diagnosis) and the beat-geometry index.
+    g.set_attr("verdict_class", text(a.verdict.class.name()));
+    g.set_attr(
+        "verdict_irregular_fraction",
+        AttrValue::F64(a.verdict.irregular_fraction),
+    );
+    g.set_attr("verdict_index", AttrValue::F64(a.verdict.index));
+    g.set_attr("verdict_reasons", text(&a.verdict.reasons.join("\n")));
+    g.set_attr("geometry_index", AttrValue::F64(a.geometry_index));
     let sw = &a.screen.windows;
     let col = |f: &dyn Fn(&crate::rhythm::screen::ScreenWindow) -> f64| -> Vec<f64> {
         sw.iter().map(f).collect()
@@ -262,6 +271,13 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
         .with_f64_data(&col(&|w| w.tpr));
     g.create_dataset("screen_irregular")
         .with_u8_data(&sw.iter().map(|w| u8::from(w.irregular)).collect::<Vec<_>>());
+    let ss = &a.screen.short_windows;
+    g.create_dataset("screen_short_start_rr")
+        .with_u64_data(&ss.iter().map(|w| w.start as u64).collect::<Vec<_>>());
+    g.create_dataset("screen_short_nrmssd")
+        .with_f64_data(&ss.iter().map(|w| w.nrmssd).collect::<Vec<_>>());
+    g.create_dataset("screen_short_irregular")
+        .with_u8_data(&ss.iter().map(|w| u8::from(w.irregular)).collect::<Vec<_>>());
     let ep: Vec<f64> = a
         .screen
         .episodes

@@ -113,6 +113,17 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
         "Sample entropy (m 2, r 0.2·SD)",
         &f(a.sample_entropy, 3),
     );
+    row(
+        &mut t,
+        "Rhythm verdict (research label, not a diagnosis)",
+        &html_escape(&format!(
+            "{} (irregular fraction {}, COSEn {}): {}",
+            a.verdict.class.name(),
+            f(a.verdict.irregular_fraction, 2),
+            f(a.verdict.index, 2),
+            a.verdict.reasons.join("; ")
+        )),
+    );
     let eps: Vec<String> = a
         .screen
         .episodes

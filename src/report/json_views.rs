@@ -143,7 +143,7 @@ pub fn record_rhythm_json(
         .collect();
     let mut j = rr_rhythm_json(&b.rr_s, &t_end, &b.labels, window, step)?;
     j["record"] = json!(record);
-    j["screen"] = json!({"windows": sc.windows.len(), "episodes": sc.episodes});
+    j["screen"] = json!({"windows": sc.windows.len(), "short_windows": sc.short_windows.len(), "episodes": sc.episodes});
     j["verdict"] = crate::rhythm::verdict::verdict_json(verdict);
     Ok(j)
 }

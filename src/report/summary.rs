@@ -89,7 +89,7 @@ pub fn summary_json(a: &Analysis) -> Value {
             "screen_windows": a.screen.windows.len(),
             "screen_irregular_windows": a.screen.windows.iter().filter(|w| w.irregular).count(),
             "irregular_episodes": a.screen.episodes.iter().map(|e| serde_json::json!({"start_s": num(e.start_s), "end_s": num(e.end_s)})).collect::<Vec<_>>(),
-            "irregular_s": num(a.screen.episodes.iter().map(|e| e.end_s - e.start_s).sum::<f64>()),
+            "irregular_s": num(a.screen.episodes.iter().map(|e| e.end_s - e.start_s).sum::<f64>() + 0.0),
             "recurrence_windows": a.recurrence.len(),
             "recurrence_det_median": num(crate::stats::median(a.recurrence.iter().map(|w| w.rqa.det))),
         },

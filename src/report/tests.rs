@@ -158,6 +158,7 @@ fn sample_analysis() -> Analysis {
         poincare_ms: (20.0, 45.0),
         sample_entropy: 1.2,
         screen: crate::rhythm::screen::Screen {
+            short_windows: Vec::new(),
             windows: vec![crate::rhythm::screen::ScreenWindow {
                 start: 0,
                 end: 16,
@@ -248,7 +249,7 @@ fn degenerate_analysis() -> Analysis {
     a
 }
 
-const FIGS: [&str; 7] = [
+const FIGS: [&str; 8] = [
     "trace",
     "beats",
     "embedding",
@@ -256,6 +257,7 @@ const FIGS: [&str; 7] = [
     "dimension",
     "recurrence",
     "rr",
+    "rhythm",
 ];
 
 fn expected_files(dir: &Path) -> Vec<PathBuf> {
@@ -335,7 +337,7 @@ fn options_turn_outputs_off() {
 #[test]
 fn svgs_have_axis_titles_and_notice() {
     let a = sample_analysis();
-    let expect: [(figures::Figure, &[&str]); 7] = [
+    let expect: [(figures::Figure, &[&str]); 8] = [
         (
             figures::Figure::Trace,
             &[
@@ -396,6 +398,16 @@ fn svgs_have_axis_titles_and_notice() {
         (
             figures::Figure::Rr,
             &["Time (s)", "RR interval (s)", "RR(n) (s)", "RR(n+1) (s)"],
+        ),
+        (
+            figures::Figure::Rhythm,
+            &[
+                "Time (s)",
+                "RR (s)",
+                "window nRMSSD",
+                "segment COSEn",
+                "verdict `regular`",
+            ],
         ),
     ];
     for (fig, words) in expect {

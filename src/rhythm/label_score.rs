@@ -212,6 +212,39 @@ impl LabelScore {
     }
 }
 
+/// Area under the ROC curve of a score for positives against negatives: the Mann–Whitney
+/// statistic, the probability that a random positive scores above a random negative, ties
+/// counting one half (Hanley & McNeil 1982). Pairs with a non-finite score are left out; NaN
+/// without a finite positive and a finite negative.
+pub fn auc(scores: &[(f64, bool)]) -> f64 {
+    let pos: Vec<f64> = scores
+        .iter()
+        .filter(|s| s.1 && s.0.is_finite())
+        .map(|s| s.0)
+        .collect();
+    let neg: Vec<f64> = scores
+        .iter()
+        .filter(|s| !s.1 && s.0.is_finite())
+        .map(|s| s.0)
+        .collect();
+    if pos.is_empty() || neg.is_empty() {
+        return f64::NAN;
+    }
+    let mut wins = 0.0;
+    for &p in &pos {
+        for &n in &neg {
+            wins += if p > n {
+                1.0
+            } else if p == n {
+                0.5
+            } else {
+                0.0
+            };
+        }
+    }
+    wins / (pos.len() * neg.len()) as f64
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -237,6 +270,22 @@ mod tests {
         assert!((s.classes[1].ppv - 2.0 / 3.0).abs() < 1e-12);
         assert!((s.classes[0].se - 0.5).abs() < 1e-12);
         assert!(s.classes[3].se.is_nan());
+    }
+
+    #[test]
+    fn auc_counts_ordered_pairs() {
+        // Worked by hand (Hanley & McNeil 1982, the Mann–Whitney form): positives 0.9, 0.4;
+        // negatives 0.5, 0.4, 0.1 → pairs won 3 + 1.5 (a tie with 0.4 and a win over 0.1) of 6.
+        let s = [
+            (0.9, true),
+            (0.4, true),
+            (0.5, false),
+            (0.4, false),
+            (0.1, false),
+            (f64::NAN, true),
+        ];
+        assert!((auc(&s) - 4.5 / 6.0).abs() < 1e-12);
+        assert!(auc(&[(1.0, true)]).is_nan());
     }
 
     #[test]

@@ -347,9 +347,14 @@ pub fn evidence(
     }
 }
 
-/// Share of the record's beat-covered time in segments that are irregular by COSEn and carry no
-/// P waves (beat resolution: [`VerdictParams::segment_beats`] intervals per segment).
+/// Share of the record in irregular stretches: the screen's episodes over the duration when it
+/// found any (long records), else the share of the beat-covered time in segments that are
+/// irregular by COSEn and carry no P waves (beat resolution: [`VerdictParams::segment_beats`]
+/// intervals per segment).
 fn irregular_fraction(e: &VerdictEvidence, p: &VerdictParams) -> f64 {
+    if e.screen_irregular_s > 0.0 && e.duration_s > 0.0 {
+        return (e.screen_irregular_s / e.duration_s).clamp(0.0, 1.0);
+    }
     let total: f64 = e.segments.iter().map(|s| s[1] - s[0]).sum();
     if !(total > 0.0) {
         return 0.0;
@@ -360,7 +365,8 @@ fn irregular_fraction(e: &VerdictEvidence, p: &VerdictParams) -> f64 {
         .filter(|s| s[2] > p.cosen_min && !(s[3] >= p.p_wave_min))
         .map(|s| s[1] - s[0])
         .sum();
-    (irr / total).clamp(0.0, 1.0)
+    // `+ 0.0` turns the −0.0 of an empty sum into 0.0.
+    (irr / total).clamp(0.0, 1.0) + 0.0
 }
 
 fn pct(x: f64) -> String {
@@ -444,7 +450,12 @@ pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
             ));
             VerdictClass::Other
         } else {
-            reasons.push(if e.p_template {
+            reasons.push(if episodes && organised_atria {
+                format!(
+                    "the episodes lack the record's P wave (stretches of {:.0} s or more with it are cut out of them); the record's median P-wave index is {:.2}",
+                    p.min_episode_total_s, e.p_wave_median
+                )
+            } else if e.p_template {
                 format!(
                     "no consistent P wave: median P-wave index {:.2}, below {:.2}",
                     e.p_wave_median, p.p_wave_min

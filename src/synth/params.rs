@@ -56,6 +56,10 @@ pub struct SynthParams {
     /// Fraction of beats that are premature ectopic (`V`) beats; [0, 0.3]. Ectopic beats are
     /// placed in regular stretches only, never two in a row.
     pub ectopic_rate: f64,
+    /// A fixed ectopic pattern instead of `ectopic_rate` (default 0, none): every
+    /// `ectopic_every`-th beat of the regular stretches is a premature ectopic beat, so 2 gives
+    /// ventricular bigeminy (N V N V …) and 3 trigeminy (N N V N N V …); 0 or 2..=10.
+    pub ectopic_every: usize,
     /// Nominal R-wave amplitude of a normal beat in lead 1, mV; [0.1, 5].
     pub r_amplitude_mv: f64,
     /// Peak amplitude of the baseline wander (respiratory 0.2–0.3 Hz part plus slow drift), mV;
@@ -102,6 +106,7 @@ impl SynthParams {
             irregular_rr_cv: 0.25,
             fibrillation_mv: 0.07,
             ectopic_rate: 0.002,
+            ectopic_every: 0,
             r_amplitude_mv: 1.2,
             baseline_wander_mv: 0.05,
             mains_hz: 50.0,
@@ -198,6 +203,15 @@ impl SynthParams {
             0.3,
             "(fraction of beats)",
         )?;
+        if self.ectopic_every == 1 || self.ectopic_every > 10 {
+            return Err(Error::param(
+                "ectopic_every",
+                format!(
+                    "{} beats; allowed 0 (no pattern) or 2..=10 (2 bigeminy, 3 trigeminy)",
+                    self.ectopic_every
+                ),
+            ));
+        }
         range("r_amplitude_mv", self.r_amplitude_mv, 0.1, 5.0, "mV")?;
         range(
             "baseline_wander_mv",

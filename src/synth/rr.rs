@@ -162,6 +162,8 @@ pub(crate) fn schedule(
     // Probability that a normal beat is followed by an ectopic one, so that (with no two
     // ectopic beats in a row) the long-run fraction of ectopic beats is `ectopic_rate`.
     let q = p.ectopic_rate / (1.0 - p.ectopic_rate);
+    // Normal beats since the last ectopic one, for a fixed pattern (`ectopic_every`).
+    let mut since_ectopic = 0usize;
 
     // First beat in the record at a random phase; warm-up beats before it at constant RR.
     let rr0 = tach.at(0.0);
@@ -206,11 +208,17 @@ pub(crate) fn schedule(
         let t_v = t + coupling * rr;
         // The beat at `t` is never ectopic itself (an ectopic beat is always followed by a normal
         // one), so ectopic beats never come two in a row.
-        let ectopic = draw < q
+        let wanted = if p.ectopic_every >= 2 {
+            since_ectopic + 2 >= p.ectopic_every
+        } else {
+            draw < q
+        };
+        let ectopic = wanted
             && coupling * rr >= MIN_COUPLING_S
             && t_v < duration_s
             && !in_episode(episodes, t_v);
         if ectopic {
+            since_ectopic = 0;
             beats.push(ScheduledBeat {
                 t_s: t_v,
                 kind: BeatKind::Ventricular,
@@ -223,6 +231,7 @@ pub(crate) fn schedule(
                 kind: kind_at(t),
             });
         } else {
+            since_ectopic += 1;
             t += rr;
             beats.push(ScheduledBeat {
                 t_s: t,

@@ -177,6 +177,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
         sample_entropy: 0.5,
         screen: Screen {
             windows: Vec::new(),
+            short_windows: Vec::new(),
             irregular: vec![false; n_beats.saturating_sub(1)],
             episodes: vec![Episode {
                 start_s: 2.0,

@@ -1,7 +1,7 @@
 //! Figures of an [`Analysis`], drawn with plotters into SVG (text) and PNG (1800 × 1000 px, which
 //! is 6 × 3.3 inches at 300 dpi).
 //!
-//! Seven figures, in report order: 1 `trace` (conditioned lead of a chosen time range with
+//! Eight figures, in report order: 1 `trace` (conditioned lead of a chosen time range with
 //! detected beats by class, quality flags, screen episodes and reference rhythm intervals),
 //! 2 `beats` (aligned beat windows with the median template per beat class), 3 `embedding`
 //! (diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3, coloured by time, RR, beat class or rhythm
@@ -9,7 +9,8 @@
 //! interval), 5 `dimension` (k-means quantization scaling and local dimension against scale),
 //! 6 `recurrence` (recurrence plot of one window of the embedded trajectory, Marwan et al. 2007,
 //! and the recurrence-measure timeline), 7 `rr` (RR tachogram with the irregular-rhythm research
-//! screen shaded, and the Poincaré plot of Brennan et al. 2001).
+//! screen shaded, and the Poincaré plot of Brennan et al. 2001), 8 `rhythm` (the whole record:
+//! windowed indices, episodes and the verdict).
 //!
 //! Text in PNGs is rendered with the DejaVu Sans font compiled into the binary
 //! (`assets/fonts/DejaVuSans.ttf`, Bitstream Vera licence), so figures need no system font.
@@ -31,6 +32,7 @@ pub(crate) mod dimension_suite;
 mod embedding;
 mod kmeans_dimension;
 mod recurrence;
+mod rhythm;
 mod rr;
 pub(crate) mod style;
 mod trace;
@@ -66,11 +68,13 @@ pub enum Figure {
     Recurrence,
     /// 7. RR tachogram with the irregular-rhythm screen, and the Poincaré plot.
     Rr,
+    /// 8. The rhythm over the whole record: windowed indices, episodes and the verdict.
+    Rhythm,
 }
 
 impl Figure {
     /// All figures, in report order.
-    pub const ALL: [Figure; 7] = [
+    pub const ALL: [Figure; 8] = [
         Figure::Trace,
         Figure::Beats,
         Figure::Embedding,
@@ -78,6 +82,7 @@ impl Figure {
         Figure::Dimension,
         Figure::Recurrence,
         Figure::Rr,
+        Figure::Rhythm,
     ];
 
     /// File name without extension (also the name used by `--figures`).
@@ -90,6 +95,7 @@ impl Figure {
             Figure::Dimension => "dimension",
             Figure::Recurrence => "recurrence",
             Figure::Rr => "rr",
+            Figure::Rhythm => "rhythm",
         }
     }
 
@@ -103,10 +109,11 @@ impl Figure {
             Figure::Dimension => "Local dimension against scale for every estimator (k-means quantization scaling, TwoNN, MLE, correlation dimension, local PCA) with 95 % bootstrap intervals at the right; the shaded band is the noise-dominated regime. Without the estimator suite: k-means distortion against k (left) and its local dimension against scale (right).",
             Figure::Recurrence => "Left: recurrence plot of one window of the beat trajectory in diffusion coordinates. Right: recurrence rate, determinism and laminarity in sliding windows; the shaded band is the window on the left.",
             Figure::Rr => "Left: RR tachogram with irregular-rhythm research-screen episodes shaded (not a diagnosis). Right: Poincaré plot of successive RR intervals.",
+            Figure::Rhythm => "The whole record: RR with the episodes found (orange) and the reference's irregular intervals (top strip); the screen's windowed nRMSSD (long and short windows) against its threshold; the coefficient of sample entropy per segment of consecutive intervals against the verdict's threshold, with the segments whose P waves match the record's template (green strip). The title gives the record's verdict (a research label, not a diagnosis).",
         }
     }
 
-    /// Parse a comma-separated list of figure names (`trace,rr`), or `all`. Numbers 1–7 (the
+    /// Parse a comma-separated list of figure names (`trace,rr`), or `all`. Numbers 1–8 (the
     /// report order) are accepted as well.
     pub fn parse_list(list: &str) -> Result<Vec<Figure>> {
         let mut out: Vec<Figure> = Vec::new();
@@ -204,5 +211,6 @@ fn draw<DB: DrawingBackend>(fig: Figure, a: &Analysis, view: &View, root: &Area<
         Figure::Dimension => kmeans_dimension::draw_dimension(a, &body),
         Figure::Recurrence => recurrence::draw_recurrence(a, view, &body),
         Figure::Rr => rr::draw_rr(a, &body),
+        Figure::Rhythm => rhythm::draw_rhythm_timeline(a, &body),
     }
 }
