@@ -138,14 +138,7 @@ fn main() -> anyhow::Result<()> {
         let fused = pipeline::detect_beats(&rec, &fused_params)?;
         let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
         let score = |d: &[usize]| {
-            beats::ec57::score_record(
-                rec_name,
-                &reference,
-                d,
-                rec.fs_hz,
-                rec.n_samples(),
-                &rules,
-            )
+            beats::ec57::score_record(rec_name, &reference, d, rec.fs_hz, rec.n_samples(), &rules)
         };
         let row = score(&b.samples);
         let s = row.score;
@@ -248,7 +241,10 @@ fn main() -> anyhow::Result<()> {
     // Gross totals from the library (the same as `beatfold score`'s pooled row).
     let totals = beats::ec57::totals(&primary_rows, &rules);
     let (gse, gppv) = (totals.pooled.se, totals.pooled.ppv);
-    debug_assert_eq!((totals.pooled.tp, totals.pooled.fp, totals.pooled.fn_), (tp, fp, fnn));
+    debug_assert_eq!(
+        (totals.pooled.tp, totals.pooled.fp, totals.pooled.fn_),
+        (tp, fp, fnn)
+    );
     let _ = writeln!(
         md,
         "| **gross (non-paced)** | | | | | {} | {tp} | {fp} | {fnn} | **{:.2}** | **{:.2}** | {} | {} | |",

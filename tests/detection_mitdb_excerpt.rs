@@ -11,7 +11,6 @@ use beatfold::io::{read_record, ReadOptions};
 use beatfold::pipeline::{detect_beats, AnalyzeParams};
 use std::path::PathBuf;
 
-
 fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
         .join("tests/data/mitdb-excerpt")
@@ -45,7 +44,11 @@ fn with_both_leads_every_excerpt_meets_the_noisy_data_sensitivity_target() {
     };
     for name in ["105d", "108d", "203d"] {
         let (s, _) = run(name, &p);
-        eprintln!("{name} fused: Se {:.2} +P {:.2}", 100.0 * s.se, 100.0 * s.ppv);
+        eprintln!(
+            "{name} fused: Se {:.2} +P {:.2}",
+            100.0 * s.se,
+            100.0 * s.ppv
+        );
         assert!(s.se >= 0.97, "{name}: {s:?}");
     }
 }
