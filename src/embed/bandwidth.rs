@@ -37,22 +37,17 @@ const STEPS_PER_OCTAVE: usize = 8;
 const MAX_STEPS: usize = 600;
 
 /// How the kernel bandwidth is chosen (config key `diffusion.bandwidth`, flag `--bandwidth`).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, Copy, Default, PartialEq, Serialize, Deserialize)]
 #[serde(try_from = "BandwidthRepr", into = "BandwidthRepr")]
 pub enum Bandwidth {
     /// One global ε by the kernel-sum rule on the truncated graph (`"auto"`).
     Auto,
     /// Variable bandwidth ε·ρ_i·ρ_j (Berry & Harlim 2016) with ε by the kernel-sum rule and
     /// the normalisation that keeps the operator density-free (`"local"`, the default).
+    #[default]
     Local,
     /// One fixed ε in squared feature units (a number).
     Fixed(f64),
-}
-
-impl Default for Bandwidth {
-    fn default() -> Self {
-        Bandwidth::Local
-    }
 }
 
 /// The JSON form of [`Bandwidth`]: a word or a number.
@@ -138,7 +133,7 @@ pub fn kernel_sum_rule(nb: &Neighbors, rho: &[f64], seed: u64) -> Result<KernelS
         )));
     }
     let rows: Vec<usize> = if nb.n > MAX_ROWS {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0xba4d_3d7);
+        let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0x0ba4_d3d7);
         let mut idx = sample(&mut rng, nb.n, MAX_ROWS).into_vec();
         idx.sort_unstable();
         idx

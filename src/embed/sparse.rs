@@ -174,11 +174,11 @@ pub fn normalise_scaled(
     let sd: Vec<f64> = d.iter().zip(&r2).map(|(v, r)| (v * r).sqrt()).collect();
     scale_sym(k, &sd);
     if !rho.is_empty() {
-        for i in 0..k.n {
+        for (i, &ri) in r2.iter().enumerate() {
             for e in k.ptr[i]..k.ptr[i + 1] {
                 k.val[e] *= c;
                 if k.col[e] == i {
-                    k.val[e] += 1.0 - c / r2[i];
+                    k.val[e] += 1.0 - c / ri;
                 }
             }
         }
