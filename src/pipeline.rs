@@ -519,7 +519,10 @@ pub fn analyze(
         } else {
             embed::diffusion_map(&feats.points, &p.diffusion)?
         };
-        notes.extend(separate_groups_note(&e.eigenvalues));
+        match &e.diagnostics.note {
+            Some(n) => notes.push(format!("diffusion map: {n}")),
+            None => notes.extend(separate_groups_note(&e.eigenvalues)),
+        }
         progress(4, STAGES[4]);
         let sp = dimension::SuiteParams {
             seed: p.dimension.seed,

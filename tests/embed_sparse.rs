@@ -209,7 +209,10 @@ fn pca_reduction_and_saved_model_round_trip() {
     let path = dir.path().join("model.h5");
     model_io::save_model(model, &path).unwrap();
     let back = model_io::load_model(&path).unwrap();
-    assert_eq!(&back, model.as_ref());
+    // The fit's diagnostics describe the fit and are not saved with the model.
+    let mut want = model.as_ref().clone();
+    want.diagnostics = Default::default();
+    assert_eq!(back, want);
     let a = model.extend(&pts).unwrap();
     let b = back.extend(&pts).unwrap();
     assert_eq!(a, b);

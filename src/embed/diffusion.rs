@@ -1423,7 +1423,7 @@ mod tests {
                 ..p.clone()
             },
             DiffusionParams {
-                bandwidth_neighbors: 20,
+                bandwidth_neighbors: 40,
                 ..p.clone()
             },
             DiffusionParams {
