@@ -90,8 +90,9 @@ fn bandwidth_and_neighbours_by_flag_and_by_config() {
 
 #[test]
 fn dense_mode_up_to_5000_points_needs_no_other_flag() {
+    // Any size up to 5000: before, the dense kernel also needed a landmark setting.
     let dir = tempfile::tempdir().unwrap();
-    let pts = helix(dir.path(), 3000);
+    let pts = helix(dir.path(), 1200);
     let j = json_of(&[
         "embed",
         &pts,
@@ -102,7 +103,7 @@ fn dense_mode_up_to_5000_points_needs_no_other_flag() {
         "--json",
     ]);
     assert_eq!(j["neighbors"], 0);
-    assert_eq!(j["fit_points"], 3000);
+    assert_eq!(j["fit_points"], 1200);
     let c = dir.path().join("dense.json");
     std::fs::write(&c, r#"{"diffusion": {"neighbors": 0}}"#).unwrap();
     let g = json_of(&[
