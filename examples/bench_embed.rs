@@ -88,6 +88,7 @@ fn main() -> anyhow::Result<()> {
     let p = DiffusionParams {
         components: 10,
         neighbors: 15,
+        bandwidth_neighbors: 10,
         max_fit_points: if landmarks > 0 { landmarks } else { n },
         landmark_check: if landmarks > 0 { 1000 } else { 0 },
         ..DiffusionParams::default()
