@@ -88,7 +88,7 @@ fn main() -> anyhow::Result<()> {
     let p = DiffusionParams {
         components: 10,
         neighbors: 15,
-        local_scaling_neighbors: 7,
+        bandwidth_neighbors: 10,
         max_fit_points: if landmarks > 0 { landmarks } else { n },
         landmark_check: if landmarks > 0 { 1000 } else { 0 },
         ..DiffusionParams::default()

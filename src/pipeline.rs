@@ -168,11 +168,9 @@ impl Default for AnalyzeParams {
             fuse_margin: 0.2,
             agreement_window_s: 10.0,
             features: FeatureParams::default(),
-            // Local scaling (Zelnik-Manor & Perona 2004) keeps rare beat shapes connected.
-            diffusion: DiffusionParams {
-                local_scaling_neighbors: 7,
-                ..DiffusionParams::default()
-            },
+            // The library default: a variable bandwidth (Berry & Harlim 2016), which also keeps
+            // rare beat shapes connected to their nearest neighbours.
+            diffusion: DiffusionParams::default(),
             dimension: KmeansScalingParams::default(),
             screen: crate::rhythm::screen::ScreenParams::default(),
             atrial: crate::rhythm::atrial::AtrialParams::default(),
@@ -533,7 +531,10 @@ pub fn analyze(
         } else {
             embed::diffusion_map(&feats.points, &p.diffusion)?
         };
-        notes.extend(separate_groups_note(&e.eigenvalues));
+        match &e.diagnostics.note {
+            Some(n) => notes.push(format!("diffusion map: {n}")),
+            None => notes.extend(separate_groups_note(&e.eigenvalues)),
+        }
         progress(4, STAGES[4]);
         if feats.points.n >= p.dimension_min_points {
             let sp = dimension::SuiteParams {

@@ -2,7 +2,7 @@
 //! the same kernel and against scikit-learn's SpectralEmbedding, on the fixture written by
 //! scripts/make_embed_fixture.py (versions recorded in the fixture).
 
-use beatfold::embed::{fit, principal_angles, DiffusionParams};
+use beatfold::embed::{fit, principal_angles, Bandwidth, DiffusionParams};
 use beatfold::points::Points;
 use serde_json::Value;
 
@@ -30,7 +30,7 @@ fn matches_dense_reference_and_scikit_learn() {
         let p = DiffusionParams {
             components: c,
             alpha,
-            epsilon: f["epsilon"].as_f64(),
+            bandwidth: Bandwidth::Fixed(f["epsilon"].as_f64().unwrap()),
             neighbors: f["neighbors"].as_u64().unwrap() as usize,
             ..DiffusionParams::default()
         };

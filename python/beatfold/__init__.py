@@ -141,8 +141,9 @@ class DiffusionMap(*_BASES):
     - ``alpha``: density normalisation exponent in [0, 1];
     - ``t``: diffusion time;
     - ``n_neighbors``: neighbours k of the kernel graph (0: dense kernel);
-    - ``epsilon``: kernel bandwidth in squared input units, or ``"auto"`` for the library's
-      automatic choice (local scaling of Zelnik-Manor & Perona 2004);
+    - ``epsilon``: the kernel bandwidth, as the library's ``bandwidth`` option: ``"local"`` (the
+      default: variable bandwidth, Berry & Harlim 2016), ``"auto"`` (one global epsilon by the
+      kernel-sum rule, Berry, Giannakis & Harlim 2015) or a fixed epsilon in squared input units;
     - ``random_state``: seed of every random step (an int >= 0).
 
     After ``fit``: ``embedding_`` (training coordinates), ``eigenvalues_``, ``epsilon_``,
@@ -150,7 +151,7 @@ class DiffusionMap(*_BASES):
     """
 
     def __init__(self, n_components=_DIFF["components"], alpha=_DIFF["alpha"], t=_DIFF["t"],
-                 n_neighbors=_DIFF["neighbors"], epsilon="auto", random_state=_DIFF["seed"]):
+                 n_neighbors=_DIFF["neighbors"], epsilon=_DIFF["bandwidth"], random_state=_DIFF["seed"]):
         self.n_components = n_components
         self.alpha = alpha
         self.t = t
@@ -180,10 +181,10 @@ class DiffusionMap(*_BASES):
     def _epsilon(self):
         e = self.epsilon
         if isinstance(e, str):
-            if e != "auto":
-                raise ValueError(f"epsilon: {e!r}; give a number > 0 or 'auto'")
-            return None
-        return float(e)
+            if e not in ("auto", "local"):
+                raise ValueError(f"epsilon: {e!r}; give a number > 0, 'auto' or 'local'")
+            return e
+        return repr(float(e))
 
     def fit(self, X, y=None):
         """Fit the map on the rows of ``X`` (float32 or float64, points x coordinates)."""

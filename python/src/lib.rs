@@ -360,8 +360,8 @@ fn bits_to_floats(v: serde_json::Value) -> serde_json::Value {
 }
 
 /// Fit a diffusion map on the rows of `x`: returns (model, coordinates, eigenvalues, summary
-/// JSON). Parameters start from the library's analysis defaults; `epsilon` and `neighbors`
-/// overlay them as on the command line.
+/// JSON). Parameters start from the library's analysis defaults; `epsilon` (a bandwidth: `local`,
+/// `auto` or a number) and `neighbors` overlay them as on the command line.
 #[pyfunction]
 #[pyo3(signature = (x, components, alpha, t, epsilon, neighbors, seed))]
 #[allow(clippy::too_many_arguments, clippy::type_complexity)]
@@ -371,7 +371,7 @@ fn diffusion_fit<'py>(
     components: i64,
     alpha: f64,
     t: f64,
-    epsilon: Option<f64>,
+    epsilon: Option<String>,
     neighbors: Option<i64>,
     seed: i64,
 ) -> PyResult<(
@@ -386,13 +386,17 @@ fn diffusion_fit<'py>(
     p.t = t;
     p.seed = count("random_state", seed)? as u64;
     let k = neighbors.map(|k| count("n_neighbors", k)).transpose()?;
-    p.overlay_kernel(epsilon, k);
+    let bandwidth = epsilon
+        .map(|e| e.parse::<beatfold::embed::Bandwidth>())
+        .transpose()
+        .map_err(|m| bad_value(format!("epsilon: {m}")))?;
+    p.overlay_kernel(bandwidth, k);
     p.check().map_err(to_py)?;
     let pts = points_of(x, "X")?;
     let e = py.detach(|| diffusion_map(&pts, &p)).map_err(to_py)?;
     let summary = json!({"n": e.n, "components": e.components, "epsilon": e.epsilon,
         "alpha": e.alpha, "t": e.t, "neighbors": e.neighbors, "fit_points": e.fit_points,
-        "residual": e.residual, "local_scaling_neighbors": p.local_scaling_neighbors});
+        "residual": e.residual, "bandwidth": p.bandwidth.to_string(), "bandwidth_neighbors": p.bandwidth_neighbors});
     let model = e
         .model
         .ok_or_else(|| bad_value("the diffusion map returned no model"))?;

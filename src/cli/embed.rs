@@ -26,12 +26,13 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         quiet: quiet || a.json,
     };
     let pts = points_of(input, &o)?;
+    // Flag, then config file, then the library default.
     let mut p = params_from(input)?.diffusion;
-    p.components = a.components;
-    p.alpha = a.alpha;
-    p.t = a.t;
-    p.seed = a.seed;
-    p.overlay_kernel(a.epsilon, a.neighbors);
+    p.components = a.components.unwrap_or(p.components);
+    p.alpha = a.alpha.unwrap_or(p.alpha);
+    p.t = a.t.unwrap_or(p.t);
+    p.seed = a.seed.unwrap_or(p.seed);
+    p.overlay_kernel(a.bandwidth, a.neighbors);
     if let Some(m) = a.landmarks {
         p.max_fit_points = m;
         p.landmark_check = p.landmark_check.max(1000);
@@ -70,9 +71,16 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         beatfold::embed::model_io::save_model(m, path)?;
     }
     if a.json {
+        let dg = &e.diagnostics;
         let j = json!({"n": e.n, "components": e.components, "eigenvalues": e.eigenvalues,
-            "epsilon": e.epsilon, "alpha": e.alpha, "t": e.t, "neighbors": e.neighbors,
-            "fit_points": e.fit_points, "residual": e.residual,
+            "epsilon": e.epsilon, "bandwidth": p.bandwidth.to_string(),
+            "bandwidth_rule": dg.bandwidth_rule, "kernel_sum_dimension": dg.kernel_sum_dimension,
+            "truncation_weight": dg.truncation_weight,
+            "alpha": e.alpha, "t": e.t, "neighbors": e.neighbors,
+            "fit_points": e.fit_points, "residual": e.residual, "residuals": dg.residuals,
+            "eigengap": dg.eigengap.map(|(i, g)| json!({"after": i, "gap": g})),
+            "connected_components": dg.connected_components,
+            "component_sizes": dg.component_sizes, "note": dg.note,
             "landmark_error": e.landmark_error, "placed_by_model": placed,
             "pca": {"components": e.pca_components, "explained_variance_ratio": e.pca_explained},
             "notice": NOTICE});
@@ -80,18 +88,38 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         return Ok(());
     }
     o.notice();
+    let dg = &e.diagnostics;
     o.line(format!(
-        "{} points in {} dimensions → {} diffusion coordinates (epsilon {:.5}, alpha {}, t {}, {} neighbours, fitted on {} points{})",
+        "{} points in {} dimensions → {} diffusion coordinates (epsilon {:.5} by {}, alpha {}, t {}, {} neighbours, fitted on {} points{})",
         pts.n,
         pts.dim,
         e.components,
         e.epsilon,
+        if placed { "the saved model" } else { &dg.bandwidth_rule },
         e.alpha,
         e.t,
         e.neighbors,
         e.fit_points,
         if placed { ", placed by the saved model" } else { "" }
     ));
+    if !placed {
+        o.line(format!(
+            "kernel graph: {} connected component{}; largest eigen-residual {:.1e}{}",
+            dg.connected_components,
+            if dg.connected_components == 1 {
+                ""
+            } else {
+                "s"
+            },
+            e.residual,
+            dg.eigengap
+                .map(|(i, g)| format!("; largest eigengap {g:.2e} after coordinate {i}"))
+                .unwrap_or_default()
+        ));
+    }
+    if let Some(note) = &dg.note {
+        o.line(format!("note: {note}"));
+    }
     let ev: Vec<String> = e.eigenvalues.iter().map(|v| format!("{v:.6}")).collect();
     o.line(format!("eigenvalues: {}", ev.join(" ")));
     if let Some(err) = e.landmark_error {

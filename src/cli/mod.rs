@@ -38,20 +38,21 @@ pub struct EmbedOptions {
     /// Output CSV of the PCA baseline scores (one row a point, no header).
     #[arg(long, value_name = "FILE")]
     pub pca_out: Option<PathBuf>,
-    /// Number of diffusion coordinates (default 10).
-    #[arg(long, default_value_t = 10)]
-    pub components: usize,
-    /// Density normalisation alpha, 0..1 (default 1).
-    #[arg(long, default_value_t = 1.0)]
-    pub alpha: f64,
-    /// Diffusion time t (default 1).
-    #[arg(long, default_value_t = 1.0)]
-    pub t: f64,
-    /// Kernel bandwidth epsilon in squared input units (default: automatic).
+    /// Number of diffusion coordinates (default 10, or the config file's value).
     #[arg(long)]
-    pub epsilon: Option<f64>,
+    pub components: Option<usize>,
+    /// Density normalisation alpha, 0..1 (default 1: Laplace–Beltrami, density-free).
+    #[arg(long)]
+    pub alpha: Option<f64>,
+    /// Diffusion time t (default 1).
+    #[arg(long)]
+    pub t: Option<f64>,
+    /// Kernel bandwidth: `local` (variable bandwidth, the default), `auto` (one global epsilon
+    /// by the kernel-sum rule) or a number (a fixed epsilon in squared input units).
+    #[arg(long, value_name = "auto|local|EPS")]
+    pub bandwidth: Option<beatfold::embed::Bandwidth>,
     /// Neighbours per point in the sparse kernel graph, 2..1000, or 0 for a dense kernel
-    /// (default 15, or the config file's value).
+    /// (every pair; up to 5000 points) (default 15, or the config file's value).
     #[arg(long, visible_alias = "k", value_name = "K")]
     pub neighbors: Option<usize>,
     /// Landmark mode: fit on at most N seeded random points and place the others by Nyström
@@ -60,14 +61,14 @@ pub struct EmbedOptions {
     pub landmarks: Option<usize>,
     /// Place the input's points into the model saved in this HDF5 file (a results.h5 from
     /// `analyze` or a file from --save-model) instead of fitting a new map.
-    #[arg(long, value_name = "FILE.h5", conflicts_with_all = ["save_model", "epsilon", "neighbors", "landmarks"])]
+    #[arg(long, value_name = "FILE.h5", conflicts_with_all = ["save_model", "bandwidth", "neighbors", "landmarks"])]
     pub model: Option<PathBuf>,
     /// Write the fitted model to this HDF5 file (group /embedding/model).
     #[arg(long, value_name = "FILE.h5")]
     pub save_model: Option<PathBuf>,
     /// Seed for landmarks, bandwidth subsample and eigensolver start (default 0).
-    #[arg(long, default_value_t = 0)]
-    pub seed: u64,
+    #[arg(long)]
+    pub seed: Option<u64>,
     /// Print a summary as JSON on stdout.
     #[arg(long)]
     pub json: bool,

@@ -32,10 +32,11 @@
 //! Each eigenvector's sign is fixed so that its entry of largest magnitude is positive.
 //! Eigenvalues are clamped at 0 before raising to the power t.
 
-use super::bandwidth::auto_epsilon;
-use super::knn::knn;
+use super::bandwidth::{kernel_sum_rule, Bandwidth};
+use super::components::{join_components, Components, MIN_WEIGHT};
+use super::knn::{knn, Neighbors};
 use super::pca::Pca;
-use super::sparse::{kernel_graph, normalise, top_eigen_sparse};
+use super::sparse::{finish, kernel_graph, normalise_scaled, submatrix, top_eigen_sparse, Solver};
 use super::Embedding;
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -55,8 +56,6 @@ use serde::{Deserialize, Serialize};
 pub const MAX_FIT_POINTS: usize = 5000;
 /// Largest fit set allowed with the sparse kernel.
 pub const MAX_SPARSE_FIT_POINTS: usize = 10_000_000;
-/// Smallest local scale σ (guards against duplicate points).
-const MIN_SIGMA: f64 = 1e-150;
 
 /// Parameters of [`diffusion_map`] and [`fit`].
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -68,23 +67,20 @@ pub struct DiffusionParams {
     pub alpha: f64,
     /// Diffusion time t ≥ 0 (default 1).
     pub t: f64,
-    /// Kernel bandwidth ε in squared feature units; `None` (default) picks it by
-    /// [`auto_epsilon`], or by local scaling when `local_scaling_neighbors > 0`.
-    pub epsilon: Option<f64>,
+    /// How the kernel bandwidth is chosen: `local` (default), `auto` or a fixed ε (see
+    /// [`Bandwidth`]).
+    pub bandwidth: Bandwidth,
     /// Largest fit set (default 200 000). Above it, landmark mode: the map is fitted on a seeded
     /// random subset of this many points and every other point is placed by Nyström extension.
     /// At most 5000 with the dense kernel (`neighbors = 0`).
     pub max_fit_points: usize,
     /// Seed for the landmarks, the bandwidth subsample and the eigensolver start (default 0).
     pub seed: u64,
-    /// When above 0 (and `epsilon` is not given), use the local scaling of Zelnik-Manor &
-    /// Perona (2004) instead of one global ε: k(x, y) = exp(−‖x−y‖²/(σ_x σ_y)) with σ_x the
-    /// distance from x to its `local_scaling_neighbors`-th nearest fit point. Outlying beats
-    /// (ectopic, noisy) then stay connected to their nearest neighbours instead of forming
-    /// components of their own. Default 0 (global ε); `analyze` uses 7, the paper's choice.
-    /// With a sparse kernel at most `neighbors`.
-    pub local_scaling_neighbors: usize,
-    /// Neighbours k of the sparse kernel graph (default 15; 0 = dense kernel on every pair).
+    /// With `bandwidth = local`: the ad hoc scale ρ0_i is the root-mean-square distance from
+    /// point i to its first `bandwidth_neighbors` neighbours (default 20; 1 to `neighbors` with
+    /// a sparse kernel); ρ then comes from the density estimate it gives.
+    pub bandwidth_neighbors: usize,
+    /// Neighbours k of the sparse kernel graph (default 30; 0 = dense kernel on every pair).
     pub neighbors: usize,
     /// Project inputs of more than this many coordinates on at most this many principal axes
     /// before the neighbour search (default 20; 0 = never, exact search in full dimension).
@@ -102,11 +98,11 @@ impl Default for DiffusionParams {
             components: 10,
             alpha: 1.0,
             t: 1.0,
-            epsilon: None,
+            bandwidth: Bandwidth::Local,
             max_fit_points: 200_000,
             seed: 0,
-            local_scaling_neighbors: 0,
-            neighbors: 15,
+            bandwidth_neighbors: 20,
+            neighbors: 30,
             pca_max_dim: 20,
             pca_variance: 0.99,
             landmark_check: 0,
@@ -115,27 +111,27 @@ impl Default for DiffusionParams {
 }
 
 impl DiffusionParams {
-    /// Overlay user choices of the kernel on these parameters: a given `epsilon` replaces the
-    /// automatic bandwidth and turns local scaling off; a given `neighbors` count replaces the
-    /// graph's and caps the local-scaling rank at it (a sparse kernel needs rank ≤ k). `None`
-    /// keeps the current value. Shared by the command line and the Python package.
-    pub fn overlay_kernel(&mut self, epsilon: Option<f64>, neighbors: Option<usize>) {
-        if epsilon.is_some() {
-            self.epsilon = epsilon;
-            self.local_scaling_neighbors = 0;
+    /// Overlay user choices of the kernel on these parameters (flag, then file, then default): a
+    /// given `bandwidth` replaces the current one; a given `neighbors` count replaces the graph's
+    /// and caps `bandwidth_neighbors` at it (a sparse kernel needs that rank ≤ k). `None` keeps
+    /// the current value. Shared by the command line and the Python package.
+    pub fn overlay_kernel(&mut self, bandwidth: Option<Bandwidth>, neighbors: Option<usize>) {
+        if let Some(b) = bandwidth {
+            self.bandwidth = b;
         }
         if let Some(k) = neighbors {
             self.neighbors = k;
             if k > 0 {
-                self.local_scaling_neighbors = self.local_scaling_neighbors.min(k);
+                self.bandwidth_neighbors = self.bandwidth_neighbors.min(k);
             }
         }
     }
 
-    /// Validate: `components` in 1..=1000; `alpha` in [0, 1]; `t` in [0, 1e6]; `epsilon`, when
-    /// given, finite and above 0; `neighbors` 0 or 2..=1000; `local_scaling_neighbors` at most
-    /// `neighbors` (sparse kernel); `max_fit_points` from components + 2 to 5000 (dense) or
-    /// 10 000 000 (sparse); `pca_variance` in (0, 1]; `landmark_check` at most 1 000 000.
+    /// Validate: `components` in 1..=1000; `alpha` in [0, 1]; `t` in [0, 1e6]; a fixed
+    /// bandwidth finite and above 0; `neighbors` 0 or 2..=1000; `bandwidth_neighbors` from 1 to
+    /// `neighbors` (sparse kernel) or 1000; `max_fit_points` from components + 2 to 10 000 000
+    /// (with the dense kernel the fit set itself may hold at most 5000 points, checked by
+    /// [`fit`]); `pca_variance` in (0, 1]; `landmark_check` at most 1 000 000.
     pub fn check(&self) -> Result<&Self> {
         if !(1..=1000).contains(&self.components) {
             return Err(Error::param(
@@ -155,11 +151,14 @@ impl DiffusionParams {
                 format!("{}; allowed 0 to 1e6 diffusion steps", self.t),
             ));
         }
-        if let Some(e) = self.epsilon {
+        if let Bandwidth::Fixed(e) = self.bandwidth {
             if !(e.is_finite() && e > 0.0) {
                 return Err(Error::param(
-                    "epsilon",
-                    format!("{e}; must be finite and above 0 (squared feature units)"),
+                    "bandwidth",
+                    format!(
+                        "{e}; a fixed ε must be finite and above 0 (squared feature units), \
+                         or `auto` or `local`"
+                    ),
                 ));
             }
         }
@@ -172,32 +171,35 @@ impl DiffusionParams {
                 ),
             ));
         }
-        if self.neighbors > 0 && self.local_scaling_neighbors > self.neighbors {
-            return Err(Error::param(
-                "local_scaling_neighbors",
-                format!(
-                    "{}; allowed 0 to neighbors = {}",
-                    self.local_scaling_neighbors, self.neighbors
-                ),
-            ));
-        }
-        let cap = if self.neighbors == 0 {
-            MAX_FIT_POINTS
+        let rho_cap = if self.neighbors > 0 {
+            self.neighbors
         } else {
-            MAX_SPARSE_FIT_POINTS
+            1000
         };
-        if self.max_fit_points < self.components + 2 || self.max_fit_points > cap {
+        if self.bandwidth == Bandwidth::Local
+            && (self.bandwidth_neighbors == 0 || self.bandwidth_neighbors > rho_cap)
+        {
             return Err(Error::param(
-                "max_fit_points",
+                "bandwidth_neighbors",
                 format!(
-                    "{}; allowed components + 2 = {} to {cap} points{}",
-                    self.max_fit_points,
-                    self.components + 2,
-                    if self.neighbors == 0 {
-                        " with the dense kernel (neighbors = 0)"
+                    "{}; allowed 1 to {rho_cap} neighbours{}",
+                    self.bandwidth_neighbors,
+                    if self.neighbors > 0 {
+                        " (at most `neighbors`)"
                     } else {
                         ""
                     }
+                ),
+            ));
+        }
+        if self.max_fit_points < self.components + 2 || self.max_fit_points > MAX_SPARSE_FIT_POINTS
+        {
+            return Err(Error::param(
+                "max_fit_points",
+                format!(
+                    "{}; allowed components + 2 = {} to {MAX_SPARSE_FIT_POINTS} points",
+                    self.max_fit_points,
+                    self.components + 2,
                 ),
             ));
         }
@@ -217,6 +219,29 @@ impl DiffusionParams {
     }
 }
 
+/// What the fit reports about itself (shown by `embed --json`, results.h5 and the report).
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+pub struct FitDiagnostics {
+    /// How ε was chosen: `fixed`, `kernel-sum` (one global ε) or `kernel-sum, variable`.
+    pub bandwidth_rule: String,
+    /// Twice the steepest kernel-sum slope (the dimension it implies), when the rule ran.
+    pub kernel_sum_dimension: Option<f64>,
+    /// Median kernel weight of the farthest kept neighbour (sparse kernel): near 0 the
+    /// truncation to k neighbours cuts only the negligible tail; near 1 the graph is in effect
+    /// an unweighted kNN graph.
+    pub truncation_weight: Option<f64>,
+    /// Residual ‖Av − θv‖ of each computed pair (unit v; the trivial pair first).
+    pub residuals: Vec<f64>,
+    /// The largest drop λ_l − λ_(l+1) among the non-trivial eigenvalues, and l (1-based).
+    pub eigengap: Option<(usize, f64)>,
+    /// Connected components of the kernel graph (weights above 1e-12).
+    pub connected_components: usize,
+    /// Their sizes, largest first.
+    pub component_sizes: Vec<usize>,
+    /// What more than one component means and what was done (None when connected).
+    pub note: Option<String>,
+}
+
 /// A fitted diffusion map: what is needed to place new points by Nyström extension.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct DiffusionModel {
@@ -225,47 +250,67 @@ pub struct DiffusionModel {
     pub landmarks: Points,
     /// Row of each landmark in the input of [`fit`].
     pub landmark_index: Vec<usize>,
-    /// Kernel row sums q_j = Σ_i K_ji over the landmarks.
+    /// Density estimates q_j = (Σ_i K_ji)/ρ_j^kernel_dim over the landmarks (ρ = 1 for a
+    /// global ε).
     pub q: Vec<f64>,
     /// Row-major `m × components` eigenfunctions ψ_1..ψ_c at the landmarks (ψ_0 = 1 dropped).
     pub psi: Vec<f64>,
-    /// Non-trivial eigenvalues λ_1 ≥ λ_2 ≥ … of the Markov matrix.
+    /// Non-trivial eigenvalues λ_1 ≥ λ_2 ≥ … of the Markov matrix (for a variable bandwidth:
+    /// of one step at the median bandwidth, λ = 1 + median(ρ²)·ν with ν the generator's).
     pub eigenvalues: Vec<f64>,
     /// Bandwidth ε.
     pub epsilon: f64,
-    /// Density normalisation exponent α.
+    /// Density normalisation exponent α asked for (the operator's).
     pub alpha: f64,
     /// Diffusion time t.
     pub t: f64,
-    /// Local scales σ_j of the landmarks (empty for a global ε).
-    pub sigma: Vec<f64>,
-    /// Neighbour rank for σ of new points (0 for a global ε).
-    pub sigma_rank: usize,
+    /// Local scales ρ_j of the landmarks (empty for a global ε).
+    pub rho: Vec<f64>,
+    /// Neighbours whose RMS distance gives the ad hoc scale ρ0 (0 for a global ε).
+    pub rho_rank: usize,
+    /// Ad hoc scales ρ0_j of the landmarks (empty for a global ε).
+    pub rho0: Vec<f64>,
+    /// Bandwidth ε0 and dimension d0 of the density estimate q0 = Σ_j K0 / ρ0^d0 over the
+    /// `graph_k` + 1 nearest landmarks, from which ρ = q0^(−1/d0).
+    pub eps0: f64,
+    /// See `eps0`.
+    pub dim0: f64,
+    /// See `eps0`.
+    pub graph_k: usize,
+    /// The exponent a of q in K/(q_i^a q_j^a) that realises `alpha` (= alpha for a global ε).
+    pub kernel_alpha: f64,
+    /// Dimension d in the density estimate q = Σ K / ρ^d (0 for a global ε).
+    pub kernel_dim: f64,
+    /// median(ρ²) (1 for a global ε).
+    pub rho_scale: f64,
     /// Neighbours k of the sparse kernel (0: dense kernel).
     #[serde(default)]
     pub neighbors: usize,
     /// PCA applied to every input before the kernel, and the number of axes kept.
     #[serde(default)]
     pub reduction: Option<(Pca, usize)>,
-    /// Largest eigen-residual ‖Sv − λv‖ of the fit (0 when not computed).
+    /// Largest eigen-residual of the fit (0 when not computed).
     #[serde(default)]
     pub residual: f64,
+    /// The fit's self-diagnosis (not saved with the model).
+    #[serde(default)]
+    pub diagnostics: FitDiagnostics,
 }
 
-/// The `k`-th smallest distance given squared distances `d2` (k ≥ 1; reorders `d2`); an entry
-/// of exactly 0 (the point itself, when it is a landmark) is not counted as a neighbour.
-fn kth_from_dist2(d2: &mut [f64], k: usize) -> f64 {
-    let is_member = d2.contains(&0.0);
-    let rank = if is_member { k } else { k - 1 }.min(d2.len().saturating_sub(1));
-    let (_, v, _) = d2.select_nth_unstable_by(rank, f64::total_cmp);
-    v.sqrt().max(MIN_SIGMA)
-}
+/// ρ below this share of the median ρ is raised to it (exact duplicates).
+const RHO_FLOOR: f64 = 1e-6;
+/// Neighbours of the graph on which a dense kernel's bandwidth is chosen.
+pub const DENSE_GRAPH_NEIGHBORS: usize = 15;
 
-/// Distance from `x` to its `k`-th nearest among `lm` (see [`kth_from_dist2`]).
-fn kth_distance(x: &[f64], lm: &Points, k: usize, buf: &mut Vec<f64>) -> f64 {
-    buf.clear();
-    buf.extend(lm.rows().map(|r| Points::dist2(x, r)));
-    kth_from_dist2(buf, k)
+/// RMS of the first `r` squared distances of an ascending list, one exact 0 (the point
+/// itself) skipped.
+fn rms_skip_self(sorted: &[f64], r: usize) -> f64 {
+    let start = usize::from(sorted.first() == Some(&0.0));
+    let end = (start + r).min(sorted.len());
+    if end <= start {
+        return 0.0;
+    }
+    (sorted[start..end].iter().sum::<f64>() / (end - start) as f64).sqrt()
 }
 
 /// λ^t with λ clamped at 0.
@@ -273,20 +318,14 @@ fn power(lambda: f64, t: f64) -> f64 {
     lambda.max(0.0).powf(t)
 }
 
-/// Median of σ², the global bandwidth that local scales stand for (reported as ε).
-fn median_sq(sigma: &[f64]) -> f64 {
-    let mut s2: Vec<f64> = sigma.iter().map(|v| v * v).collect();
-    s2.sort_by(f64::total_cmp);
-    s2.get(s2.len() / 2).copied().unwrap_or(f64::NAN)
-}
-
-/// ψ_l = v_l·√(Σd/d) for l = 1..=c (column 0 of `u` is the trivial pair), signs fixed.
-fn psi_from(u: &Mat<f64>, d: &[f64], c: usize) -> Vec<f64> {
-    let m = d.len();
-    let sum_d: f64 = d.iter().sum();
+/// ψ_l = v_l·√(Σw/w) for l = 1..=c (column 0 of `u` is the trivial pair), signs fixed; w the
+/// stationary weights (d for a global ε, d·ρ² for a variable one).
+fn psi_from(u: &Mat<f64>, w: &[f64], c: usize) -> Vec<f64> {
+    let m = w.len();
+    let sum_w: f64 = w.iter().sum();
     let mut psi = vec![0.0; m * c];
     for l in 1..=c {
-        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_d / d[i]).sqrt()).collect();
+        let mut v: Vec<f64> = (0..m).map(|i| u[(i, l)] * (sum_w / w[i]).sqrt()).collect();
         let big = v
             .iter()
             .copied()
@@ -299,6 +338,224 @@ fn psi_from(u: &Mat<f64>, d: &[f64], c: usize) -> Vec<f64> {
         }
     }
     psi
+}
+
+/// The bandwidth chosen for a fit.
+struct Chosen {
+    rho: Vec<f64>,
+    rho0: Vec<f64>,
+    eps0: f64,
+    dim0: f64,
+    graph_k: usize,
+    rank: usize,
+    eps: f64,
+    rule: String,
+    dimension: Option<f64>,
+    kernel_alpha: f64,
+    kernel_dim: f64,
+    rho_scale: f64,
+}
+
+impl Chosen {
+    /// s_ij in K_ij = exp(−‖x_i − x_j‖²/s_ij).
+    fn scale(&self, a: usize, b: usize) -> f64 {
+        if self.rho.is_empty() {
+            self.eps
+        } else {
+            self.eps * self.rho[a] * self.rho[b]
+        }
+    }
+}
+
+/// ρ, ε and the kernel exponent for `p.bandwidth` on the kNN table `nb` of the fit points
+/// (each row: the point, then its neighbours).
+///
+/// Variable bandwidth (Berry & Harlim 2016): ρ_i = RMS distance to the first
+/// `bandwidth_neighbors` neighbours, ∝ q^(−1/d) for a sampling density q; ε and d from the
+/// kernel-sum rule on the ρ-scaled graph; then the operator R⁻¹(D⁻¹K^a − I)/ε has the limit
+/// Δ + (2 − 2a + dβ + 2β)∇log q·∇ with β = −1/d, so a = α − ½ − 1/d gives the
+/// (2 − 2α)∇log q·∇ drift of Coifman & Lafon's α: α = 1 is the Laplace–Beltrami operator.
+fn choose_bandwidth(nb: &Neighbors, p: &DiffusionParams) -> Result<Chosen> {
+    let global = |eps: f64, rule: &str, dimension: Option<f64>| Chosen {
+        rho: Vec::new(),
+        rho0: Vec::new(),
+        eps0: 0.0,
+        dim0: 0.0,
+        graph_k: 0,
+        rank: 0,
+        eps,
+        rule: rule.to_string(),
+        dimension,
+        kernel_alpha: p.alpha,
+        kernel_dim: 0.0,
+        rho_scale: 1.0,
+    };
+    match p.bandwidth {
+        Bandwidth::Fixed(e) => Ok(global(e, "fixed", None)),
+        Bandwidth::Auto => {
+            let ks = kernel_sum_rule(nb, &[], p.seed)?;
+            Ok(global(ks.epsilon, "kernel-sum", Some(ks.dimension())))
+        }
+        Bandwidth::Local => {
+            let r = p.bandwidth_neighbors.min(nb.k.saturating_sub(1)).max(1);
+            let mut rho: Vec<f64> = (0..nb.n)
+                .map(|i| {
+                    let d: Vec<f64> = nb
+                        .index_of(i)
+                        .iter()
+                        .zip(nb.dist2_of(i))
+                        .filter(|(&j, _)| j != i)
+                        .map(|(_, &v)| v)
+                        .take(r)
+                        .collect();
+                    (d.iter().sum::<f64>() / d.len().max(1) as f64).sqrt()
+                })
+                .collect();
+            let mut sorted = rho.clone();
+            sorted.sort_by(f64::total_cmp);
+            let med = sorted[sorted.len() / 2];
+            if !(med > 0.0 && med.is_finite()) {
+                return Err(Error::Analysis(format!(
+                    "local bandwidth: most points coincide with their {r} nearest neighbours                      (median neighbour distance {med}); the points have no spread to measure"
+                )));
+            }
+            rho.iter_mut().for_each(|v| *v = v.max(RHO_FLOOR * med));
+            // Second step (Berry & Harlim 2016): a density estimate q0 with the ad hoc
+            // bandwidth ρ0, then ρ = q0^(−1/d0). The raw neighbour distances are noisy from
+            // point to point; the kernel sum over the neighbourhood is smooth.
+            let ks0 = kernel_sum_rule(nb, &rho, p.seed)?;
+            let d0 = ks0.dimension().max(1.0);
+            let q0: Vec<f64> = (0..nb.n)
+                .map(|i| {
+                    let s: f64 = nb
+                        .index_of(i)
+                        .iter()
+                        .zip(nb.dist2_of(i))
+                        .map(|(&j, &v)| (-v / (ks0.epsilon * rho[i] * rho[j])).exp())
+                        .sum();
+                    s / rho[i].powf(d0)
+                })
+                .collect();
+            let rho0 = std::mem::take(&mut rho);
+            let mut rho: Vec<f64> = q0.iter().map(|q| q.powf(-1.0 / d0)).collect();
+            let mut sorted = rho.clone();
+            sorted.sort_by(f64::total_cmp);
+            let med = sorted[sorted.len() / 2];
+            rho.iter_mut().for_each(|v| *v = v.max(RHO_FLOOR * med));
+            let ks = kernel_sum_rule(nb, &rho, p.seed)?;
+            // At least 1: a continuum of points has d ≥ 1; the slope reads low when the
+            // truncated sum saturates early.
+            let d = ks.dimension().max(1.0);
+            let mut r2: Vec<f64> = rho.iter().map(|v| v * v).collect();
+            r2.sort_by(f64::total_cmp);
+            Ok(Chosen {
+                rho0,
+                eps0: ks0.epsilon,
+                dim0: d0,
+                graph_k: nb.k - 1,
+                rank: r,
+                eps: ks.epsilon,
+                rule: "kernel-sum, variable".to_string(),
+                dimension: Some(ks.dimension()),
+                kernel_alpha: p.alpha - 0.5 - 1.0 / d,
+                kernel_dim: d,
+                rho_scale: r2[r2.len() / 2],
+                rho,
+            })
+        }
+    }
+}
+
+/// The note for a kernel graph with more than one component.
+fn component_note(sizes: &[usize], components: usize) -> Option<String> {
+    let k = sizes.len();
+    (k > 1).then(|| {
+        let shown: Vec<String> = sizes.iter().take(8).map(|s| s.to_string()).collect();
+        let flat = (k - 1).min(components);
+        format!(
+            "the kernel graph has {k} connected components (sizes {}{}): no diffusion crosses \
+             between them, so distances between components are not measured. Each component \
+             was embedded on its own and the spectra joined: diffusion coordinate{} {} (eigenvalue \
+             1) only mark{} which component a point is in; the others describe the shape within \
+             the components.",
+            shown.join(", "),
+            if k > 8 { ", …" } else { "" },
+            if flat == 1 { "" } else { "s" },
+            if flat == 1 {
+                "1".to_string()
+            } else {
+                format!("1–{flat}")
+            },
+            if flat == 1 { "s" } else { "" },
+        )
+    })
+}
+
+/// Largest drop among the non-trivial eigenvalues.
+fn eigengap(l: &[f64]) -> Option<(usize, f64)> {
+    l.windows(2)
+        .enumerate()
+        .map(|(i, w)| (i + 1, w[0] - w[1]))
+        .fold(None, |b: Option<(usize, f64)>, x| match b {
+            Some(b) if b.1 >= x.1 => Some(b),
+            _ => Some(x),
+        })
+}
+
+/// Everything the two fits share once the eigenpairs θ, u of A are known.
+#[allow(clippy::too_many_arguments)]
+fn assemble(
+    lm: Points,
+    p: &DiffusionParams,
+    bw: Chosen,
+    q: Vec<f64>,
+    w: &[f64],
+    cmin: f64,
+    theta: &[f64],
+    u: &Mat<f64>,
+    residuals: Vec<f64>,
+    comps: &Components,
+    truncation_weight: Option<f64>,
+) -> DiffusionModel {
+    let c = p.components;
+    let eigenvalues: Vec<f64> = theta[1..=c]
+        .iter()
+        .map(|&th| 1.0 + bw.rho_scale / cmin * (th - 1.0))
+        .collect();
+    let psi = psi_from(u, w, c);
+    let diagnostics = FitDiagnostics {
+        bandwidth_rule: bw.rule,
+        kernel_sum_dimension: bw.dimension,
+        truncation_weight,
+        residuals: residuals.clone(),
+        eigengap: eigengap(&eigenvalues),
+        connected_components: comps.count(),
+        component_sizes: comps.sizes.clone(),
+        note: component_note(&comps.sizes, c),
+    };
+    DiffusionModel {
+        landmarks: lm,
+        landmark_index: Vec::new(),
+        q,
+        psi,
+        eigenvalues,
+        epsilon: bw.eps,
+        alpha: p.alpha,
+        t: p.t,
+        rho: bw.rho,
+        rho_rank: bw.rank,
+        rho0: bw.rho0,
+        eps0: bw.eps0,
+        dim0: bw.dim0,
+        graph_k: bw.graph_k,
+        kernel_alpha: bw.kernel_alpha,
+        kernel_dim: bw.kernel_dim,
+        rho_scale: bw.rho_scale,
+        neighbors: p.neighbors,
+        reduction: None,
+        residual: residuals.iter().copied().fold(0.0, f64::max),
+        diagnostics,
+    }
 }
 
 /// Project `points` when the model (or the fit) uses a PCA reduction.
@@ -367,118 +624,146 @@ fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     let m = lm.n;
     let kq = (p.neighbors + 1).min(m);
     let nb = knn(&lm, &lm, kq)?;
-    let rank = if p.epsilon.is_none() {
-        p.local_scaling_neighbors.min(kq - 1)
-    } else {
-        0
-    };
-    let sigma: Vec<f64> = if rank > 0 {
-        // The point itself comes first at distance 0, so entry `rank` is its rank-th neighbour.
-        (0..m)
-            .map(|i| nb.dist2_of(i)[rank].sqrt().max(MIN_SIGMA))
-            .collect()
-    } else {
-        Vec::new()
-    };
-    let eps = match p.epsilon {
-        Some(e) => e,
-        None if rank > 0 => median_sq(&sigma),
-        None => auto_epsilon(&lm, p.seed)?,
-    };
-    let scale = |a: usize, b: usize| {
-        if sigma.is_empty() {
-            eps
-        } else {
-            sigma[a] * sigma[b]
-        }
-    };
-    let mut s = kernel_graph(&nb, &scale);
+    let bw = choose_bandwidth(&nb, p)?;
+    let mut s = kernel_graph(&nb, &|a, b| bw.scale(a, b));
+    // Kernel weight of each row's farthest kept neighbour, median over rows.
+    let mut last: Vec<f64> = (0..m)
+        .map(|i| {
+            let (j, d2) = (nb.index_of(i)[kq - 1], nb.dist2_of(i)[kq - 1]);
+            (-d2 / bw.scale(i, j)).exp()
+        })
+        .collect();
+    last.sort_by(f64::total_cmp);
+    let truncation = last.get(m / 2).copied();
     drop(nb);
-    let (q, d) = normalise(&mut s, p.alpha);
-    let eig = top_eigen_sparse(&s, c + 1, p.seed)?;
+    let comps = Components::from_edges(
+        m,
+        (0..m).flat_map(|i| {
+            let s = &s;
+            (s.ptr[i]..s.ptr[i + 1])
+                .filter(move |&e| s.col[e] > i && s.val[e] > MIN_WEIGHT)
+                .map(move |e| (i, s.col[e]))
+        }),
+    );
+    let (q, d, cmin) = normalise_scaled(&mut s, bw.kernel_alpha, &bw.rho, bw.kernel_dim);
+    let w: Vec<f64> = (0..m)
+        .map(|i| d[i] * bw.rho.get(i).map_or(1.0, |r| r * r))
+        .collect();
+    let eig = if comps.count() == 1 {
+        top_eigen_sparse(&s, c + 1, p.seed)?
+    } else {
+        let (vals, vecs) = join_components(&comps, &w, c + 1, |idx, nev| {
+            let e = top_eigen_sparse(&submatrix(&s, idx), nev, p.seed)?;
+            Ok((e.values, e.vectors))
+        })?;
+        finish(&s, vals, vecs, Solver::Components)?
+    };
     drop(s);
-    let psi = psi_from(&eig.vectors, &d, c);
-    Ok(DiffusionModel {
-        landmarks: lm,
-        landmark_index: Vec::new(),
+    Ok(assemble(
+        lm,
+        p,
+        bw,
         q,
-        psi,
-        eigenvalues: eig.values[1..=c].to_vec(),
-        epsilon: eps,
-        alpha: p.alpha,
-        t: p.t,
-        sigma,
-        sigma_rank: rank,
-        neighbors: p.neighbors,
-        reduction: None,
-        residual: eig.residual,
-    })
+        &w,
+        cmin,
+        &eig.values,
+        &eig.vectors,
+        eig.residuals,
+        &comps,
+        truncation,
+    ))
 }
 
-/// Dense-kernel fit on the fit points (m ≤ 5000).
+/// Dense-kernel fit on the fit points (m ≤ 5000): every pair enters the kernel; ρ and ε are
+/// chosen on the graph of the [`DENSE_GRAPH_NEIGHBORS`] nearest neighbours (or
+/// `bandwidth_neighbors`, when larger).
 fn fit_dense(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     let c = p.components;
     let m = lm.n;
-    let rank = if p.epsilon.is_none() {
-        p.local_scaling_neighbors.min(m - 1)
-    } else {
-        0
-    };
-    let sigma: Vec<f64> = if rank > 0 {
-        (0..m)
-            .into_par_iter()
-            .map_init(Vec::new, |buf, i| kth_distance(lm.row(i), &lm, rank, buf))
-            .collect()
-    } else {
-        Vec::new()
-    };
-    let eps = match p.epsilon {
-        Some(e) => e,
-        None if rank > 0 => median_sq(&sigma),
-        None => auto_epsilon(&lm, p.seed)?,
-    };
-    // Kernel, one row per task.
+    if m > MAX_FIT_POINTS {
+        return Err(Error::param(
+            "neighbors",
+            format!(
+                "0 (dense kernel) fits at most {MAX_FIT_POINTS} points, this fit set has {m}: \
+                 use a sparse kernel (neighbors ≥ 2) or landmarks (max_fit_points ≤ \
+                 {MAX_FIT_POINTS})"
+            ),
+        ));
+    }
+    let kq = (DENSE_GRAPH_NEIGHBORS.max(p.bandwidth_neighbors) + 1).min(m);
+    let nb = knn(&lm, &lm, kq)?;
+    let bw = choose_bandwidth(&nb, p)?;
+    drop(nb);
     let mut k = vec![0.0; m * m];
     k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
         let xi = lm.row(i);
         for (j, v) in row.iter_mut().enumerate() {
-            let scale = if sigma.is_empty() {
-                eps
-            } else {
-                sigma[i] * sigma[j]
-            };
-            *v = (-Points::dist2(xi, lm.row(j)) / scale).exp();
+            *v = (-Points::dist2(xi, lm.row(j)) / bw.scale(i, j)).exp();
         }
     });
-    let q: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
-    let qa: Vec<f64> = q.iter().map(|&v| v.powf(p.alpha)).collect();
+    let comps = Components::from_edges(
+        m,
+        (0..m).flat_map(|i| {
+            let k = &k;
+            (i + 1..m)
+                .filter(move |&j| k[i * m + j] > MIN_WEIGHT)
+                .map(move |j| (i, j))
+        }),
+    );
+    let mut q: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
+    if !bw.rho.is_empty() {
+        q.iter_mut()
+            .zip(&bw.rho)
+            .for_each(|(v, r)| *v /= r.powf(bw.kernel_dim));
+    }
+    let qa: Vec<f64> = q.iter().map(|&v| v.powf(bw.kernel_alpha)).collect();
     k.par_chunks_mut(m).enumerate().for_each(|(i, row)| {
         for (j, v) in row.iter_mut().enumerate() {
             *v /= qa[i] * qa[j];
         }
     });
     let d: Vec<f64> = k.par_chunks(m).map(|r| r.iter().sum()).collect();
-    let sd: Vec<f64> = d.iter().map(|v| v.sqrt()).collect();
-    let s = Mat::<f64>::from_fn(m, m, |i, j| k[i * m + j] / (sd[i] * sd[j]));
+    let r2: Vec<f64> = (0..m)
+        .map(|i| bw.rho.get(i).map_or(1.0, |r| r * r))
+        .collect();
+    let cmin = r2.iter().copied().fold(f64::INFINITY, f64::min);
+    let w: Vec<f64> = d.iter().zip(&r2).map(|(a, b)| a * b).collect();
+    let sw: Vec<f64> = w.iter().map(|v| v.sqrt()).collect();
+    let a = Mat::<f64>::from_fn(m, m, |i, j| {
+        let v = cmin * k[i * m + j] / (sw[i] * sw[j]);
+        if i == j {
+            v + 1.0 - cmin / r2[i]
+        } else {
+            v
+        }
+    });
     drop(k);
-    let (vals, u) = top_eigen(&s, c + 1, p.seed)?;
-    drop(s);
-    let psi = psi_from(&u, &d, c);
-    Ok(DiffusionModel {
-        landmarks: lm,
-        landmark_index: Vec::new(),
-        q,
-        psi,
-        eigenvalues: vals[1..=c].to_vec(),
-        epsilon: eps,
-        alpha: p.alpha,
-        t: p.t,
-        sigma,
-        sigma_rank: rank,
-        neighbors: 0,
-        reduction: None,
-        residual: 0.0,
-    })
+    let (vals, u) = if comps.count() == 1 {
+        top_eigen(&a, c + 1, p.seed)?
+    } else {
+        join_components(&comps, &w, c + 1, |idx, nev| {
+            let sub = Mat::<f64>::from_fn(idx.len(), idx.len(), |r, s| a[(idx[r], idx[s])]);
+            if idx.len() <= nev + 1 {
+                dense_top_eigen(&sub, nev)
+            } else {
+                top_eigen(&sub, nev, p.seed)
+            }
+        })?
+    };
+    let residuals: Vec<f64> = (0..vals.len())
+        .map(|l| {
+            let col = u.col(l);
+            let av = &a * col;
+            (0..m)
+                .map(|i| (av[i] - vals[l] * col[i]).powi(2))
+                .sum::<f64>()
+                .sqrt()
+        })
+        .collect();
+    drop(a);
+    Ok(assemble(
+        lm, p, bw, q, &w, cmin, &vals, &u, residuals, &comps, None,
+    ))
 }
 
 /// The `nev` largest eigenpairs of the symmetric positive semi-definite `s`, eigenvalues in
@@ -563,12 +848,16 @@ impl DiffusionModel {
         let new = reduce(new, &self.reduction)?;
         let c = self.components();
         let m = self.landmarks.n;
-        let qa: Vec<f64> = self.q.iter().map(|&v| v.powf(self.alpha)).collect();
-        let factor: Vec<f64> = self
+        let qa: Vec<f64> = self.q.iter().map(|&v| v.powf(self.kernel_alpha)).collect();
+        // Generator eigenvalues ν_l = (λ_l − 1)/median(ρ²) and the coordinate factors λ_l^t.
+        let nu: Vec<f64> = self
             .eigenvalues
             .iter()
-            .map(|&l| if l > 0.0 { l.powf(self.t - 1.0) } else { 0.0 })
+            .map(|&l| (l - 1.0) / self.rho_scale)
             .collect();
+        let pw: Vec<f64> = self.eigenvalues.iter().map(|&l| power(l, self.t)).collect();
+        let rho_min = self.rho.iter().copied().fold(f64::INFINITY, f64::min);
+        let rho0_min = self.rho0.iter().copied().fold(f64::INFINITY, f64::min);
         let mut out = vec![0.0; new.n * c];
         if new.n == 0 {
             return Ok(out);
@@ -595,19 +884,49 @@ impl DiffusionModel {
                         idx.extend(0..m);
                     }
                 }
-                if self.sigma_rank > 0 {
-                    // σ_x from the same distances (x itself, if a landmark, is not a neighbour).
+                // ρ_x from the same distances (x itself, if a landmark, is not a neighbour).
+                let rho_x = if self.rho_rank > 0 {
                     buf.clear();
                     buf.extend_from_slice(w);
-                    let sx = kth_from_dist2(buf, self.sigma_rank);
-                    for (wj, &j) in w.iter_mut().zip(idx.iter()) {
-                        *wj /= sx * self.sigma[j];
+                    let top = (self.rho_rank + 1).min(buf.len());
+                    if top < buf.len() {
+                        buf.select_nth_unstable_by(top, f64::total_cmp);
                     }
+                    buf.truncate(top);
+                    buf.sort_by(f64::total_cmp);
+                    let r0 = rms_skip_self(buf, self.rho_rank).max(rho0_min);
+                    // q0 over the graph_k + 1 nearest landmarks, then ρ = q0^(−1/d0).
+                    let kk = (self.graph_k + 1).min(w.len());
+                    let q0: f64 = if nb.is_some() {
+                        w.iter()
+                            .zip(idx.iter())
+                            .take(kk)
+                            .map(|(&v, &j)| (-v / (self.eps0 * r0 * self.rho0[j])).exp())
+                            .sum()
+                    } else {
+                        let mut near: Vec<(f64, usize)> =
+                            w.iter().copied().zip(idx.iter().copied()).collect();
+                        if kk < near.len() {
+                            near.select_nth_unstable_by(kk, |a, b| a.0.total_cmp(&b.0));
+                        }
+                        near[..kk]
+                            .iter()
+                            .map(|&(v, j)| (-v / (self.eps0 * r0 * self.rho0[j])).exp())
+                            .sum()
+                    };
+                    let rx = (q0 / r0.powf(self.dim0))
+                        .powf(-1.0 / self.dim0)
+                        .max(rho_min);
+                    for (wj, &j) in w.iter_mut().zip(idx.iter()) {
+                        *wj /= self.epsilon * rx * self.rho[j];
+                    }
+                    rx
                 } else {
                     for wj in w.iter_mut() {
                         *wj /= self.epsilon;
                     }
-                }
+                    1.0
+                };
                 // Scaled squared distances; the kernel below is exp(−(this − min)).
                 let dmin = w.iter().copied().fold(f64::INFINITY, f64::min);
                 let mut total = 0.0;
@@ -623,8 +942,10 @@ impl DiffusionModel {
                         *o += pj * ps;
                     }
                 }
-                for (o, &f) in orow.iter_mut().zip(&factor) {
-                    *o *= f;
+                // P ψ = (1 + ρ_x² ν) ψ at x, then the coordinate factor λ^t.
+                for ((o, &n), &f) in orow.iter_mut().zip(&nu).zip(&pw) {
+                    let den = 1.0 + rho_x * rho_x * n;
+                    *o = if den > 0.0 { *o / den * f } else { 0.0 };
                 }
             },
         );
@@ -654,6 +975,7 @@ impl DiffusionModel {
             neighbors: self.neighbors,
             fit_points: self.landmarks.n,
             residual: self.residual,
+            diagnostics: self.diagnostics.clone(),
             ..Embedding::default()
         }
     }
@@ -922,10 +1244,9 @@ mod tests {
             components,
             alpha: 1.0,
             t: 1.0,
-            epsilon: Some(eps),
+            bandwidth: Bandwidth::Fixed(eps),
             max_fit_points: 3000,
             seed: 7,
-            local_scaling_neighbors: 0,
             neighbors: 0,
             ..DiffusionParams::default()
         }
@@ -1101,7 +1422,7 @@ mod tests {
                 ..p.clone()
             },
             DiffusionParams {
-                epsilon: Some(0.0),
+                bandwidth: Bandwidth::Fixed(0.0),
                 ..p.clone()
             },
             DiffusionParams {
@@ -1110,7 +1431,7 @@ mod tests {
             },
             DiffusionParams {
                 neighbors: 0,
-                max_fit_points: 6000,
+                bandwidth_neighbors: 2000,
                 ..p.clone()
             },
             DiffusionParams {
@@ -1118,7 +1439,7 @@ mod tests {
                 ..p.clone()
             },
             DiffusionParams {
-                local_scaling_neighbors: 20,
+                bandwidth_neighbors: 40,
                 ..p.clone()
             },
             DiffusionParams {
@@ -1162,7 +1483,6 @@ mod tests {
             &pts,
             &DiffusionParams {
                 components: 2,
-                local_scaling_neighbors: 7,
                 ..DiffusionParams::default()
             },
         )

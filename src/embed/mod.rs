@@ -35,6 +35,9 @@ pub struct Embedding {
     /// Largest eigen-residual ‖Sv − λv‖ of the fit (0 when not computed).
     #[serde(default)]
     pub residual: f64,
+    /// The fit's self-diagnosis: bandwidth rule, residuals, eigengap, connected components.
+    #[serde(default)]
+    pub diagnostics: FitDiagnostics,
     /// Landmark mode: relative Nyström error on a held-out sample (see
     /// [`landmark_error`]), when measured.
     #[serde(default)]
@@ -53,17 +56,19 @@ pub struct Embedding {
     pub model: Option<Box<DiffusionModel>>,
 }
 
-mod bandwidth;
+pub mod bandwidth;
 pub mod chebyshev;
+pub mod components;
 mod diffusion;
 pub mod knn;
 pub mod model_io;
 pub mod pca;
 pub mod sparse;
 
-pub use bandwidth::{auto_epsilon, kernel_sum_curve};
+pub use bandwidth::{kernel_sum_dimension, kernel_sum_rule, Bandwidth, KernelSum};
 pub use diffusion::{
     aligned_relative_error, diffusion_map, fit, landmark_error, pca_baseline, principal_angles,
-    DiffusionModel, DiffusionParams, MAX_FIT_POINTS, MAX_SPARSE_FIT_POINTS,
+    DiffusionModel, DiffusionParams, FitDiagnostics, DENSE_GRAPH_NEIGHBORS, MAX_FIT_POINTS,
+    MAX_SPARSE_FIT_POINTS,
 };
 pub use pca::Pca;

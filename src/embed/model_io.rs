@@ -6,10 +6,11 @@
 //!
 //! Layout of the `model` group (all floating values `f64`, indices `u64`, row-major):
 //! datasets `landmarks` (m × dim of the kernel space), `landmark_index` (m), `q` (m), `psi`
-//! (m × components), `eigenvalues` (components), `sigma` (m or 0), and, when a PCA reduction is
-//! used, `pca_mean` (D), `pca_axes` (D × D), `pca_variance` (D); attributes `format`
-//! (`beatfold-diffusion-model-1`), `epsilon`, `alpha`, `t`, `sigma_rank`, `neighbors`,
-//! `residual`, `pca_keep` (0 = no reduction).
+//! (m × components), `eigenvalues` (components), `rho` (m local scales, or 0 for a global ε),
+//! `rho0` (the ad hoc scales, same length), and, when a PCA reduction is used, `pca_mean` (D), `pca_axes` (D × D), `pca_variance` (D);
+//! attributes `format` (`beatfold-diffusion-model-2`), `epsilon`, `alpha`, `t`, `rho_rank`,
+//! `kernel_alpha`, `kernel_dim`, `rho_scale`, `eps0`, `dim0`, `graph_k`, `neighbors`, `residual`, `pca_keep` (0 = no
+//! reduction).
 
 use super::diffusion::DiffusionModel;
 use super::pca::Pca;
@@ -20,7 +21,7 @@ use std::collections::HashMap;
 use std::path::Path;
 
 /// Value of the `format` attribute.
-pub const MODEL_FORMAT: &str = "beatfold-diffusion-model-1";
+pub const MODEL_FORMAT: &str = "beatfold-diffusion-model-2";
 /// Path of the model group in a results file.
 pub const MODEL_PATH: &str = "embedding/model";
 
@@ -35,7 +36,13 @@ pub fn add_model_group(parent: &mut GroupBuilder, m: &DiffusionModel) {
     g.set_attr("epsilon", AttrValue::F64(m.epsilon));
     g.set_attr("alpha", AttrValue::F64(m.alpha));
     g.set_attr("t", AttrValue::F64(m.t));
-    g.set_attr("sigma_rank", AttrValue::U64(m.sigma_rank as u64));
+    g.set_attr("rho_rank", AttrValue::U64(m.rho_rank as u64));
+    g.set_attr("kernel_alpha", AttrValue::F64(m.kernel_alpha));
+    g.set_attr("kernel_dim", AttrValue::F64(m.kernel_dim));
+    g.set_attr("rho_scale", AttrValue::F64(m.rho_scale));
+    g.set_attr("eps0", AttrValue::F64(m.eps0));
+    g.set_attr("dim0", AttrValue::F64(m.dim0));
+    g.set_attr("graph_k", AttrValue::U64(m.graph_k as u64));
     g.set_attr("neighbors", AttrValue::U64(m.neighbors as u64));
     g.set_attr("residual", AttrValue::F64(m.residual));
     let c = m.components();
@@ -50,7 +57,8 @@ pub fn add_model_group(parent: &mut GroupBuilder, m: &DiffusionModel) {
         .with_shape(&[m.landmarks.n as u64, c as u64]);
     g.create_dataset("eigenvalues")
         .with_f64_data(&m.eigenvalues);
-    g.create_dataset("sigma").with_f64_data(&m.sigma);
+    g.create_dataset("rho").with_f64_data(&m.rho);
+    g.create_dataset("rho0").with_f64_data(&m.rho0);
     match &m.reduction {
         Some((pca, keep)) => {
             g.set_attr("pca_keep", AttrValue::U64(*keep as u64));
@@ -145,15 +153,18 @@ pub fn load_model(path: &Path) -> Result<DiffusionModel> {
     let (q, _) = ds("q")?;
     let (psi, _) = ds("psi")?;
     let (eigenvalues, _) = ds("eigenvalues")?;
-    let (sigma, _) = ds("sigma")?;
+    let (rho, _) = ds("rho")?;
+    let (rho0, _) = ds("rho0")?;
     let c = eigenvalues.len();
-    let sigma_rank = attr_usize(path, &a, "sigma_rank")?;
+    let rho_rank = attr_usize(path, &a, "rho_rank")?;
     if q.len() != m
         || psi.len() != m * c
         || c == 0
         || landmark_index.len() != m
-        || !(sigma.is_empty() || sigma.len() == m)
-        || (sigma_rank > 0) == sigma.is_empty()
+        || !(rho.is_empty() || rho.len() == m)
+        || rho0.len() != rho.len()
+        || (rho_rank > 0) == rho.is_empty()
+        || rho.iter().any(|v| !(v.is_finite() && *v > 0.0))
     {
         return Err(bad(
             path,
@@ -191,10 +202,18 @@ pub fn load_model(path: &Path) -> Result<DiffusionModel> {
         epsilon: attr_f64(path, &a, "epsilon")?,
         alpha: attr_f64(path, &a, "alpha")?,
         t: attr_f64(path, &a, "t")?,
-        sigma,
-        sigma_rank,
+        rho,
+        rho_rank,
+        rho0,
+        eps0: attr_f64(path, &a, "eps0")?,
+        dim0: attr_f64(path, &a, "dim0")?,
+        graph_k: attr_usize(path, &a, "graph_k")?,
+        kernel_alpha: attr_f64(path, &a, "kernel_alpha")?,
+        kernel_dim: attr_f64(path, &a, "kernel_dim")?,
+        rho_scale: attr_f64(path, &a, "rho_scale")?,
         neighbors: attr_usize(path, &a, "neighbors")?,
         reduction,
         residual: attr_f64(path, &a, "residual")?,
+        diagnostics: Default::default(),
     })
 }

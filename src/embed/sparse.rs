@@ -142,13 +142,74 @@ pub fn kernel_graph(nb: &Neighbors, scale: &(dyn Fn(usize, usize) -> f64 + Sync)
 /// α-normalise `k` in place (K^α_ij = K_ij/(q_i^α q_j^α)); returns (q, d) with d the row sums
 /// of K^α. Then turn it into S = D^{−½} K^α D^{−½} in place.
 pub fn normalise(k: &mut SymCsr, alpha: f64) -> (Vec<f64>, Vec<f64>) {
-    let q = k.row_sums();
-    let qa: Vec<f64> = q.iter().map(|v| v.powf(alpha)).collect();
+    let (q, d, _) = normalise_scaled(k, alpha, &[], 0.0);
+    (q, d)
+}
+
+/// The normalisation of a variable-bandwidth kernel (Berry & Harlim 2016), in place.
+///
+/// With local scales ρ (empty: all 1) and the dimension `dim` of the density estimate:
+/// q_i = (Σ_j K_ij)/ρ_i^dim, K^a_ij = K_ij/(q_i^a q_j^a), d_i = Σ_j K^a_ij, R = diag(ρ²). The
+/// generator R⁻¹(D⁻¹K^a − I) is self-adjoint under D R; `k` becomes its symmetric, shifted form
+/// A = I + c·((DR)^{−½} K^a (DR)^{−½} − R⁻¹) with c = min ρ², whose spectrum lies in [−1, 1]
+/// with the trivial eigenvalue 1 (eigenvector (DR)^{½}·1). With ρ = 1 this is
+/// S = D^{−½} K^a D^{−½}. Returns (q, d, c).
+pub fn normalise_scaled(
+    k: &mut SymCsr,
+    a: f64,
+    rho: &[f64],
+    dim: f64,
+) -> (Vec<f64>, Vec<f64>, f64) {
+    let mut q = k.row_sums();
+    if !rho.is_empty() {
+        q.iter_mut().zip(rho).for_each(|(v, r)| *v /= r.powf(dim));
+    }
+    let qa: Vec<f64> = q.iter().map(|v| v.powf(a)).collect();
     scale_sym(k, &qa);
     let d = k.row_sums();
-    let sd: Vec<f64> = d.iter().map(|v| v.sqrt()).collect();
+    let r2: Vec<f64> = (0..k.n)
+        .map(|i| rho.get(i).map_or(1.0, |r| r * r))
+        .collect();
+    let c = r2.iter().copied().fold(f64::INFINITY, f64::min);
+    let sd: Vec<f64> = d.iter().zip(&r2).map(|(v, r)| (v * r).sqrt()).collect();
     scale_sym(k, &sd);
-    (q, d)
+    if !rho.is_empty() {
+        for (i, &ri) in r2.iter().enumerate() {
+            for e in k.ptr[i]..k.ptr[i + 1] {
+                k.val[e] *= c;
+                if k.col[e] == i {
+                    k.val[e] += 1.0 - c / ri;
+                }
+            }
+        }
+    }
+    (q, d, c)
+}
+
+/// The block of `s` on the rows and columns `idx` (increasing), renumbered 0..idx.len().
+pub fn submatrix(s: &SymCsr, idx: &[usize]) -> SymCsr {
+    let mut pos = std::collections::HashMap::with_capacity(idx.len());
+    for (r, &i) in idx.iter().enumerate() {
+        pos.insert(i, r);
+    }
+    let mut ptr = Vec::with_capacity(idx.len() + 1);
+    let (mut col, mut val) = (Vec::new(), Vec::new());
+    ptr.push(0);
+    for &i in idx {
+        for e in s.ptr[i]..s.ptr[i + 1] {
+            if let Some(&c) = pos.get(&s.col[e]) {
+                col.push(c);
+                val.push(s.val[e]);
+            }
+        }
+        ptr.push(col.len());
+    }
+    SymCsr {
+        n: idx.len(),
+        ptr,
+        col,
+        val,
+    }
 }
 
 /// Divide entry (i, j) by f_i f_j.
@@ -240,6 +301,9 @@ pub enum Solver {
     /// Chebyshev-filtered subspace iteration on S (when the Cholesky factor would not fit its
     /// budget or fails); see [`super::chebyshev`].
     Chebyshev,
+    /// Each connected component solved on its own and the spectra joined
+    /// ([`super::components`]).
+    Components,
     /// Dense symmetric eigendecomposition, for graphs too small for a Krylov subspace (the
     /// Krylov–Schur iteration needs a subspace smaller than the matrix).
     Dense,
@@ -291,6 +355,8 @@ pub struct TopEigen {
     pub vectors: Mat<f64>,
     /// Largest residual ‖S v − λ v‖ over the pairs.
     pub residual: f64,
+    /// Residual ‖S v − λ v‖ of each pair, same order.
+    pub residuals: Vec<f64>,
     /// Solver used.
     pub solver: Solver,
 }
@@ -384,7 +450,12 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
 }
 
 /// Sort eigenpairs non-increasing and measure the largest residual ‖S v − λ v‖.
-fn finish(s: &SymCsr, values: Vec<f64>, vectors: Mat<f64>, solver: Solver) -> Result<TopEigen> {
+pub(crate) fn finish(
+    s: &SymCsr,
+    values: Vec<f64>,
+    vectors: Mat<f64>,
+    solver: Solver,
+) -> Result<TopEigen> {
     let n = s.n;
     let nev = values.len();
     // Sort non-increasing.
@@ -393,7 +464,7 @@ fn finish(s: &SymCsr, values: Vec<f64>, vectors: Mat<f64>, solver: Solver) -> Re
     let vals: Vec<f64> = order.iter().map(|&i| values[i]).collect();
     let vecs = Mat::<f64>::from_fn(n, nev, |i, j| vectors[(i, order[j])]);
     // Residuals.
-    let mut residual = 0.0f64;
+    let mut residuals = Vec::with_capacity(nev);
     let mut x = vec![0.0; n];
     let mut y = vec![0.0; n];
     for (l, &lam) in vals.iter().enumerate() {
@@ -406,12 +477,13 @@ fn finish(s: &SymCsr, values: Vec<f64>, vectors: Mat<f64>, solver: Solver) -> Re
             .zip(&y)
             .map(|(a, b)| (b - lam * a) * (b - lam * a))
             .sum();
-        residual = residual.max(r.sqrt());
+        residuals.push(r.sqrt());
     }
     Ok(TopEigen {
         values: vals,
         vectors: vecs,
-        residual,
+        residual: residuals.iter().copied().fold(0.0, f64::max),
+        residuals,
         solver,
     })
 }

@@ -186,6 +186,34 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     g.set_attr("epsilon", AttrValue::F64(e.epsilon));
     g.set_attr("alpha", AttrValue::F64(e.alpha));
     g.set_attr("t", AttrValue::F64(e.t));
+    let dg = &e.diagnostics;
+    g.set_attr(
+        "bandwidth_rule",
+        AttrValue::VarLenString(dg.bandwidth_rule.clone()),
+    );
+    g.set_attr(
+        "kernel_sum_dimension",
+        AttrValue::F64(dg.kernel_sum_dimension.unwrap_or(f64::NAN)),
+    );
+    g.set_attr(
+        "connected_components",
+        AttrValue::U64(dg.connected_components as u64),
+    );
+    g.set_attr(
+        "eigengap",
+        AttrValue::F64(dg.eigengap.map_or(f64::NAN, |x| x.1)),
+    );
+    g.set_attr(
+        "eigengap_after",
+        AttrValue::U64(dg.eigengap.map_or(0, |x| x.0 as u64)),
+    );
+    g.set_attr(
+        "note",
+        AttrValue::VarLenString(dg.note.clone().unwrap_or_default()),
+    );
+    g.create_dataset("residuals").with_f64_data(&dg.residuals);
+    let sizes: Vec<u64> = dg.component_sizes.iter().map(|&v| v as u64).collect();
+    g.create_dataset("component_sizes").with_u64_data(&sizes);
     g.create_dataset("coords")
         .with_f64_data(&e.coords)
         .with_shape(&[e.n as u64, e.components as u64]);

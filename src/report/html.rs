@@ -174,6 +174,22 @@ pub(crate) fn render(a: &Analysis, svgs: &[(Figure, String)], opts: &ReportOptio
         ),
     );
     row(&mut t, "Eigenvalues", &eig.join(", "));
+    let dg = &e.diagnostics;
+    row(
+        &mut t,
+        "Diffusion map diagnostics",
+        &html_escape(&format!(
+            "ε by {}; kernel-sum dimension {}; largest eigen-residual {:.1e}; largest eigengap {}; {} connected component{}{}",
+            if dg.bandwidth_rule.is_empty() { "—" } else { &dg.bandwidth_rule },
+            dg.kernel_sum_dimension.map_or("—".to_string(), |d| f(d, 2)),
+            e.residual,
+            dg.eigengap
+                .map_or("—".to_string(), |(i, g)| format!("{g:.2e} after coordinate {i}")),
+            dg.connected_components,
+            if dg.connected_components == 1 { "" } else { "s" },
+            dg.note.as_ref().map_or(String::new(), |n| format!(": {n}")),
+        )),
+    );
     let d = &a.dimension;
     row(&mut t, "Dimension (k-means scaling)", &f(d.d, 2));
     if let Some(c) = a

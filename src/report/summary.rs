@@ -104,6 +104,15 @@ pub fn summary_json(a: &Analysis) -> Value {
             "epsilon": num(e.epsilon),
             "alpha": num(e.alpha),
             "t": num(e.t),
+            "bandwidth_rule": e.diagnostics.bandwidth_rule,
+            "kernel_sum_dimension": e.diagnostics.kernel_sum_dimension.map_or(Value::Null, num),
+            "residuals": e.diagnostics.residuals.iter().map(|&x| num(x)).collect::<Vec<_>>(),
+            "eigengap": e.diagnostics.eigengap.map_or(Value::Null, |(i, g)| {
+                serde_json::json!({"after": i, "gap": num(g)})
+            }),
+            "connected_components": e.diagnostics.connected_components,
+            "component_sizes": e.diagnostics.component_sizes,
+            "note": e.diagnostics.note,
         },
         "dimension": {
             "d": num(d.d),

@@ -80,21 +80,53 @@ pub(crate) fn draw_embedding<DB: DrawingBackend>(
     let (panels, key) = body.split_horizontally(w.saturating_sub(320));
     let cells = panels.split_evenly((1, pairs.len()));
     let coord = |i: usize, c: usize| e.coords.get(i * k + c).copied().unwrap_or(f64::NAN);
-    for (cell, &(cx, cy)) in cells.iter().zip(&pairs) {
-        let pts: Vec<(f64, f64, RGBColor)> = rows
-            .iter()
-            .map(|&i| (coord(i, cx), coord(i, cy), colour_of(i)))
-            .filter(|p| p.0.is_finite() && p.1.is_finite())
+    // Robust limits: the 0.5–99.5 % quantiles of each coordinate over all beats, widened by
+    // 4 %; points beyond are drawn on the edge (as hollow marks) and counted in the caption, so
+    // one outlying beat cannot squeeze the rest into a corner.
+    let robust = |c: usize| -> Option<(f64, f64)> {
+        let mut v: Vec<f64> = (0..e.n)
+            .map(|i| coord(i, c))
+            .filter(|v| v.is_finite())
             .collect();
-        let (Some((x0, x1)), Some((y0, y1))) = (
-            axis_range(pts.iter().map(|p| p.0)),
-            axis_range(pts.iter().map(|p| p.1)),
-        ) else {
+        if v.is_empty() {
+            return None;
+        }
+        v.sort_by(f64::total_cmp);
+        let at = |q: f64| v[((q * (v.len() - 1) as f64).round() as usize).min(v.len() - 1)];
+        let (lo, hi) = (at(0.005), at(0.995));
+        let pad = if hi > lo { 0.04 * (hi - lo) } else { 0.5 };
+        Some((lo - pad, hi + pad))
+    };
+    for (cell, &(cx, cy)) in cells.iter().zip(&pairs) {
+        let (Some((x0, x1)), Some((y0, y1))) = (robust(cx), robust(cy)) else {
             draw_message(cell, "", "no finite coordinates")?;
             continue;
         };
+        let inside = |x: f64, y: f64| (x0..=x1).contains(&x) && (y0..=y1).contains(&y);
+        let outside = (0..e.n)
+            .filter(|&i| {
+                let (x, y) = (coord(i, cx), coord(i, cy));
+                x.is_finite() && y.is_finite() && !inside(x, y)
+            })
+            .count();
+        let pts: Vec<(f64, f64, RGBColor, bool)> = rows
+            .iter()
+            .map(|&i| (coord(i, cx), coord(i, cy), colour_of(i)))
+            .filter(|p| p.0.is_finite() && p.1.is_finite())
+            .map(|(x, y, c)| (x.clamp(x0, x1), y.clamp(y0, y1), c, inside(x, y)))
+            .collect();
+        let caption = if outside > 0 {
+            format!(
+                "ψ{}–ψ{} ({outside} beat{} beyond 0.5–99.5 % drawn at the edge)",
+                cx + 1,
+                cy + 1,
+                if outside == 1 { "" } else { "s" }
+            )
+        } else {
+            format!("ψ{}–ψ{}", cx + 1, cy + 1)
+        };
         let mut chart = ChartBuilder::on(cell)
-            .caption(format!("ψ{}–ψ{}", cx + 1, cy + 1), (FONT, DESC_PX))
+            .caption(caption, (FONT, DESC_PX - 8))
             .margin(16)
             .x_label_area_size(80)
             .y_label_area_size(if pairs.len() > 1 { 120 } else { 160 })
@@ -114,10 +146,13 @@ pub(crate) fn draw_embedding<DB: DrawingBackend>(
             .draw()
             .ctx()?;
         chart
-            .draw_series(
-                pts.iter()
-                    .map(|&(x, y, c)| Circle::new((x, y), 4, c.mix(0.85).filled())),
-            )
+            .draw_series(pts.iter().map(|&(x, y, c, inside)| {
+                if inside {
+                    Circle::new((x, y), 4, c.mix(0.85).filled())
+                } else {
+                    Circle::new((x, y), 6, c.stroke_width(2))
+                }
+            }))
             .ctx()?;
     }
     draw_colour_key(&key, &colouring, crange)
