@@ -70,11 +70,12 @@ fn cloud_csv() -> Vec<u8> {
 fn model_bytes() -> &'static [u8] {
     static BYTES: OnceLock<Vec<u8>> = OnceLock::new();
     BYTES.get_or_init(|| {
-        let p = DiffusionParams {
+        let mut p = DiffusionParams {
             components: 2,
-            neighbors: 8,
             ..DiffusionParams::default()
         };
+        // A small graph: 8 neighbours, the bandwidth rank capped to match as the CLI does.
+        p.overlay_kernel(None, Some(8));
         let m = embed::fit(&cloud(60), &p).unwrap();
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("model.h5");
