@@ -173,6 +173,11 @@ fn a_thirty_beat_record_has_no_dimension_and_says_why() {
     );
     let long = m.rows.iter().find(|r| r.name == "long").unwrap();
     assert_ne!(long.dimension_status, "insufficient", "{long:?}");
+    // The cell is the suite's consensus, with its status.
+    assert!(
+        ["resolved", "unresolved"].contains(&long.dimension_status.as_str()),
+        "{long:?}"
+    );
     // Either a number within what the points can resolve (Eckmann & Ruelle 1992: at most
     // 2·log10 N), or an empty cell with the reason.
     match long.dimension {

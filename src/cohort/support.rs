@@ -114,9 +114,10 @@ pub fn resolvable_dimension(n: usize) -> f64 {
 /// The dimension cell of a record: `(value, status, reason when empty)`.
 ///
 /// Status `insufficient`: fewer feature points than [`Support::dimension_points`];
-/// `unresolved`: no finite estimate, or one above [`resolvable_dimension`]; otherwise the name
-/// of the estimate shown (`kmeans`: the plateau of the k-means quantization scaling curve,
-/// Zador 1982). This is the one function to change when the table shows another estimate.
+/// otherwise the consensus d of the dimension suite ([`crate::dimension::consensus`]) with its
+/// status, `resolved` or `unresolved` (the best d is still shown, with the reason in the notes).
+/// No number is shown when there is no finite consensus or it lies above
+/// [`resolvable_dimension`].
 pub fn dimension_cell(a: &Analysis, s: &Support) -> (Option<f64>, String, Option<String>) {
     let n = a.features.points.n;
     if n < s.dimension_points {
@@ -129,12 +130,23 @@ pub fn dimension_cell(a: &Analysis, s: &Support) -> (Option<f64>, String, Option
             )),
         );
     }
-    let d = a.dimension.d;
+    let Some(c) = a
+        .dimension_suite
+        .as_ref()
+        .and_then(|suite| suite.consensus.as_ref())
+    else {
+        return (
+            None,
+            "unresolved".into(),
+            Some("dimension: no consensus was computed".into()),
+        );
+    };
+    let d = c.d;
     if !d.is_finite() {
         return (
             None,
             "unresolved".into(),
-            Some("dimension: the scaling curve has no plateau".into()),
+            Some(format!("dimension: no finite consensus ({})", c.reason)),
         );
     }
     let cap = resolvable_dimension(n);
@@ -143,11 +155,18 @@ pub fn dimension_cell(a: &Analysis, s: &Support) -> (Option<f64>, String, Option
             None,
             "unresolved".into(),
             Some(format!(
-                "dimension: estimate {d:.2} is above {cap:.2} = 2·log10 {n}, the most {n} points can resolve"
+                "dimension: consensus {d:.2} is above {cap:.2} = 2·log10 {n}, the most {n} points can resolve"
             )),
         );
     }
-    (Some(d), "kmeans".into(), None)
+    match c.status {
+        crate::dimension::consensus::Status::Resolved => (Some(d), "resolved".into(), None),
+        crate::dimension::consensus::Status::Unresolved => (
+            Some(d),
+            "unresolved".into(),
+            Some(format!("dimension: consensus unresolved ({})", c.reason)),
+        ),
+    }
 }
 
 /// Gate every measure of `a` by its support.
