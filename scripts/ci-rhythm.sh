@@ -30,6 +30,6 @@ a, b = eps[0]["start_s"], eps[0]["end_s"]
 # The demo's reference episode is 144-198 s (demo-data/telemetry-night.annotations.csv).
 assert abs(a - 144) <= 5 and abs(b - 198) <= 5, (a, b)
 assert s["verdict"]["class"] == "irregular", s["verdict"]
-print(f"ci-rhythm: demo episode {a:.1}-{b:.1} s, verdict {s['verdict']['class']}")
+print(f"ci-rhythm: demo episode {a:.1f}-{b:.1f} s, verdict {s['verdict']['class']}")
 PY
 echo "ci-rhythm: ok"
