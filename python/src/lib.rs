@@ -426,7 +426,7 @@ fn intrinsic_dimension(
     let p = SuiteParams {
         methods: match methods {
             Some(m) => Method::parse_list(m).map_err(to_py)?,
-            None => Method::ALL.to_vec(),
+            None => Method::DEFAULT.to_vec(),
         },
         bootstrap: count("bootstrap", bootstrap)?,
         seed,
