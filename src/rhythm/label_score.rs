@@ -212,37 +212,13 @@ impl LabelScore {
     }
 }
 
-/// Area under the ROC curve of a score for positives against negatives: the Mann–Whitney
+/// [`crate::stats::roc_auc`] of (score, positive) pairs: the Mann–Whitney
 /// statistic, the probability that a random positive scores above a random negative, ties
 /// counting one half (Hanley & McNeil 1982). Pairs with a non-finite score are left out; NaN
 /// without a finite positive and a finite negative.
 pub fn auc(scores: &[(f64, bool)]) -> f64 {
-    let pos: Vec<f64> = scores
-        .iter()
-        .filter(|s| s.1 && s.0.is_finite())
-        .map(|s| s.0)
-        .collect();
-    let neg: Vec<f64> = scores
-        .iter()
-        .filter(|s| !s.1 && s.0.is_finite())
-        .map(|s| s.0)
-        .collect();
-    if pos.is_empty() || neg.is_empty() {
-        return f64::NAN;
-    }
-    let mut wins = 0.0;
-    for &p in &pos {
-        for &n in &neg {
-            wins += if p > n {
-                1.0
-            } else if p == n {
-                0.5
-            } else {
-                0.0
-            };
-        }
-    }
-    wins / (pos.len() * neg.len()) as f64
+    let (score, positive): (Vec<f64>, Vec<bool>) = scores.iter().copied().unzip();
+    crate::stats::roc_auc(&score, &positive)
 }
 
 #[cfg(test)]

@@ -122,7 +122,7 @@ pub fn score(truth: &[BeatClass], votes: &[(BeatClass, [f64; NC])]) -> SpaceScor
                 se: ratio(tp, n),
                 ppv: ratio(tp, predicted),
                 f1: ratio(2 * tp, n + predicted),
-                rank_index: rank_auc(&share, &member),
+                rank_index: crate::stats::roc_auc(&share, &member),
             }
         })
         .collect();
@@ -131,33 +131,6 @@ pub fn score(truth: &[BeatClass], votes: &[(BeatClass, [f64; NC])]) -> SpaceScor
         confusion,
         classes,
     }
-}
-
-/// Area under the ROC curve of `score` for members against non-members: the Mann–Whitney U of
-/// the members' ranks divided by n₁n₀, tied scores taking their average rank (Hanley & McNeil
-/// 1982). NaN when either group is empty.
-pub fn rank_auc(score: &[f64], member: &[bool]) -> f64 {
-    let n1 = member.iter().filter(|&&m| m).count();
-    let n0 = member.len() - n1;
-    if n1 == 0 || n0 == 0 {
-        return f64::NAN;
-    }
-    let mut order: Vec<usize> = (0..score.len()).collect();
-    order.sort_by(|&a, &b| score[a].total_cmp(&score[b]));
-    let mut rank_sum = 0.0;
-    let mut i = 0;
-    while i < order.len() {
-        let mut j = i;
-        while j + 1 < order.len() && score[order[j + 1]] == score[order[i]] {
-            j += 1;
-        }
-        // Ranks i+1 ..= j+1 share their mean.
-        let mean_rank = (i + j + 2) as f64 / 2.0;
-        rank_sum += mean_rank * order[i..=j].iter().filter(|&&o| member[o]).count() as f64;
-        i = j + 1;
-    }
-    let u = rank_sum - (n1 * (n1 + 1)) as f64 / 2.0;
-    u / (n1 as f64 * n0 as f64)
 }
 
 #[cfg(test)]
@@ -173,20 +146,6 @@ mod tests {
         let (_, share) = vote(&[N, N, N, V, S]);
         assert_eq!(share[N.index()], 0.6);
         assert_eq!(share[S.index()], 0.2);
-    }
-
-    #[test]
-    fn auc_matches_hand_counts() {
-        // Source: the Mann–Whitney definition (Mann & Whitney 1947): members 0.9, 0.4; others
-        // 0.1, 0.4, 0.5. Pairs won: 0.9 beats 3; 0.4 beats 0.1, ties 0.4 (½), loses to 0.5 →
-        // U = 3 + 1.5 = 4.5 of 6 pairs.
-        let auc = rank_auc(
-            &[0.9, 0.4, 0.1, 0.4, 0.5],
-            &[true, true, false, false, false],
-        );
-        assert!((auc - 0.75).abs() < 1e-12, "{auc}");
-        assert_eq!(rank_auc(&[1.0, 0.0], &[true, false]), 1.0);
-        assert!(rank_auc(&[1.0, 0.0], &[true, true]).is_nan());
     }
 
     #[test]
