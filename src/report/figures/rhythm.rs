@@ -9,9 +9,9 @@
 //! In: a finished [`Analysis`]. Out: a drawing; nothing here is a result.
 
 use super::style::{
-    axis_range, configure, draw_legend, draw_message, line_style, minmax_thin, shade_bands,
-    with_title, Area, Ctx, DrawResult, GLYPH_PX, GREY, LINE_BINS, OI_BLUE, OI_GREEN, OI_ORANGE,
-    OI_SKY, OI_VERMILLION,
+    axis_range, configure, draw_legend, draw_message, line_style, minmax_thin, reference_strip,
+    shade_bands, with_title, Area, Ctx, DrawResult, GLYPH_PX, GREY, LINE_BINS, OI_BLUE, OI_GREEN,
+    OI_ORANGE, OI_VERMILLION,
 };
 use crate::pipeline::Analysis;
 use crate::rhythm::screen::{ScreenParams, ScreenWindow};
@@ -95,18 +95,7 @@ pub(crate) fn draw_rhythm_timeline<DB: DrawingBackend>(
         "episodes found (research screen)",
     )?;
     let reference = crate::rhythm::screen::irregular_reference(&a.reference);
-    if !reference.is_empty() {
-        let band = (y1 - 0.06 * (y1 - y0), y1);
-        chart
-            .draw_series(
-                reference
-                    .iter()
-                    .map(|&(s, e)| Rectangle::new([(s, band.0), (e, band.1)], OI_SKY.filled())),
-            )
-            .ctx()?
-            .label("reference irregular rhythm")
-            .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + GLYPH_PX, y + 6)], OI_SKY.filled()));
-    }
+    reference_strip(&mut chart, &reference, (y0, y1), 0.06)?;
     chart
         .draw_series(LineSeries::new(pts, line_style(OI_BLUE, 2)))
         .ctx()?

@@ -2,9 +2,9 @@
 //! Poincaré plot (Brennan, Palaniswami & Kamen 2001).
 
 use super::style::{
-    axis_range, configure, draw_legend, draw_message, line_style, minmax_thin, shade_bands,
-    stride_indices, Area, Ctx, DrawResult, DESC_PX, FONT, GLYPH_PX, GREY, LINE_BINS, MAX_SCATTER,
-    OI_BLUE, OI_ORANGE, OI_SKY, TITLE_PX,
+    axis_range, configure, draw_legend, draw_message, line_style, minmax_thin, reference_strip,
+    shade_bands, stride_indices, Area, Ctx, DrawResult, DESC_PX, FONT, GLYPH_PX, GREY, LINE_BINS,
+    MAX_SCATTER, OI_BLUE, OI_ORANGE, TITLE_PX,
 };
 use crate::pipeline::Analysis;
 use plotters::prelude::*;
@@ -69,23 +69,12 @@ pub(crate) fn draw_rr<DB: DrawingBackend>(a: &Analysis, area: &Area<DB>) -> Draw
         "irregular-rhythm screen (research)",
     )?;
     let reference = crate::rhythm::screen::irregular_reference(&a.reference);
-    let band = (y1 - 0.04 * (y1 - y0), y1);
     let reference: Vec<(f64, f64)> = reference
         .into_iter()
         .filter(|&(s, e)| e > x0 && s < x1)
         .map(|(s, e)| (s.max(x0), e.min(x1)))
         .collect();
-    if !reference.is_empty() {
-        chart
-            .draw_series(
-                reference
-                    .iter()
-                    .map(|&(s, e)| Rectangle::new([(s, band.0), (e, band.1)], OI_SKY.filled())),
-            )
-            .ctx()?
-            .label("reference irregular rhythm")
-            .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + GLYPH_PX, y + 6)], OI_SKY.filled()));
-    }
+    reference_strip(&mut chart, &reference, (y0, y1), 0.04)?;
     chart
         .draw_series(LineSeries::new(pts.clone(), line_style(OI_BLUE, 2)))
         .ctx()?

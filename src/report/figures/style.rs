@@ -127,6 +127,30 @@ pub(crate) fn shade_bands<DB: DrawingBackend>(
     Ok(())
 }
 
+/// The reference's irregular-rhythm intervals `[s, e]` as a strip along the top of a chart
+/// (`height` of the span `y0..y1`), with one legend entry; nothing when there are none.
+pub(crate) fn reference_strip<DB: DrawingBackend>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    intervals: &[(f64, f64)],
+    (y0, y1): (f64, f64),
+    height: f64,
+) -> DrawResult {
+    if intervals.is_empty() {
+        return Ok(());
+    }
+    let band = (y1 - height * (y1 - y0), y1);
+    chart
+        .draw_series(
+            intervals
+                .iter()
+                .map(|&(s, e)| Rectangle::new([(s, band.0), (e, band.1)], OI_SKY.filled())),
+        )
+        .ctx()?
+        .label("reference irregular rhythm")
+        .legend(|(x, y)| Rectangle::new([(x, y - 6), (x + GLYPH_PX, y + 6)], OI_SKY.filled()));
+    Ok(())
+}
+
 /// A figure with only a title and a message in the middle.
 pub(crate) fn draw_message<DB: DrawingBackend>(
     area: &Area<DB>,
