@@ -3,15 +3,10 @@
 //! low, the same mean heart rate (from NN intervals) and the same detector agreement.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 
-fn beatfold(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
-}
+mod common;
+use common::beatfold;
 
 fn json_of(o: &Output) -> serde_json::Value {
     assert!(

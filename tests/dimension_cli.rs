@@ -1,15 +1,8 @@
 //! The `dimension` command: sources, JSON keys, figure, usage errors.
 
-use std::path::Path;
-use std::process::{Command, Output};
 
-fn beatfold(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
-}
+mod common;
+use common::beatfold;
 
 const DEMO: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data/telemetry-night.csv");
 

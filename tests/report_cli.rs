@@ -3,15 +3,9 @@
 //! choices are refused with exit status 2 before any analysis.
 
 use std::path::Path;
-use std::process::{Command, Output};
 
-fn beatfold(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
-}
+mod common;
+use common::beatfold;
 
 fn demo_csv() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/telemetry-night.csv")

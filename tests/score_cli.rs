@@ -3,26 +3,9 @@
 //! 150 ms matching window, pooled and average statistics, records left out of the totals).
 
 use std::path::Path;
-use std::process::{Command, Output};
 
-fn beatfold(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
-}
-
-fn ok(o: &Output) -> String {
-    let out = String::from_utf8_lossy(&o.stdout).into_owned();
-    assert!(
-        o.status.success(),
-        "exit {:?}\nstdout:\n{out}\nstderr:\n{}",
-        o.status.code(),
-        String::from_utf8_lossy(&o.stderr)
-    );
-    out
-}
+mod common;
+use common::{beatfold, ok};
 
 fn synth(dir: &Path, name: &str, seed: &str) {
     ok(&beatfold(
