@@ -1,6 +1,5 @@
 //! The `dimension` command: sources, JSON keys, figure, usage errors.
 
-
 mod common;
 use common::beatfold;
 
