@@ -192,12 +192,10 @@ fn short_synthetic_records_get_their_verdict() {
 }
 
 #[test]
-#[ignore = "known defect: synthetic trigeminy (seed 2) is called `irregular` (COSEn -1.13, no P-wave template: too few locally regular beats)"]
 fn trigeminy_is_not_irregular() {
     // Ventricular trigeminy (N N V, `ectopic_every` 3), 30 s at 300 Hz: a repeating pattern,
-    // never an irregularly irregular rhythm (common practice). Measured when written: seed 1
-    // `other`, seed 2 `irregular` (the defect), so this test is ignored until the verdict can
-    // find the P waves of the sinus beats of such a record.
+    // never an irregularly irregular rhythm (common practice). No beat of such a record is
+    // locally regular, so the P-wave template comes from the beats that are not premature.
     use beatfold::rhythm::verdict::VerdictClass;
     let p = AnalyzeParams::default();
     for seed in [1u64, 2, 3] {

@@ -18,13 +18,22 @@
 //!    (the PR interval is 120–200 ms from P onset to QRS onset and the R peak follows the QRS
 //!    onset by some 40 ms, so the P wave sits inside it; `common practice`), clipped so that it
 //!    never reaches back past the previous R plus `clip_rr_fraction` (60 %) of the RR interval,
-//!    where the previous beat's T wave may still be (`common practice`);
+//!    where the previous beat's T wave may still be (`common practice`). "Before R" is counted
+//!    from each beat's **anchor**: its QRS onset (found from the slope, see `onset_slope_share`)
+//!    plus 40 ms, never after the detected peak, so that a fiducial placed late in the complex
+//!    (the S wave of a QS-like complex) does not pull the QRS into the segment, where every beat
+//!    would share it and mimic a P wave;
 //! 2. the **template** is the sample-wise median of these segments over beats in locally
 //!    regular stretches: the four RR intervals around the beat all within ±`regular_tol` (10 %)
 //!    of their median. A median over all beats would, in a record dominated by atrial
 //!    fibrillation, be a median of fibrillatory waves, and would include premature atrial beats,
 //!    whose P wave is early, deformed or buried in the T wave; locally regular beats are mostly
 //!    sinus beats, and a median ignores the few fibrillating beats whose RR happen to line up.
+//!    When fewer than `min_template_beats` beats are locally regular (short records, bigeminy,
+//!    trigeminy, marked sinus arrhythmia), every beat whose preceding RR is at least
+//!    `fallback_min_rr_fraction` (90 %) of the median RR forms it instead: the beats that are
+//!    not premature, which carry the sinus P wave when there is one, while in fibrillation their
+//!    segments still hold waves of random phase that the agreement check below rejects.
 //!    The template is kept only when at least `min_template_beats` beats form it and the median
 //!    index of those beats is at least `template_min_agreement` (0.5): beats that do not agree
 //!    with their own median carry no common P wave (fibrillatory waves have random phase
@@ -66,6 +75,15 @@ pub struct AtrialParams {
     /// The template is rejected when the median index of the beats forming it is below this
     /// (default 0.5).
     pub template_min_agreement: f64,
+    /// The segment is placed from each beat's QRS onset rather than its detected peak: walking
+    /// back from the peak, the onset is where the smoothed slope stays below this share of the
+    /// QRS's steepest slope for 10 ms; the anchor is then the onset plus 40 ms, never after the
+    /// peak. 0 anchors on the detected peak (default 0.15).
+    pub onset_slope_share: f64,
+    /// When fewer than `min_template_beats` beats are locally regular, the template is formed
+    /// from every beat whose preceding RR interval is at least this share of the record's
+    /// median RR (beats that are not premature); 0 turns this off (default 0.9).
+    pub fallback_min_rr_fraction: f64,
 }
 
 impl Default for AtrialParams {
@@ -78,6 +96,8 @@ impl Default for AtrialParams {
             regular_tol: 0.1,
             min_template_beats: 20,
             template_min_agreement: 0.5,
+            onset_slope_share: 0.15,
+            fallback_min_rr_fraction: 0.9,
         }
     }
 }
@@ -135,8 +155,85 @@ impl AtrialParams {
                 ),
             ));
         }
+        if !(0.0..1.0).contains(&self.onset_slope_share) {
+            return Err(Error::param(
+                "atrial.onset_slope_share",
+                format!(
+                    "{}; allowed 0 ≤ v < 1 (share of the steepest QRS slope; 0 anchors on the peak)",
+                    self.onset_slope_share
+                ),
+            ));
+        }
+        if !(0.0..=2.0).contains(&self.fallback_min_rr_fraction) {
+            return Err(Error::param(
+                "atrial.fallback_min_rr_fraction",
+                format!(
+                    "{}; allowed 0 ≤ v ≤ 2 (share of the median RR; 0 turns the fallback off)",
+                    self.fallback_min_rr_fraction
+                ),
+            ));
+        }
         Ok(())
     }
+}
+
+/// Usual time from QRS onset to the R peak, ms (`common practice`): the anchor sits this far
+/// after the onset, so a beat whose detected peak is its R wave keeps its own peak.
+const ONSET_TO_PEAK_MS: f64 = 40.0;
+
+/// Per-beat anchor of the P-wave segment: the QRS onset plus [`ONSET_TO_PEAK_MS`], never after
+/// the detected peak. The onset is found walking back from the peak (at most 150 ms) to the
+/// first run of 10 ms whose slope (central difference over ±4 ms) stays below
+/// `share` × the steepest slope within ±60 ms of the peak. A detected peak placed late in the
+/// complex (an S wave of a QS complex, a notch) would otherwise pull the end of the QRS into
+/// the segment. Without a clear onset the anchor is the peak.
+fn anchors(conditioned: &[f64], samples: &[usize], fs_hz: f64, share: f64) -> Vec<usize> {
+    if share <= 0.0 {
+        return samples.to_vec();
+    }
+    let ms = |v: f64| ((v * fs_hz / 1000.0).round() as usize).max(1);
+    let (h, around, back, quiet_len, to_peak) =
+        (ms(4.0), ms(60.0), ms(150.0), ms(10.0), ms(ONSET_TO_PEAK_MS));
+    let n = conditioned.len();
+    let slope = |i: usize| -> f64 {
+        if i < h || i + h >= n {
+            return f64::NAN;
+        }
+        (conditioned[i + h] - conditioned[i - h]).abs()
+    };
+    samples
+        .iter()
+        .map(|&r| {
+            if r >= n || r < back + h {
+                return r;
+            }
+            let steepest = (r - around..=(r + around).min(n - 1))
+                .map(slope)
+                .filter(|v| v.is_finite())
+                .fold(0.0f64, f64::max);
+            if !(steepest > 0.0) {
+                return r;
+            }
+            let limit = share * steepest;
+            let mut quiet = 0;
+            for i in (r - back..r).rev() {
+                let s = slope(i);
+                if !s.is_finite() {
+                    return r;
+                }
+                if s < limit {
+                    quiet += 1;
+                    if quiet >= quiet_len {
+                        let onset = i + quiet_len;
+                        return (onset + to_peak).min(r);
+                    }
+                } else {
+                    quiet = 0;
+                }
+            }
+            r
+        })
+        .collect()
 }
 
 /// The P-wave presence index of a record's beats.
@@ -238,19 +335,21 @@ pub fn p_wave_index_with(
     if w < min_len {
         return Ok(empty(Vec::new(), 0, f64::NAN));
     }
-    // First usable position j0 (segment sample R − lo + j for j in j0..w), or None.
+    let anchor = anchors(conditioned, samples, fs_hz, p.onset_slope_share);
+    // First usable position j0 (segment sample A − lo + j for j in j0..w, A the beat's anchor),
+    // or None.
     let first_pos = |k: usize| -> Option<usize> {
-        let r = *samples.get(k)?;
+        let r = *anchor.get(k)?;
         if r >= conditioned.len() || r < lo {
             return None;
         }
         let seg_start = r - lo;
         let clip = if k > 0 {
             let prev = samples[k - 1];
-            if prev >= r {
+            if prev >= samples[k] || prev >= r {
                 return None;
             }
-            prev + (p.clip_rr_fraction * (r - prev) as f64).ceil() as usize
+            prev + (p.clip_rr_fraction * (samples[k] - prev) as f64).ceil() as usize
         } else {
             0
         };
@@ -280,6 +379,23 @@ pub fn p_wave_index_with(
     let mut chosen: Vec<usize> = (0..n)
         .filter(|&k| starts[k].is_some() && regular(k))
         .collect();
+    if chosen.len() < p.min_template_beats && p.fallback_min_rr_fraction > 0.0 && n >= 3 {
+        // Too few locally regular beats (short or variable records): every beat that is not
+        // premature forms the template instead.
+        let mut rr: Vec<f64> = samples
+            .windows(2)
+            .map(|w| w[1] as f64 - w[0] as f64)
+            .filter(|v| *v > 0.0)
+            .collect();
+        let med = crate::stats::median_of_finite(&mut rr);
+        chosen = (1..n)
+            .filter(|&k| {
+                starts[k].is_some()
+                    && samples[k] > samples[k - 1]
+                    && (samples[k] - samples[k - 1]) as f64 >= p.fallback_min_rr_fraction * med
+            })
+            .collect();
+    }
     if chosen.len() > MAX_TEMPLATE_BEATS {
         let step = chosen.len().div_ceil(MAX_TEMPLATE_BEATS);
         chosen = chosen.into_iter().step_by(step).collect();
@@ -292,7 +408,7 @@ pub fn p_wave_index_with(
             if let Some(j0) = starts[k] {
                 // Finite: `first_pos` admits only segments without non-finite samples.
                 if j >= j0 {
-                    column.push(conditioned[samples[k] - lo + j]);
+                    column.push(conditioned[anchor[k] - lo + j]);
                 }
             }
         }
@@ -316,7 +432,7 @@ pub fn p_wave_index_with(
         if from + min_len > w {
             return f64::NAN;
         }
-        let base = samples[k] - lo;
+        let base = anchor[k] - lo;
         match_index(&conditioned[base + from..base + w], &template[from..w])
     };
     let index: Vec<f64> = (0..n).map(index_of).collect();
@@ -464,6 +580,71 @@ mod tests {
         let p10 = sorted[sorted.len() / 10];
         eprintln!("P waves, irregular RR: median {med:.3}, 10th percentile {p10:.3}");
         assert!(med > 0.8 && p10 > 0.8, "median {med}, p10 {p10}");
+    }
+
+    /// A lead whose complexes are an R wave and a deeper S wave 45 ms later (both σ 20 ms), with
+    /// the detected fiducial on the S wave, as happens on leads with QS-like complexes; a T wave,
+    /// P waves where `p_wave`, and fibrillatory waves where not. Returns the lead and the
+    /// fiducials.
+    fn late_fiducial_lead(rr_s: &[f64], p_wave: bool, seed: u64) -> (Vec<f64>, Vec<usize>) {
+        use super::test_signals::bump;
+        let total: f64 = rr_s.iter().sum::<f64>() + 2.0;
+        let mut x = vec![0.0; (total * FS) as usize];
+        let mut t = 1.0;
+        let mut fid = Vec::new();
+        for &rr in rr_s {
+            bump(&mut x, t, 1.0, 0.02);
+            bump(&mut x, t + 0.045, -1.2, 0.02);
+            bump(&mut x, t + 0.3, 0.3, 0.05);
+            if p_wave {
+                bump(&mut x, t - 0.16, 0.15, 0.025);
+            }
+            fid.push(((t + 0.045) * FS).round() as usize);
+            t += rr;
+        }
+        if !p_wave {
+            let end = x.len() as f64 / FS;
+            fibrillation(&mut x, 0.0, end, 0.1, seed);
+        }
+        (x, fid)
+    }
+
+    #[test]
+    fn a_late_fiducial_does_not_pull_the_qrs_into_the_p_wave_segment() {
+        // 40 beats of irregular RR (0.5–1.0 s, uniform), fiducials on the S wave 45 ms after the
+        // R wave. Without P waves (fibrillatory waves instead) the segments anchored on the
+        // fiducial end inside the R wave, which every beat shares, so they would agree with
+        // their own median as if a P wave were there; anchored on the QRS onset they do not.
+        // With P waves the onset-anchored index stays near 1. (P wave before every sinus QRS,
+        // fibrillatory waves with no fixed phase: common practice.)
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(5);
+        let rr: Vec<f64> = (0..40).map(|_| rng.gen_range(0.5..1.0)).collect();
+        let (af, fid) = late_fiducial_lead(&rr, false, 6);
+        let on_peak = AtrialParams {
+            onset_slope_share: 0.0,
+            ..AtrialParams::default()
+        };
+        let peak = p_wave_index_with(&af, &fid, FS, &on_peak).unwrap();
+        let onset = p_wave_index_with(&af, &fid, FS, &AtrialParams::default()).unwrap();
+        let med = |p: &PWaveIndex| crate::stats::median(p.index.iter().copied());
+        eprintln!(
+            "no P: anchored on the fiducial accepted {} agreement {:.2}; on the onset accepted {} agreement {:.2}",
+            peak.accepted, peak.agreement, onset.accepted, onset.agreement
+        );
+        assert!(
+            peak.accepted && med(&peak) >= 0.5,
+            "the failure this guards against"
+        );
+        assert!(
+            !onset.accepted || med(&onset) < 0.5,
+            "agreement {:.2}, median {:.2}",
+            onset.agreement,
+            med(&onset)
+        );
+        let (sinus, fid) = late_fiducial_lead(&rr, true, 6);
+        let pw = p_wave_index_with(&sinus, &fid, FS, &AtrialParams::default()).unwrap();
+        assert!(pw.accepted, "agreement {:.2}", pw.agreement);
+        assert!(med(&pw) > 0.8, "median {:.2}", med(&pw));
     }
 
     #[test]
