@@ -7,6 +7,11 @@
 //! latent parameters, plus white noise (SD 0.01); k = 15 neighbours, local scaling with 7
 //! neighbours, 10 components. Peak resident memory is read from /proc/self/status (VmHWM).
 //!
+//! With `--stages` the 100 000-point run first times the stages one by one (PCA, projection,
+//! k-d tree, a kernel graph with local scaling from the 7th neighbour, normalisation and the
+//! eigensolver on it) before the fit with the library's defaults. Each time is printed as wall
+//! seconds and the process's CPU seconds (less disturbed by other work on a shared machine).
+//!
 //! With `--dump DIR` the windows are also written to `DIR/points.f64` (row-major little-endian
 //! float64, N × 64) and the fit's seconds to `DIR/beatfold.json`, for
 //! `scripts/time_sklearn_embedding.py DIR` (a reference library on the same points).
@@ -20,10 +25,27 @@ use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 use std::time::Instant;
 
+/// User + system CPU seconds of this process so far (from /proc/self/stat, 100 ticks a second),
+/// a measure that a shared machine's load disturbs less than the wall clock.
+fn cpu_seconds() -> f64 {
+    std::fs::read_to_string("/proc/self/stat")
+        .ok()
+        .and_then(|s| {
+            let rest = s.rsplit_once(')')?.1;
+            let f: Vec<&str> = rest.split_whitespace().collect();
+            Some((f.get(11)?.parse::<f64>().ok()? + f.get(12)?.parse::<f64>().ok()?) / 100.0)
+        })
+        .unwrap_or(f64::NAN)
+}
+
 fn time<T>(label: &str, f: impl FnOnce() -> T) -> T {
-    let t0 = Instant::now();
+    let (t0, c0) = (Instant::now(), cpu_seconds());
     let v = f();
-    println!("{label:<58} {:>8.2} s", t0.elapsed().as_secs_f64());
+    println!(
+        "{label:<58} {:>8.2} s  (CPU {:.2} s)",
+        t0.elapsed().as_secs_f64(),
+        cpu_seconds() - c0
+    );
     v
 }
 
@@ -61,6 +83,8 @@ fn beats(n: usize, seed: u64) -> Points {
 fn main() -> anyhow::Result<()> {
     let mut args: Vec<String> = std::env::args().collect();
     let dump = dump::take_dump_option(&mut args);
+    let stages = args.iter().any(|a| a == "--stages");
+    args.retain(|a| a != "--stages");
     let n: usize = args
         .get(1)
         .map(|s| s.parse())
@@ -93,7 +117,7 @@ fn main() -> anyhow::Result<()> {
         landmark_check: if landmarks > 0 { 1000 } else { 0 },
         ..DiffusionParams::default()
     };
-    if landmarks == 0 {
+    if landmarks == 0 && stages {
         // Stage by stage, as `fit` runs them (PCA to at most 20 axes, kNN, kernel, eigen).
         let pca = time("stage: PCA of all windows", || Pca::fit(&pts))?;
         let keep = pca.components_for(0.99).min(20);

@@ -203,3 +203,60 @@ fn constant_input_is_a_clear_error() {
         assert!(err.contains("coincide"), "{err}");
     }
 }
+
+#[test]
+fn circle_spectrum_with_the_default_kernel_is_the_laplacian_one() {
+    // N seeded uniform angles on the unit circle, every setting at its default (variable
+    // bandwidth, automatic ε, α = 1, sparse kernel).
+    let n = 2000;
+    let mut rng = ChaCha8Rng::seed_from_u64(12);
+    let th: Vec<f64> = (0..n).map(|_| 2.0 * PI * rng.gen::<f64>()).collect();
+    let data: Vec<f64> = th.iter().flat_map(|t| [t.cos(), t.sin()]).collect();
+    let pts = Points::new(n, 2, data).unwrap();
+    let p = DiffusionParams {
+        components: 6,
+        ..DiffusionParams::default()
+    };
+    let e = diffusion_map(&pts, &p).unwrap();
+    let l = &e.eigenvalues;
+    // Source: Coifman & Lafon (2006), docs/references.md §5: with α = 1 the generator is the
+    // Laplace–Beltrami operator, whose spectrum on the unit circle is m² (cos mθ, sin mθ, each
+    // m ≥ 1 twice); on the fixed-bandwidth kernel λ_m = I_m(2/ε)/I_0(2/ε) ≈ exp(−εm²/4), so
+    // log λ_m / log λ_1 → m² as ε → 0 (Berry & Harlim 2016, §5, for the variable bandwidth,
+    // whose limit is the same operator). Tolerance ±10 % of each ratio: the finite-sample error
+    // of a graph-Laplacian eigenvalue at N = 2000 random points is a few per cent (the members
+    // of each pair differ by that much); a missed or duplicated eigenvalue breaks the sequence
+    // 1, 1, 4, 4, 9, 9 by far more.
+    let base = (l[0].ln() + l[1].ln()) / 2.0;
+    let ratios: Vec<f64> = l.iter().map(|v| v.ln() / base).collect();
+    eprintln!("circle, default kernel: eigenvalues {l:?} log ratios {ratios:?}");
+    for (r, want) in ratios.iter().zip([1.0, 1.0, 4.0, 4.0, 9.0, 9.0]) {
+        assert!((r / want - 1.0).abs() < 0.10, "log ratios {ratios:?}");
+    }
+    // The members of each pair are a rotation of cos mθ, sin mθ: ψ1, ψ2 fit cos θ and sin θ.
+    let c1 = col(&e, 0);
+    let c2 = col(&e, 1);
+    let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
+    let sin: Vec<f64> = th.iter().map(|t| t.sin()).collect();
+    let fit = |y: &[f64]| {
+        // R² of y on (1, ψ1, ψ2) by the normal equations of the two centred regressors.
+        let m = |v: &[f64]| v.iter().sum::<f64>() / v.len() as f64;
+        let (ma, mb, my) = (m(&c1), m(&c2), m(y));
+        let (mut aa, mut bb, mut ab, mut ay, mut by, mut yy) = (0.0, 0.0, 0.0, 0.0, 0.0, 0.0);
+        for i in 0..y.len() {
+            let (a, b, v) = (c1[i] - ma, c2[i] - mb, y[i] - my);
+            aa += a * a;
+            bb += b * b;
+            ab += a * b;
+            ay += a * v;
+            by += b * v;
+            yy += v * v;
+        }
+        let det = aa * bb - ab * ab;
+        let (ca, cb) = ((bb * ay - ab * by) / det, (aa * by - ab * ay) / det);
+        (ca * ay + cb * by) / yy
+    };
+    let (rc, rs) = (fit(&cos), fit(&sin));
+    assert!(rc > 0.99 && rs > 0.99, "R² cos {rc} sin {rs}");
+    assert_eq!(e.diagnostics.connected_components, 1);
+}

@@ -141,3 +141,105 @@ fn nan_and_constant_input_are_clear_errors() {
     assert_eq!(out.status.code(), Some(1), "{err}");
     assert!(err.contains("coincide"), "{err}");
 }
+
+/// The n × c coordinates a run wrote with `--out`.
+fn coords(path: &std::path::Path) -> Vec<Vec<f64>> {
+    std::fs::read_to_string(path)
+        .unwrap()
+        .lines()
+        .map(|l| l.split(',').map(|v| v.parse().unwrap()).collect())
+        .collect()
+}
+
+#[test]
+fn components_alpha_t_and_seed_by_flag_and_by_config() {
+    let dir = tempfile::tempdir().unwrap();
+    let pts = helix(dir.path(), 600);
+    let mut n_cfg = 0;
+    let mut cfg = |body: &str| {
+        n_cfg += 1;
+        let p = dir.path().join(format!("o{n_cfg}.json"));
+        std::fs::write(&p, body).unwrap();
+        p.to_str().unwrap().to_string()
+    };
+    let out = |name: &str| dir.path().join(name).to_str().unwrap().to_string();
+    let base = ["embed", pts.as_str(), "--json"];
+    let with = |extra: &[&str]| json_of(&[&base[..], extra].concat());
+
+    // Components: the number of coordinates and eigenvalues.
+    let f = with(&["--components", "2"]);
+    let g = with(&["--config", &cfg(r#"{"diffusion": {"components": 2}}"#)]);
+    for j in [&f, &g] {
+        assert_eq!(j["components"], 2);
+        assert_eq!(j["eigenvalues"].as_array().unwrap().len(), 2);
+    }
+    assert_eq!(f["eigenvalues"], g["eigenvalues"]);
+
+    // Alpha: reaches the normalisation (other eigenvalues than α = 1), the same by both routes.
+    let a1 = with(&["--components", "3"]);
+    let f = with(&["--components", "3", "--alpha", "0.5"]);
+    let g = with(&[
+        "--components",
+        "3",
+        "--config",
+        &cfg(r#"{"diffusion": {"alpha": 0.5}}"#),
+    ]);
+    for j in [&f, &g] {
+        assert_eq!(j["alpha"], 0.5);
+    }
+    assert_eq!(f["eigenvalues"], g["eigenvalues"]);
+    assert_ne!(f["eigenvalues"], a1["eigenvalues"]);
+
+    // t: the coordinates are ψ_j·λ_j^t (Coifman & Lafon 2006), so those at t = 3 are those at
+    // t = 1 times λ_j², whichever route gave t.
+    let o1 = out("t1.csv");
+    let o3f = out("t3f.csv");
+    let o3g = out("t3g.csv");
+    let one = with(&["--components", "3", "--out", &o1]);
+    let f = with(&["--components", "3", "--t", "3", "--out", &o3f]);
+    let g = with(&[
+        "--components",
+        "3",
+        "--config",
+        &cfg(r#"{"diffusion": {"t": 3}}"#),
+        "--out",
+        &o3g,
+    ]);
+    assert_eq!(f["t"], 3.0);
+    assert_eq!(g["t"], 3.0);
+    let lam: Vec<f64> = one["eigenvalues"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect();
+    let (c1, c3f, c3g) = (
+        coords(std::path::Path::new(&o1)),
+        coords(std::path::Path::new(&o3f)),
+        coords(std::path::Path::new(&o3g)),
+    );
+    assert_eq!(c3f, c3g);
+    for (r1, r3) in c1.iter().zip(&c3f) {
+        for j in 0..3 {
+            let want = r1[j] * lam[j] * lam[j];
+            // The CSV keeps 9 significant digits.
+            assert!(
+                (r3[j] - want).abs() <= 1e-8 * want.abs().max(1e-3),
+                "{r3:?} {r1:?}"
+            );
+        }
+    }
+
+    // Seed: picks the landmarks in landmark mode; same seed by both routes, same fit.
+    let f = with(&["--components", "3", "--landmarks", "300", "--seed", "5"]);
+    let g = with(&[
+        "--components",
+        "3",
+        "--config",
+        &cfg(r#"{"diffusion": {"max_fit_points": 300, "seed": 5}}"#),
+    ]);
+    let h = with(&["--components", "3", "--landmarks", "300", "--seed", "6"]);
+    assert_eq!(f["fit_points"], 300);
+    assert_eq!(f["eigenvalues"], g["eigenvalues"]);
+    assert_ne!(f["eigenvalues"], h["eigenvalues"]);
+}

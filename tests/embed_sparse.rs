@@ -245,3 +245,30 @@ fn small_graphs_are_solved_densely_with_the_same_spectrum() {
         assert!(emb.residual < 1e-8, "n {n}: residual {}", emb.residual);
     }
 }
+
+#[test]
+fn same_embedding_for_one_and_two_threads() {
+    // Every random step is seeded and every parallel sum runs over fixed chunks in order, so
+    // the fit has the same bits in a pool of 1 and of 2 threads (common practice for a
+    // reproducible analysis). Default settings: sparse kernel, variable bandwidth.
+    let (_, pts) = swiss_roll(3000, 8);
+    let p = DiffusionParams {
+        components: 4,
+        ..DiffusionParams::default()
+    };
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| diffusion_map(&pts, &p).unwrap())
+    };
+    let (a, b) = (run(1), run(2));
+    assert_eq!(a.eigenvalues, b.eigenvalues);
+    assert_eq!(a.epsilon, b.epsilon);
+    assert!(a
+        .coords
+        .iter()
+        .zip(&b.coords)
+        .all(|(x, y)| x.to_bits() == y.to_bits()));
+}

@@ -99,6 +99,8 @@ pub struct KdTree<'a> {
     /// Point indices, permuted so that every node covers a contiguous range.
     perm: Vec<usize>,
     nodes: Vec<Node>,
+    /// The points in `perm` order, so a leaf's rows are contiguous in memory.
+    sorted: Vec<f64>,
 }
 
 #[derive(Debug, Clone)]
@@ -122,10 +124,16 @@ impl<'a> KdTree<'a> {
             points,
             perm: (0..points.n).collect(),
             nodes: Vec::new(),
+            sorted: Vec::new(),
         };
         if points.n > 0 {
             tree.build(0, points.n);
         }
+        let mut sorted = Vec::with_capacity(points.n * points.dim);
+        for &i in &tree.perm {
+            sorted.extend_from_slice(points.row(i));
+        }
+        tree.sorted = sorted;
         tree
     }
 
@@ -168,11 +176,32 @@ impl<'a> KdTree<'a> {
         id
     }
 
-    fn search(&self, node: usize, q: &[f64], top: &mut TopK) {
+    /// Depth-first search with the incremental distance of Arya & Mount (1993): `off[d]` is
+    /// the query's offset from the current cell along axis d (0 inside), `rd` = Σ off², a lower
+    /// bound on the squared distance to any point of the cell. A cell is skipped when that
+    /// bound exceeds the current k-th distance (by more than a relative 1e-12, so rounding in
+    /// the running sum never drops a point the plain search would keep).
+    fn search(&self, node: usize, q: &[f64], rd: f64, off: &mut [f64], top: &mut TopK) {
         match self.nodes[node] {
             Node::Leaf { start, end } => {
-                for &i in &self.perm[start..end] {
-                    top.push(Points::dist2(q, self.points.row(i)), i);
+                let dim = self.points.dim;
+                for t in start..end {
+                    let row = &self.sorted[t * dim..(t + 1) * dim];
+                    let worst = top.worst();
+                    // Partial sums of non-negative terms only grow, so stopping once one
+                    // exceeds the k-th distance rejects only points `push` would reject.
+                    let mut d2 = 0.0;
+                    let mut rejected = false;
+                    for (c, (x, y)) in q.chunks(4).zip(row.chunks(4)).enumerate() {
+                        d2 += x.iter().zip(y).map(|(a, b)| (a - b) * (a - b)).sum::<f64>();
+                        if d2 > worst * (1.0 + 1e-12) && (c + 1) * 4 < dim {
+                            rejected = true;
+                            break;
+                        }
+                    }
+                    if !rejected {
+                        top.push(Points::dist2(q, row), self.perm[t]);
+                    }
                 }
             }
             Node::Split {
@@ -187,19 +216,23 @@ impl<'a> KdTree<'a> {
                 } else {
                     (right, left)
                 };
-                self.search(near, q, top);
-                if diff * diff <= top.worst() {
-                    self.search(far, q, top);
+                self.search(near, q, rd, off, top);
+                let old = off[dim];
+                let far_rd = rd - old * old + diff * diff;
+                if far_rd <= top.worst() * (1.0 + 1e-12) && diff * diff <= top.worst() {
+                    off[dim] = diff;
+                    self.search(far, q, far_rd, off, top);
+                    off[dim] = old;
                 }
             }
         }
     }
 
-    /// The `k` nearest tree points of `q`, nearest first.
     pub fn nearest(&self, q: &[f64], k: usize) -> Vec<(f64, usize)> {
         let mut top = TopK::new(k);
         if !self.nodes.is_empty() {
-            self.search(0, q, &mut top);
+            let mut off = vec![0.0; self.points.dim];
+            self.search(0, q, 0.0, &mut off, &mut top);
         }
         top.items
     }
@@ -242,16 +275,33 @@ pub fn knn_kdtree(reference: &Points, queries: &Points, k: usize) -> Result<Neig
     let tree = KdTree::new(reference);
     let mut index = vec![0usize; queries.n * k];
     let mut dist2 = vec![0.0; queries.n * k];
-    index
-        .par_chunks_mut(k)
-        .zip(dist2.par_chunks_mut(k))
-        .enumerate()
-        .for_each(|(i, (ri, rd))| {
-            for (j, (d, idx)) in tree.nearest(queries.row(i), k).into_iter().enumerate() {
-                ri[j] = idx;
-                rd[j] = d;
+    if std::ptr::eq(reference, queries) {
+        // The references themselves, searched in the tree's order: consecutive queries are
+        // close and visit the same cells, which stay in cache. Each query's answer does not
+        // depend on the order.
+        let found: Vec<Vec<(f64, usize)>> = tree
+            .perm
+            .par_iter()
+            .map(|&i| tree.nearest(queries.row(i), k))
+            .collect();
+        for (&i, f) in tree.perm.iter().zip(found) {
+            for (j, (d, idx)) in f.into_iter().enumerate() {
+                index[i * k + j] = idx;
+                dist2[i * k + j] = d;
             }
-        });
+        }
+    } else {
+        index
+            .par_chunks_mut(k)
+            .zip(dist2.par_chunks_mut(k))
+            .enumerate()
+            .for_each(|(i, (ri, rd))| {
+                for (j, (d, idx)) in tree.nearest(queries.row(i), k).into_iter().enumerate() {
+                    ri[j] = idx;
+                    rd[j] = d;
+                }
+            });
+    }
     Ok(Neighbors {
         n: queries.n,
         k,
@@ -395,5 +445,32 @@ mod tests {
         // Self at distance 0 first.
         let nb = knn(&r, &r, 3).unwrap();
         assert!((0..50).all(|i| nb.index_of(i)[0] == i && nb.dist2_of(i)[0] == 0.0));
+    }
+
+    #[test]
+    fn self_search_in_tree_order_equals_naive_search_for_any_pool() {
+        // The references as their own queries take the tree-order path; exactness against the
+        // definition (common practice: exhaustive search), with duplicated points for ties.
+        for dim in [3, 12, 20] {
+            let mut r = cloud(1500, dim, 7 + dim as u64);
+            let first: Vec<f64> = r.row(0).to_vec();
+            r.data[dim..2 * dim].copy_from_slice(&first);
+            let want = naive(&r, &r, 11);
+            let run = |threads: usize| {
+                rayon::ThreadPoolBuilder::new()
+                    .num_threads(threads)
+                    .build()
+                    .unwrap()
+                    .install(|| knn_kdtree(&r, &r, 11).unwrap())
+            };
+            let (a, b) = (run(1), run(2));
+            assert_eq!(a, b, "dim {dim}: 1 and 2 threads differ");
+            for (i, w) in want.iter().enumerate() {
+                assert_eq!(a.index_of(i), &w[..], "dim {dim} query {i}");
+                for (&j, &d) in a.index_of(i).iter().zip(a.dist2_of(i)) {
+                    assert_eq!(d, Points::dist2(r.row(i), r.row(j)));
+                }
+            }
+        }
     }
 }
