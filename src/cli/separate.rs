@@ -63,6 +63,7 @@ fn separate_params(a: &SeparateArgs) -> Result<SeparateParams> {
             Some("join") => TableMode::Join,
             Some(o) => bail!("--features-mode: `{o}`; allowed replace or join"),
         },
+        ..d
     };
     p.check()?;
     Ok(p)

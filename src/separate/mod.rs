@@ -19,6 +19,7 @@
 pub mod beats;
 pub mod classes;
 pub mod figure;
+pub mod neighbours;
 pub mod protocol;
 pub mod vote;
 
