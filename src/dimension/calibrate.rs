@@ -18,12 +18,17 @@
 //! g(1) to r / g(1); above g(D) to D, marked `at_cap`. The ladder stops early once every raw
 //! value and interval end lies below g(δ). Reference estimates are cached in memory for the life
 //! of the process (keyed by m, δ and the estimator settings), so a second call costs nothing.
+//! When the environment variable `BEATFOLD_CACHE_DIR` names a directory, they are also kept on
+//! disk there, one JSON file per (m, settings) whose name carries the reference seed, the cache
+//! format version, m and a hash of the settings (`dimension-ref-<seed>-v<version>-m<m>-<hash>.json`,
+//! written via a temporary file and a rename), so later processes skip the reference cubes. The
+//! values are deterministic, so a cached value equals a recomputed one; [`CACHE_VERSION`] changes
+//! whenever an estimator's code does.
 //!
 //! The reference is a cube because the benchmark sets and real point clouds are bounded; a ball
 //! (the DANCo choice) has less boundary and would correct less.
 
-use super::knn::knn_table;
-use super::suite::{raw_estimate, table_size, Method, MethodEstimate, SuiteParams};
+use super::suite::{raw_estimate, Method, MethodEstimate, SuiteParams, Tables};
 use crate::error::Result;
 use crate::points::Points;
 use rand::{Rng, SeedableRng};
@@ -43,6 +48,11 @@ pub struct Correction {
 }
 
 type CacheKey = (Method, usize, usize, String);
+
+/// Version of the on-disk reference values; bumped whenever an estimator's raw value changes.
+pub const CACHE_VERSION: u32 = 2;
+/// Base of the reference cubes' seeds (each cube's seed also mixes in m and δ).
+const REFERENCE_SEED: u64 = 0x00C0_FFEE;
 
 fn cache() -> &'static Mutex<HashMap<CacheKey, Option<f64>>> {
     static CACHE: OnceLock<Mutex<HashMap<CacheKey, Option<f64>>>> = OnceLock::new();
@@ -83,11 +93,75 @@ pub(crate) fn ladder(ambient: usize) -> Vec<usize> {
 
 /// m points uniform in [0, 1]^δ, seeded by m and δ.
 fn reference_cube(m: usize, delta: usize) -> Points {
-    let seed = 0x00C0_FFEE_u64 ^ ((m as u64) << 20) ^ (delta as u64);
+    let seed = REFERENCE_SEED ^ ((m as u64) << 20) ^ (delta as u64);
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     let data = (0..m * delta).map(|_| rng.gen::<f64>()).collect();
     // Shape is consistent by construction.
     Points::new(m, delta, data).expect("reference cube shape")
+}
+
+/// The on-disk cache file for m points and settings `key`, when `BEATFOLD_CACHE_DIR` is set.
+fn disk_file(m: usize, key: &str) -> Option<std::path::PathBuf> {
+    use sha2::{Digest, Sha256};
+    let dir = std::env::var_os("BEATFOLD_CACHE_DIR").filter(|d| !d.is_empty())?;
+    let hash = Sha256::digest(key.as_bytes());
+    let hex: String = hash[..8].iter().map(|b| format!("{b:02x}")).collect();
+    Some(std::path::PathBuf::from(dir).join(format!(
+        "dimension-ref-{REFERENCE_SEED:x}-v{CACHE_VERSION}-m{m}-{hex}.json"
+    )))
+}
+
+/// Load the disk cache for (m, key) into the memory cache (once per process and file).
+fn load_disk(m: usize, key: &str) {
+    static LOADED: OnceLock<Mutex<std::collections::HashSet<(usize, String)>>> = OnceLock::new();
+    let loaded = LOADED.get_or_init(|| Mutex::new(Default::default()));
+    if !loaded
+        .lock()
+        .unwrap_or_else(|e| e.into_inner())
+        .insert((m, key.to_string()))
+    {
+        return;
+    }
+    let Some(path) = disk_file(m, key) else {
+        return;
+    };
+    let Ok(text) = std::fs::read_to_string(&path) else {
+        return;
+    };
+    // A damaged or foreign file is ignored (the values are recomputed and the file rewritten).
+    let Ok(entries) = serde_json::from_str::<Vec<(Method, usize, Option<f64>)>>(&text) else {
+        return;
+    };
+    let mut c = cache().lock().unwrap_or_else(|e| e.into_inner());
+    for (x, delta, v) in entries {
+        c.entry((x, m, delta, key.to_string())).or_insert(v);
+    }
+}
+
+/// Write every cached value for (m, key) to the disk cache (temporary file, then rename);
+/// failures are ignored: the cache only saves time.
+fn save_disk(m: usize, key: &str) {
+    let Some(path) = disk_file(m, key) else {
+        return;
+    };
+    let mut entries: Vec<(Method, usize, Option<f64>)> = {
+        let c = cache().lock().unwrap_or_else(|e| e.into_inner());
+        c.iter()
+            .filter(|((_, mm, _, k), _)| *mm == m && k == key)
+            .map(|((x, _, delta, _), v)| (*x, *delta, *v))
+            .collect()
+    };
+    entries.sort_by(|a, b| a.1.cmp(&b.1).then(a.0.name().cmp(b.0.name())));
+    let Ok(text) = serde_json::to_string(&entries) else {
+        return;
+    };
+    if let Some(dir) = path.parent() {
+        let _ = std::fs::create_dir_all(dir);
+    }
+    let tmp = path.with_extension(format!("tmp{}", std::process::id()));
+    if std::fs::write(&tmp, text).is_ok() && std::fs::rename(&tmp, &path).is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
 }
 
 /// Raw estimates of `methods` on the reference cube of dimension δ with m points (cached).
@@ -98,6 +172,7 @@ fn reference_values(
     p: &SuiteParams,
 ) -> Result<Vec<Option<f64>>> {
     let key = settings_key(p);
+    load_disk(m, &key);
     let missing: Vec<Method> = {
         let c = cache().lock().unwrap_or_else(|e| e.into_inner());
         methods
@@ -108,24 +183,21 @@ fn reference_values(
     };
     if !missing.is_empty() {
         let pts = reference_cube(m, delta);
-        let needs_table = missing.iter().any(|&x| x != Method::Correlation);
-        let tk = table_size(&missing, p, m);
-        let table = if needs_table {
-            Some(knn_table(&pts, tk)?)
-        } else {
-            None
-        };
+        let table = Tables::build(&missing, p, &pts)?;
         let mut found = Vec::new();
         for &x in &missing {
-            let v = raw_estimate(x, &pts, table.as_ref(), tk, p)
+            let v = raw_estimate(x, &pts, table.as_ref(), p)
                 .ok()
                 .filter(|v| v.is_finite());
             found.push((x, v));
         }
-        let mut c = cache().lock().unwrap_or_else(|e| e.into_inner());
-        for (x, v) in found {
-            c.insert((x, m, delta, key.clone()), v);
+        {
+            let mut c = cache().lock().unwrap_or_else(|e| e.into_inner());
+            for (x, v) in found {
+                c.insert((x, m, delta, key.clone()), v);
+            }
         }
+        save_disk(m, &key);
     }
     let c = cache().lock().unwrap_or_else(|e| e.into_inner());
     Ok(methods

@@ -14,23 +14,30 @@
 //!    m(s), and the curves agree there when every value lies within ±[`AGREE`] of m(s).
 //! 2. The plateau is the longest run of neighbouring agreeing grid scales whose m(s) all lie
 //!    within ±[`FLAT`] of the run's median (ties: the coarser run). Its median is `plateau_d`.
-//! 3. The members are the corrected estimates within ±[`AGREE`] of `plateau_d` (all corrected
-//!    estimates when there is no plateau). d is the median of the members' corrected estimates;
-//!    the interval runs from the smaller of (median of their lower ends, smallest member) to the
-//!    larger of (median of their upper ends, largest member), so it covers both the resampling
-//!    spread and the spread between estimators.
+//! 3. The members are the largest group of corrected estimates that all lie within ±[`AGREE`]
+//!    of the group's median (among groups of equal size, the one with the smallest relative
+//!    range); d is that median. So d is the value most estimators agree on, and one estimator
+//!    with a known bias on a given shape (the correlation dimension on paraboloids, the integer
+//!    local-PCA count on a helix) cannot pull it. The interval runs from the smaller of (median
+//!    of their lower ends, smallest member) to the larger of (median of their upper ends,
+//!    largest member), so it covers both the resampling spread and the spread between
+//!    estimators.
 //! 4. The noise scale is the coarsest grid scale below the plateau where m(s) (or the only curve
 //!    there) exceeds [`NOISE_FACTOR`]·d; if none, the noise scale given by the caller when it
 //!    lies below the plateau.
-//! 5. `resolved` only when: a plateau of at least [`MIN_PLATEAU`] grid scales exists; at least
-//!    two calibrated estimates ran and every one is a member; none ran out of reference
-//!    dimensions; with resampling, the interval's half width is at most [`AGREE`]·d; and the
-//!    answer does not hinge on the finite-sample correction: the median raw estimate of the
-//!    members is within ±[`AGREE`] of d (a larger correction depends on how well the reference
-//!    cubes stand for the data, which the data cannot tell).
+//! 5. `resolved` only when: a plateau of at least [`MIN_PLATEAU`] grid scales exists and its
+//!    median is within ±[`AGREE`] of d; at least two calibrated estimates ran and every one is a
+//!    member; none ran out of reference dimensions; with resampling, the interval's half width
+//!    is at most [`AGREE`]·d; the answer does not hinge on the finite-sample correction: the
+//!    median raw estimate of the members is within ±[`AGREE`] of d (a larger correction depends
+//!    on how well the reference cubes stand for the data, which the data cannot tell); and no
+//!    noise band: the local-PCA (Fukunaga–Olsen) count at its smallest neighbourhood does not
+//!    reach the ambient dimension D − ½ (then every coordinate carries variance at the finest
+//!    scale the sample shows: noise of that size and a set that truly fills the space look the
+//!    same, and whether a lower d holds at coarser scales cannot be told from these data).
 //!    Otherwise `unresolved` with the first failed condition as the reason.
 
-use super::suite::MethodEstimate;
+use super::suite::{Method, MethodEstimate};
 use super::ScalePoint;
 use serde::{Deserialize, Serialize};
 
@@ -162,6 +169,64 @@ fn median(mut v: Vec<f64>) -> f64 {
     crate::stats::median_of_finite(&mut v)
 }
 
+/// The largest group of corrected estimates within ±[`AGREE`] of its median (ties: smallest
+/// relative range, then the earlier estimators), and that median.
+fn agreeing_group<'a>(cal: &[&'a MethodEstimate]) -> (f64, Vec<&'a MethodEstimate>) {
+    let n = cal.len().min(16);
+    let mut best: Option<(usize, f64, f64, u32)> = None;
+    for mask in 1u32..(1u32 << n) {
+        let vals: Vec<f64> = (0..n)
+            .filter(|i| mask & (1 << i) != 0)
+            .map(|i| cal[i].corrected_d)
+            .collect();
+        let med = median(vals.clone());
+        if !(med > 0.0) || vals.iter().any(|v| (v / med - 1.0).abs() > AGREE) {
+            continue;
+        }
+        let (lo, hi) = vals
+            .iter()
+            .fold((f64::INFINITY, 0.0f64), |(a, b), &v| (a.min(v), b.max(v)));
+        let spread = (hi - lo) / med;
+        let size = vals.len();
+        if best.is_none_or(|(bs, bsp, _, _)| size > bs || (size == bs && spread < bsp)) {
+            best = Some((size, spread, med, mask));
+        }
+    }
+    match best {
+        Some((_, _, med, mask)) => (
+            med,
+            (0..n)
+                .filter(|i| mask & (1 << i) != 0)
+                .map(|i| cal[i])
+                .collect(),
+        ),
+        None => (
+            median(cal.iter().map(|e| e.corrected_d).collect()),
+            cal.to_vec(),
+        ),
+    }
+}
+
+/// The local-PCA count at the finest scale when it reaches D − ½ (see rule 5).
+fn noise_band(estimates: &[MethodEstimate], ambient: usize) -> Option<f64> {
+    let full = ambient as f64 - 0.5;
+    if ambient < 2 {
+        return None;
+    }
+    // The finest neighbourhood only: at coarse ones curvature alone can fill the coordinates.
+    estimates
+        .iter()
+        .filter(|e| e.method == Method::LocalPca)
+        .filter_map(|e| {
+            e.curve
+                .iter()
+                .filter(|p| p.scale.is_finite() && p.d.is_finite())
+                .min_by(|a, b| a.scale.total_cmp(&b.scale))
+                .map(|p| p.d)
+        })
+        .find(|&v| v >= full)
+}
+
 /// The consensus of `curves` and `estimates` (see the module notes); None when no calibrated
 /// estimate ran.
 pub fn consensus(
@@ -221,23 +286,9 @@ pub fn consensus(
     }
     let plateau_d = best.map(|(i, j)| median(axis[i..j].iter().map(|p| p.d).collect()));
     let scale_range = best.map(|(i, j)| [axis[i].scale, axis[j - 1].scale]);
-    // 3. Members and d.
-    let members: Vec<&MethodEstimate> = match plateau_d {
-        Some(pd) => cal
-            .iter()
-            .copied()
-            .filter(|e| (e.corrected_d / pd - 1.0).abs() <= AGREE)
-            .collect(),
-        None => cal.clone(),
-    };
-    let (d, used) = if members.is_empty() {
-        (plateau_d.unwrap_or(f64::NAN), cal.clone())
-    } else {
-        (
-            median(members.iter().map(|e| e.corrected_d).collect()),
-            members.clone(),
-        )
-    };
+    // 3. Members and d: the largest agreeing group.
+    let (d, members) = agreeing_group(&cal);
+    let used = members.clone();
     let d_min = used
         .iter()
         .map(|e| e.corrected_d)
@@ -284,9 +335,18 @@ pub fn consensus(
         Some("only one calibrated estimator ran".to_string())
     } else if members.len() < cal.len() {
         Some(format!(
-            "the corrected estimates disagree ({}) about the plateau's {:.2}",
-            names(&cal),
+            "the corrected estimates disagree ({}); most agree on {d:.2}",
+            names(&cal)
+        ))
+    } else if plateau_d.is_some_and(|pd| (pd / d - 1.0).abs() > AGREE) {
+        Some(format!(
+            "the curves' plateau at {:.2} differs from the estimates' {d:.2}",
             plateau_d.unwrap_or(f64::NAN)
+        ))
+    } else if let Some(full) = noise_band(estimates, ambient) {
+        Some(format!(
+            "local PCA counts {full:.1} of {ambient} coordinates at its finest scale: noise \
+             or a space-filling set, the data cannot tell which"
         ))
     } else if cal.iter().any(|e| e.correction.at_cap) {
         Some(format!(
@@ -335,7 +395,6 @@ pub fn consensus(
 mod tests {
     use super::*;
     use crate::dimension::calibrate::Correction;
-    use crate::dimension::Method;
 
     fn est(method: Method, d: f64, curve: Vec<(f64, f64)>) -> MethodEstimate {
         MethodEstimate {
@@ -392,5 +451,16 @@ mod tests {
         let k2 = consensus(&curves2, &ests2, 5, None).unwrap();
         assert_eq!(k2.status, Status::Unresolved);
         assert!(!k2.reason.is_empty());
+        assert!((k2.d - 2.0).abs() < 1e-9, "{}", k2.d);
+        // Invented: a local-PCA curve that counts all 3 coordinates at its finest scale while the
+        // others read 2 (a noise band): the answer stays 2 but is not resolved.
+        let mut ests3 = ests.clone();
+        ests3.push(est(Method::LocalPca, 2.0, vec![(0.01, 3.0), (10.0, 2.0)]));
+        let curves3: Vec<ScaleCurve> = ests3.iter().map(ScaleCurve::of_estimate).collect();
+        let k3 = consensus(&curves3, &ests3, 3, None).unwrap();
+        assert_eq!(k3.status, Status::Unresolved, "{}", k3.reason);
+        assert_eq!(noise_band(&ests3, 3), Some(3.0));
+        assert_eq!(noise_band(&ests3, 4), None);
+        assert!((k3.d - 2.0).abs() < 1e-9);
     }
 }

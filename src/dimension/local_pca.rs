@@ -106,9 +106,12 @@ pub fn local_pca_counts(
             format!("{ks:?} neighbours; each must be 1 to {table_k}"),
         ));
     }
-    if centres.iter().any(|&c| c >= points.n)
-        || table_idx.len() != points.n * table_k
-        || table_dist.len() != points.n * table_k
+    // The table may cover only the first rows (at least every centre).
+    let rows = table_idx.len() / table_k.max(1);
+    if centres.iter().any(|&c| c >= points.n || c >= rows)
+        || rows > points.n
+        || table_idx.len() != rows * table_k
+        || table_dist.len() != rows * table_k
     {
         return Err(Error::Analysis(
             "local PCA: neighbour table does not match the points".to_string(),

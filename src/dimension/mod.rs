@@ -64,7 +64,7 @@ mod suite;
 pub use calibrate::Correction;
 pub use consensus::{Consensus, ScaleCurve, Status};
 pub use correlation::{correlation_counts, CorrelationCounts};
-pub use knn::knn_table;
+pub use knn::{knn_table, knn_table_rows};
 pub use local_pca::{local_pca_counts, PcaRule};
 pub use suite::{
     dimension_suite, subset_indices, DimensionSuite, Method, MethodEstimate, SuiteParams,

@@ -19,6 +19,12 @@
 //!   `local_pca_ratio` of the largest, in neighbourhoods of `local_pca_ks` neighbours around
 //!   `local_pca_centres` centres, against the mean neighbourhood radius; the estimate is the
 //!   median of the curve; interval by resampling centres.
+//! - `kernel_sum`: the kernel-sum dimension curve d(ε) = 2 · d ln S / d ln ε of Berry, Giannakis
+//!   & Harlim (2015) on the truncated `mle_k2`-neighbour graph of the subset
+//!   ([`crate::embed::kernel_sum_dimension`]), drawn against the scale √ε; the estimate is twice
+//!   the steepest slope. No interval, no correction, and not part of the consensus: the
+//!   truncated sum saturates at N(k + 1), which bends the curve low before it is straight (a
+//!   known low bias that grows with d), so it is shown for comparison on the shared axis.
 //! - `pca_variance_share` (not run by default): the same neighbourhoods, counting components up
 //!   to `local_pca_variance` of the variance (a cumulative-variance rule).
 //!
@@ -41,7 +47,7 @@ use super::bootstrap::percentile_ci95;
 use super::calibrate::{correct_estimates, Correction};
 use super::consensus::{consensus, Consensus, ScaleCurve};
 use super::correlation::correlation_counts;
-use super::knn::{knn_distances, knn_table};
+use super::knn::{knn_table, knn_table_rows};
 use super::local_pca::{local_pca_counts, PcaRule};
 use super::nn_estimators::{mle_inverse, twonn_fit};
 use super::scaling::{curve_from_distortion, kmeans_scaling_errors};
@@ -69,26 +75,30 @@ pub enum Method {
     LocalPca,
     /// Local PCA counting components up to a share of the variance.
     PcaVarianceShare,
+    /// Kernel-sum dimension curve (Berry, Giannakis & Harlim 2015).
+    KernelSum,
 }
 
 impl Method {
     /// All methods, in report order.
-    pub const ALL: [Method; 6] = [
+    pub const ALL: [Method; 7] = [
         Method::Kmeans,
         Method::Twonn,
         Method::Mle,
         Method::Correlation,
         Method::LocalPca,
         Method::PcaVarianceShare,
+        Method::KernelSum,
     ];
 
     /// The methods run by default.
-    pub const DEFAULT: [Method; 5] = [
+    pub const DEFAULT: [Method; 6] = [
         Method::Kmeans,
         Method::Twonn,
         Method::Mle,
         Method::Correlation,
         Method::LocalPca,
+        Method::KernelSum,
     ];
 
     /// Whether the finite-sample correction calibrates this estimator.
@@ -108,6 +118,7 @@ impl Method {
             Method::Correlation => "correlation",
             Method::LocalPca => "local_pca",
             Method::PcaVarianceShare => "pca_variance_share",
+            Method::KernelSum => "kernel_sum",
         }
     }
 
@@ -126,7 +137,7 @@ impl Method {
                         "method",
                         format!(
                             "`{part}` is not an estimator; available: kmeans, twonn, mle, \
-                             correlation, local_pca, pca_variance_share"
+                             correlation, local_pca, pca_variance_share, kernel_sum"
                         ),
                     )
                 })?;
@@ -142,7 +153,7 @@ impl Method {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
 pub struct SuiteParams {
-    /// Estimators to run (default all five).
+    /// Estimators to run (default all but `pca_variance_share`).
     pub methods: Vec<Method>,
     /// Bootstrap resamples per estimate (default 30; 0 = no interval; at most 10 000).
     pub bootstrap: usize,
@@ -393,18 +404,7 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
     let order = subset_indices(points.n, p.max_points, p.seed);
     let sub = points.select(&order);
     let m = sub.n;
-    let needs_table = p.methods.iter().any(|x| {
-        matches!(
-            x,
-            Method::Twonn | Method::Mle | Method::LocalPca | Method::PcaVarianceShare
-        )
-    });
-    let table_k = table_size(&p.methods, p, m);
-    let table = if needs_table {
-        Some(knn_table(&sub, table_k)?)
-    } else {
-        None
-    };
+    let table = Tables::build(&p.methods, p, &sub)?;
 
     for &method in &p.methods {
         let mut rng = rng_for(p.seed, method);
@@ -414,10 +414,11 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
                 suite.kmeans = Some(c);
                 e
             }),
-            (m, Some((idx, dist))) if m != Method::Correlation => {
-                run_neighbour_method(m, &sub, idx, dist, table_k, p, true, &mut rng)
+            (m, Some(t)) if m != Method::Correlation && m != Method::KernelSum => {
+                run_neighbour_method(m, &sub, t, p, true, &mut rng)
             }
             (Method::Correlation, _) => run_correlation(&sub, p, &mut rng),
+            (Method::KernelSum, _) => run_kernel_sum(&sub, p),
             _ => Err(Error::Analysis("neighbour table missing".to_string())),
         };
         match res {
@@ -426,10 +427,10 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
             Err(e) => return Err(e),
         }
     }
-    if let (Some((_, dist)), true) = (&table, p.methods.contains(&Method::Mle)) {
-        let k = p.mle_k2.min(table_k);
+    if let (Some(t), true) = (&table, p.methods.contains(&Method::Mle)) {
+        let k = p.mle_k2.min(t.k);
         let mut pw = vec![f64::NAN; points.n];
-        for (row, &i) in dist.chunks_exact(table_k).zip(&order) {
+        for (row, &i) in t.dist.chunks_exact(t.k).zip(&order) {
             if row[0] > 0.0 && k >= 2 {
                 let inv = mle_inverse(row, k);
                 if inv > 0.0 {
@@ -449,10 +450,73 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
     let curves: Vec<ScaleCurve> = suite
         .estimates
         .iter()
+        .filter(|e| e.method != Method::KernelSum)
         .map(ScaleCurve::of_estimate)
         .collect();
     suite.consensus = consensus(&curves, &suite.estimates, points.dim, suite.noise_scale);
     Ok(suite)
+}
+
+/// Neighbour tables of the subset: `k` neighbours of every point (TwoNN, MLE, pointwise
+/// dimension) and `wide_k` neighbours of the first `wide_rows` points (a random subset, since
+/// the subset is shuffled), for the local-PCA centres and the MLE curve at large k. Searching the
+/// wide neighbourhoods for a few thousand points instead of all of them is what keeps the
+/// neighbour search cheap on large sets.
+pub(crate) struct Tables {
+    /// Neighbour distances of every point, row-major `n × k`.
+    pub dist: Vec<f64>,
+    /// Neighbours per row of `idx`.
+    pub k: usize,
+    /// Wide table of the first rows: indices, row-major `wide_rows × wide_k`.
+    pub wide_idx: Vec<usize>,
+    /// Their distances.
+    pub wide_dist: Vec<f64>,
+    /// Neighbours per row of the wide table.
+    pub wide_k: usize,
+}
+
+/// Rows of the wide table besides the local-PCA centres (the MLE curve's points).
+pub const CURVE_ROWS: usize = 2000;
+
+impl Tables {
+    /// The tables `methods` need on `sub` (None when no method needs one).
+    pub(crate) fn build(
+        methods: &[Method],
+        p: &SuiteParams,
+        sub: &Points,
+    ) -> Result<Option<Tables>> {
+        let needs = methods.iter().any(|x| {
+            matches!(
+                x,
+                Method::Twonn | Method::Mle | Method::LocalPca | Method::PcaVarianceShare
+            )
+        });
+        if !needs {
+            return Ok(None);
+        }
+        let m = sub.n;
+        let k = if methods.contains(&Method::Mle) {
+            p.mle_k2.max(2)
+        } else {
+            2
+        }
+        .min(m - 1);
+        let wide_k = table_size(methods, p, m);
+        let (idx, dist) = knn_table(sub, k)?;
+        let (wide_idx, wide_dist) = if wide_k > k {
+            let rows = p.local_pca_centres.max(CURVE_ROWS).min(m);
+            knn_table_rows(sub, rows, wide_k)?
+        } else {
+            (idx, dist.clone())
+        };
+        Ok(Some(Tables {
+            dist,
+            k,
+            wide_idx,
+            wide_dist,
+            wide_k: wide_k.max(k),
+        }))
+    }
 }
 
 /// The raw estimate of one neighbour-table method (no interval, no curve), for the reference
@@ -460,8 +524,7 @@ pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuit
 pub(crate) fn raw_estimate(
     method: Method,
     sub: &Points,
-    table: Option<&(Vec<usize>, Vec<f64>)>,
-    table_k: usize,
+    table: Option<&Tables>,
     p: &SuiteParams,
 ) -> Result<f64> {
     let mut rng = rng_for(p.seed, method);
@@ -471,14 +534,12 @@ pub(crate) fn raw_estimate(
     };
     match (method, table) {
         (Method::Correlation, _) => run_correlation(sub, &q, &mut rng).map(|e| e.d),
-        (m, Some((idx, dist))) => {
-            run_neighbour_method(m, sub, idx, dist, table_k, &q, false, &mut rng).map(|e| e.d)
-        }
+        (m, Some(t)) => run_neighbour_method(m, sub, t, &q, false, &mut rng).map(|e| e.d),
         _ => Err(Error::Analysis("neighbour table missing".to_string())),
     }
 }
 
-/// Neighbour-table size the suite uses for `methods` on `m` points.
+/// Widest neighbour count the suite uses for `methods` on `m` points.
 pub(crate) fn table_size(methods: &[Method], p: &SuiteParams, m: usize) -> usize {
     let mut table_k = 2usize;
     if methods.contains(&Method::Mle) {
@@ -492,38 +553,21 @@ pub(crate) fn table_size(methods: &[Method], p: &SuiteParams, m: usize) -> usize
     table_k.min(m - 1)
 }
 
-#[allow(clippy::too_many_arguments)]
 fn run_neighbour_method(
     method: Method,
     sub: &Points,
-    idx: &[usize],
-    dist: &[f64],
-    table_k: usize,
+    t: &Tables,
     p: &SuiteParams,
     with_curve: bool,
     rng: &mut ChaCha8Rng,
 ) -> Result<MethodEstimate> {
     match method {
-        Method::Twonn => run_twonn(sub, dist, table_k, p, with_curve, rng),
-        Method::Mle => run_mle(dist, table_k, p, rng),
-        Method::LocalPca => run_local_pca(
-            sub,
-            idx,
-            dist,
-            table_k,
-            p,
-            PcaRule::EigenRatio(p.local_pca_ratio),
-            rng,
-        ),
-        Method::PcaVarianceShare => run_local_pca(
-            sub,
-            idx,
-            dist,
-            table_k,
-            p,
-            PcaRule::VarianceShare(p.local_pca_variance),
-            rng,
-        ),
+        Method::Twonn => run_twonn(sub, &t.dist, t.k, p, with_curve, rng),
+        Method::Mle => run_mle(t, p, rng),
+        Method::LocalPca => run_local_pca(sub, t, p, PcaRule::EigenRatio(p.local_pca_ratio), rng),
+        Method::PcaVarianceShare => {
+            run_local_pca(sub, t, p, PcaRule::VarianceShare(p.local_pca_variance), rng)
+        }
         _ => Err(Error::Analysis(format!(
             "{} does not use the neighbour table",
             method.name()
@@ -597,7 +641,7 @@ fn run_twonn(
     while size >= 50 {
         let idx: Vec<usize> = (0..size).collect();
         let half = sub.select(&idx);
-        let dd = knn_distances(&half, 2)?;
+        let dd = knn_table(&half, 2)?.1;
         let (mu_h, scale_h) = ratios(&dd, 2);
         if let Some(dh) = twonn_fit(&mu_h, p.twonn_discard) {
             curve.push(ScalePoint {
@@ -611,12 +655,8 @@ fn run_twonn(
     Ok(estimate(Method::Twonn, d, ci95, curve))
 }
 
-fn run_mle(
-    dist: &[f64],
-    table_k: usize,
-    p: &SuiteParams,
-    rng: &mut ChaCha8Rng,
-) -> Result<MethodEstimate> {
+fn run_mle(t: &Tables, p: &SuiteParams, rng: &mut ChaCha8Rng) -> Result<MethodEstimate> {
+    let (dist, table_k) = (&t.dist, t.k);
     if p.mle_k2 > table_k {
         return Err(Error::Analysis(format!(
             "{} neighbours asked, only {} other points",
@@ -660,10 +700,17 @@ fn run_mle(
     let ci95 = percentile_ci95(rng, rows.len(), p.bootstrap, |draw| {
         estimate(&mut draw.iter().copied())
     });
+    // The curve at large k from the wide table's rows (a random subset of the points).
+    let wide_rows: Vec<&[f64]> = t
+        .wide_dist
+        .chunks_exact(t.wide_k)
+        .filter(|r| r[0] > 0.0)
+        .collect();
+    let rows = wide_rows;
     let curve = p
         .mle_curve_ks
         .iter()
-        .filter(|&&k| k <= table_k)
+        .filter(|&&k| k <= t.wide_k)
         .filter_map(|&k| {
             let mean_inv = rows.iter().map(|r| mle_inverse(r, k)).sum::<f64>() / rows.len() as f64;
             let scale = rows.iter().map(|r| r[k - 1]).sum::<f64>() / rows.len() as f64;
@@ -690,15 +737,38 @@ fn run_correlation(sub: &Points, p: &SuiteParams, rng: &mut ChaCha8Rng) -> Resul
     Ok(estimate(Method::Correlation, d, ci95, curve))
 }
 
+fn run_kernel_sum(sub: &Points, p: &SuiteParams) -> Result<MethodEstimate> {
+    let k = p.mle_k2.min(sub.n - 1);
+    let ks = crate::embed::kernel_sum_dimension(sub, k, p.seed).map_err(|e| match e {
+        Error::Analysis(m) => Error::Analysis(m),
+        other => Error::Analysis(other.to_string()),
+    })?;
+    let curve: Vec<ScalePoint> = ks
+        .curve
+        .iter()
+        .filter(|(eps, d)| *eps > 0.0 && eps.is_finite() && d.is_finite())
+        .map(|&(eps, d)| ScalePoint {
+            scale: eps.sqrt(),
+            d,
+        })
+        .collect();
+    let d = ks.dimension();
+    if !d.is_finite() {
+        return Err(Error::Analysis(
+            "the kernel sum has no finite slope".to_string(),
+        ));
+    }
+    Ok(estimate(Method::KernelSum, d, [f64::NAN, f64::NAN], curve))
+}
+
 fn run_local_pca(
     sub: &Points,
-    idx: &[usize],
-    dist: &[f64],
-    table_k: usize,
+    t: &Tables,
     p: &SuiteParams,
     rule: PcaRule,
     rng: &mut ChaCha8Rng,
 ) -> Result<MethodEstimate> {
+    let (idx, dist, table_k) = (&t.wide_idx, &t.wide_dist, t.wide_k);
     let ks: Vec<usize> = p
         .local_pca_ks
         .iter()
@@ -711,7 +781,7 @@ fn run_local_pca(
             p.local_pca_ks, sub.n
         )));
     }
-    let centres: Vec<usize> = (0..p.local_pca_centres.min(sub.n)).collect();
+    let centres: Vec<usize> = (0..p.local_pca_centres.min(idx.len() / table_k)).collect();
     let (counts, radii) = local_pca_counts(sub, &centres, idx, dist, table_k, &ks, rule)?;
     let nk = ks.len();
     let curve_of = |which: &[usize]| -> Vec<f64> {

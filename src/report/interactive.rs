@@ -196,6 +196,24 @@ pub(crate) fn data(a: &Analysis) -> Option<Value> {
             round(v, 3)
         })
         .collect();
+    let local_d = super::figures::colouring::row_local_dimension(a);
+    let ld: Vec<Value> = rows
+        .iter()
+        .map(|&i| round(local_d.get(i).copied().unwrap_or(f64::NAN), 2))
+        .collect();
+    // Colour range of the local dimension: its 2–98 % range over the shown rows.
+    let mut fin: Vec<f64> = rows
+        .iter()
+        .filter_map(|&i| local_d.get(i).copied())
+        .filter(|v| v.is_finite())
+        .collect();
+    fin.sort_by(f64::total_cmp);
+    let ld_range = if fin.len() >= 2 {
+        let q = |f: f64| fin[((fin.len() - 1) as f64 * f).round() as usize];
+        json!([round(q(0.02), 2), round(q(0.98), 2)])
+    } else {
+        Value::Null
+    };
     let classes: String = rows
         .iter()
         .map(|&i| {
@@ -221,6 +239,8 @@ pub(crate) fn data(a: &Analysis) -> Option<Value> {
         "q_levels": Q_LEVELS,
         "t": times,
         "rr": rr,
+        "ld": ld,
+        "ld_range": ld_range,
         "cls": classes,
         "wave": {
             "pre_s": pre as f64 / fs,
@@ -265,6 +285,7 @@ function lerp(a,b,f){return Math.round(a+(b-a)*f);}
 function timeColour(f){f=Math.max(0,Math.min(1,f));return 'rgb('+lerp(0,240,f)+','+lerp(114,228,f)+','+lerp(178,66,f)+')';}
 function colourOf(i){
   if(colSel.value==='class'){return PAL[D.cls.charAt(i)]||'#5A5A5A';}
+  if(colSel.value==='ld'){var v=D.ld[i];if(v===null||!D.ld_range){return '#5A5A5A';}return timeColour((v-D.ld_range[0])/Math.max(D.ld_range[1]-D.ld_range[0],1e-9));}
   var t=D.t[i];return t===null?'#5A5A5A':timeColour(t/Math.max(D.duration_s,1e-9));
 }
 function projection(){var p=projSel.value.split('-');return [parseInt(p[0],10),parseInt(p[1],10)];}
@@ -415,7 +436,8 @@ highlight its beats. {sub} Each axis spans the 0.5–99.5 % range of its coordin
 beyond it sit on the edge.</p>\n\
 <div id=\"bf-controls\"><label>Projection <select id=\"bf-proj\">{proj}</select></label>\
 <label>Colour <select id=\"bf-colour\"><option value=\"time\">time</option>\
-<option value=\"class\">beat class</option></select></label>\
+<option value=\"class\">beat class</option>\
+<option value=\"ld\">local dimension</option></select></label>\
 <label>From (s) <input id=\"bf-from\" type=\"number\" step=\"any\" min=\"0\"></label>\
 <label>To (s) <input id=\"bf-to\" type=\"number\" step=\"any\" min=\"0\"></label>\
 <span id=\"bf-count\"></span></div>\n\

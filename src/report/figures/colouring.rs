@@ -22,19 +22,24 @@ pub enum ColourBy {
     Class,
     /// Reference rhythm label where the record has one, else the irregular-rhythm screen flag.
     Rhythm,
+    /// Pointwise local dimension of the beat's feature row (Levina & Bickel 2004 at the suite's
+    /// `mle_k2` neighbours; see [`crate::dimension::DimensionSuite::pointwise`]); grey where
+    /// the suite has no value (rows outside its neighbour subset).
+    LocalDimension,
 }
 
 impl ColourBy {
-    /// Parse `time`, `rr`, `class` or `rhythm`.
+    /// Parse `time`, `rr`, `class`, `rhythm` or `local-dimension`.
     pub fn parse(s: &str) -> Result<ColourBy> {
         match s.trim().to_ascii_lowercase().as_str() {
             "time" => Ok(ColourBy::Time),
             "rr" => Ok(ColourBy::Rr),
             "class" => Ok(ColourBy::Class),
             "rhythm" => Ok(ColourBy::Rhythm),
+            "local-dimension" | "local_dimension" => Ok(ColourBy::LocalDimension),
             other => Err(Error::param(
                 "colour-by",
-                format!("`{other}`; choose time, rr, class or rhythm"),
+                format!("`{other}`; choose time, rr, class, rhythm or local-dimension"),
             )),
         }
     }
@@ -59,6 +64,17 @@ pub(crate) fn row_beats(a: &Analysis) -> Option<Vec<usize>> {
 /// Time in seconds of every embedding row, when the links are complete.
 pub(crate) fn row_times(a: &Analysis) -> Option<Vec<f64>> {
     row_beats(a)?.into_iter().map(|b| beat_time(a, b)).collect()
+}
+
+/// Pointwise local dimension of every embedding row (NaN where the suite has none).
+pub(crate) fn row_local_dimension(a: &Analysis) -> Vec<f64> {
+    let pw = a
+        .dimension_suite
+        .as_ref()
+        .map_or(&[][..], |s| s.pointwise.as_slice());
+    (0..a.embedding.n)
+        .map(|i| pw.get(i).copied().unwrap_or(f64::NAN))
+        .collect()
 }
 
 /// Label of the reference rhythm interval holding time `t`, if any (intervals sorted by start).
@@ -101,6 +117,10 @@ pub(crate) fn colouring(a: &Analysis, by: ColourBy) -> Colouring {
         return order();
     };
     match by {
+        ColourBy::LocalDimension => Colouring::Continuous(
+            row_local_dimension(a),
+            "Local dimension (MLE, per beat)".into(),
+        ),
         ColourBy::Time => match row_times(a) {
             Some(t) => Colouring::Continuous(t, "Time (s)".into()),
             None => order(),
@@ -257,5 +277,25 @@ pub(crate) fn draw_colour_key<DB: DrawingBackend>(
             }
             Ok(())
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn local_dimension_is_a_colour_choice() {
+        // common practice: the option names of the CLI flag, parsed case-insensitively.
+        assert_eq!(
+            ColourBy::parse("local-dimension").unwrap(),
+            ColourBy::LocalDimension
+        );
+        assert_eq!(
+            ColourBy::parse("Local_Dimension").unwrap(),
+            ColourBy::LocalDimension
+        );
+        let err = ColourBy::parse("height").unwrap_err().to_string();
+        assert!(err.contains("local-dimension"), "{err}");
     }
 }

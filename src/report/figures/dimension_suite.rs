@@ -22,13 +22,14 @@ const SIZE: (u32, u32) = (1800, 1000);
 const D_TOP: f64 = 50.0;
 const GREY: RGBColor = RGBColor(90, 90, 90);
 /// Okabe & Ito (2008) hues, one per method, in [`Method::ALL`] order.
-const HUES: [RGBColor; 6] = [
+const HUES: [RGBColor; 7] = [
     RGBColor(0, 114, 178),   // blue: k-means
     RGBColor(213, 94, 0),    // vermillion: TwoNN
     RGBColor(0, 158, 115),   // bluish green: MLE
     RGBColor(204, 121, 167), // reddish purple: correlation
     RGBColor(230, 159, 0),   // orange: local PCA
     RGBColor(86, 180, 233),  // sky blue: PCA variance share
+    RGBColor(0, 0, 0),       // black: kernel sum
 ];
 
 fn hue(m: Method) -> RGBColor {
@@ -44,6 +45,7 @@ fn label(m: Method) -> &'static str {
         Method::Correlation => "correlation dimension",
         Method::LocalPca => "local PCA (Fukunaga–Olsen)",
         Method::PcaVarianceShare => "PCA, 95 % variance share",
+        Method::KernelSum => "kernel-sum dimension",
     }
 }
 
@@ -62,6 +64,7 @@ fn marker<DB: DrawingBackend>(
         Method::PcaVarianceShare => {
             Rectangle::new([(x - 7, y - 7), (x + 7, y + 7)], c.stroke_width(3)).into_dyn()
         }
+        Method::KernelSum => TriangleMarker::new((x, y), 9, c.stroke_width(3)).into_dyn(),
     }
 }
 

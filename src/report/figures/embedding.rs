@@ -1,6 +1,8 @@
 //! Figure 3, `embedding`: diffusion coordinates ψ1–ψ2, ψ1–ψ3 and ψ2–ψ3, coloured as chosen.
+//! Coloured by local dimension, a strip below shows that dimension against the beat's time
+//! with its running median over [`TRACE_WINDOW`] beats (the dimension-over-time trace).
 
-use super::colouring::{colouring, draw_colour_key, Colouring};
+use super::colouring::{colouring, draw_colour_key, row_times, ColourBy, Colouring};
 use super::style::{
     axis_range, draw_message, stride_indices, time_colour, with_title, Area, Ctx, DrawResult,
     DESC_PX, FONT, GREY, LABEL_PX, MAX_SCATTER,
@@ -76,8 +78,21 @@ pub(crate) fn draw_embedding<DB: DrawingBackend>(
         area,
         &format!("{title} ({} of {} beats shown)", rows.len(), e.n),
     )?;
-    let (w, _) = body.dim_in_pixel();
+    let (w, h) = body.dim_in_pixel();
     let (panels, key) = body.split_horizontally(w.saturating_sub(320));
+    let trace_rows = match (&colouring, view.colour_by) {
+        (Colouring::Continuous(v, _), ColourBy::LocalDimension) => row_times(a).map(|t| (t, v)),
+        _ => None,
+    };
+    let (panels, strip) = if trace_rows.is_some() {
+        let (top, bottom) = panels.split_vertically(h * 62 / 100);
+        (top, Some(bottom))
+    } else {
+        (panels, None)
+    };
+    if let (Some(strip), Some((t, v))) = (strip, trace_rows) {
+        draw_dimension_trace(&strip, &t, v, &colour_of)?;
+    }
     let cells = panels.split_evenly((1, pairs.len()));
     let coord = |i: usize, c: usize| e.coords.get(i * k + c).copied().unwrap_or(f64::NAN);
     // Robust limits: the 0.5–99.5 % quantiles of each coordinate over all beats, widened by
@@ -156,4 +171,75 @@ pub(crate) fn draw_embedding<DB: DrawingBackend>(
             .ctx()?;
     }
     draw_colour_key(&key, &colouring, crange)
+}
+
+/// Beats in the running median of the dimension-over-time trace.
+pub const TRACE_WINDOW: usize = 25;
+
+/// Local dimension against time (points coloured as in the scatter) with a running median.
+fn draw_dimension_trace<DB: DrawingBackend>(
+    area: &Area<DB>,
+    t: &[f64],
+    v: &[f64],
+    colour_of: &dyn Fn(usize) -> RGBColor,
+) -> DrawResult {
+    let mut rows: Vec<usize> = (0..t.len().min(v.len()))
+        .filter(|&i| t[i].is_finite() && v[i].is_finite())
+        .collect();
+    if rows.len() < 2 {
+        return draw_message(area, "", "no local dimension to draw against time");
+    }
+    rows.sort_by(|&a, &b| t[a].total_cmp(&t[b]));
+    let (t0, t1) = (t[rows[0]], t[rows[rows.len() - 1]]);
+    let (t0, t1) = if t1 > t0 {
+        (t0, t1)
+    } else {
+        (t0 - 1.0, t0 + 1.0)
+    };
+    let (d0, d1) = axis_range(rows.iter().map(|&i| v[i])).unwrap_or((0.0, 1.0));
+    let mut chart = ChartBuilder::on(area)
+        .caption(
+            format!("Local dimension against time (running median over {TRACE_WINDOW} beats)"),
+            (FONT, DESC_PX - 8),
+        )
+        .margin(16)
+        .x_label_area_size(80)
+        .y_label_area_size(160)
+        .build_cartesian_2d(t0..t1, d0..d1)
+        .ctx()?;
+    chart
+        .configure_mesh()
+        .x_desc("Time (s)")
+        .y_desc("Local dimension")
+        .axis_desc_style((FONT, DESC_PX))
+        .label_style((FONT, LABEL_PX - 4))
+        .light_line_style(RGBColor(235, 235, 235))
+        .x_labels(8)
+        .y_labels(4)
+        .y_label_formatter(&|x| format!("{x:.1}"))
+        .draw()
+        .ctx()?;
+    let shown: Vec<usize> = stride_indices(rows.len(), MAX_SCATTER)
+        .map(|j| rows[j])
+        .collect();
+    chart
+        .draw_series(
+            shown
+                .iter()
+                .map(|&i| Circle::new((t[i], v[i]), 3, colour_of(i).mix(0.7).filled())),
+        )
+        .ctx()?;
+    let half = TRACE_WINDOW / 2;
+    let med: Vec<(f64, f64)> = stride_indices(rows.len(), MAX_SCATTER)
+        .map(|j| {
+            let lo = j.saturating_sub(half);
+            let hi = (j + half + 1).min(rows.len());
+            let mut w: Vec<f64> = rows[lo..hi].iter().map(|&i| v[i]).collect();
+            (t[rows[j]], crate::stats::median_of_finite(&mut w))
+        })
+        .collect();
+    chart
+        .draw_series(LineSeries::new(med, BLACK.stroke_width(3)))
+        .ctx()?;
+    Ok(())
 }
