@@ -94,7 +94,7 @@ pub(super) fn dimension_cmd(
     };
     let methods = Method::parse_list(&opts.method)?;
     let (pts, source) = dimension_points(input, opts, &o)?;
-    let mut kp = params_from(input)?.dimension;
+    let mut kp = params_from(input)?.into_inner().dimension;
     kp.seed = opts.seed;
     let p = SuiteParams {
         methods,

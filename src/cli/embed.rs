@@ -27,7 +27,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
     };
     let pts = points_of(input, &o)?;
     // Flag, then config file, then the library default.
-    let mut p = params_from(input)?.diffusion;
+    let mut p = params_from(input)?.into_inner().diffusion;
     p.components = a.components.unwrap_or(p.components);
     p.alpha = a.alpha.unwrap_or(p.alpha);
     p.t = a.t.unwrap_or(p.t);
