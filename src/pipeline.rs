@@ -61,9 +61,19 @@ pub struct Analysis {
     pub sample_entropy: f64,
     /// Irregular-rhythm research screen over the RR series (Dash et al. 2009 statistics).
     pub screen: crate::rhythm::screen::Screen,
+    /// Total duration of the screen's irregular episodes, seconds.
+    pub irregular_s: f64,
     /// Recurrence quantification of the beat trajectory in diffusion coordinates, in sliding
     /// windows (Marwan et al. 2007); window bounds index feature rows.
     pub recurrence: Vec<crate::rhythm::recurrence::RqaWindow>,
+    /// The trajectory the recurrence windows were computed on: the first
+    /// `recurrence_components` diffusion coordinates of each embedded beat (empty when there
+    /// was no recurrence quantification).
+    pub recurrence_trajectory: crate::points::Points,
+    /// The recurrence parameters used (threshold, window, step, line lengths).
+    pub recurrence_params: crate::rhythm::recurrence::RqaParams,
+    /// Median determinism of the recurrence windows (NaN without windows).
+    pub recurrence_det_median: f64,
     /// The record's rhythm verdict (research label, never a diagnosis).
     pub verdict: crate::rhythm::verdict::Verdict,
     /// What the verdict rests on.
@@ -578,7 +588,7 @@ pub fn analyze(
             p.screen.window_beats
         ));
     }
-    let recurrence = if embedding.n >= 8 {
+    let (recurrence, recurrence_trajectory) = if embedding.n >= 8 {
         let c = p.recurrence_components.min(embedding.components);
         let traj: Vec<f64> = embedding
             .coords
@@ -586,15 +596,19 @@ pub fn analyze(
             .flat_map(|r| r[..c].to_vec())
             .collect();
         let pts = crate::points::Points::new(embedding.n, c, traj)?;
-        rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?
+        (rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?, pts)
     } else {
-        Vec::new()
+        (
+            Vec::new(),
+            crate::points::Points {
+                n: 0,
+                dim: 0,
+                data: Vec::new(),
+            },
+        )
     };
-    let irregular_s: f64 = screen
-        .episodes
-        .iter()
-        .map(|e| (e.end_s - e.start_s).max(0.0))
-        .sum();
+    let recurrence_det_median = crate::stats::median(recurrence.iter().map(|w| w.rqa.det));
+    let irregular_s = screen.irregular_s();
     let (verdict, verdict_evidence) =
         crate::verdicts::verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
     let geometry_index = crate::verdicts::geometry_index(&recurrence);
@@ -635,7 +649,11 @@ pub fn analyze(
         poincare_ms: (sd1_ms, sd2_ms),
         sample_entropy,
         screen,
+        irregular_s,
         recurrence,
+        recurrence_trajectory,
+        recurrence_params: p.recurrence.clone(),
+        recurrence_det_median,
         verdict,
         verdict_evidence,
         geometry_index,

@@ -103,11 +103,7 @@ pub fn record_verdict_geometry(
     let quality = crate::signal::quality(raw, rec.fs_hz, p.quality_segment_s);
     let b = pipeline::detect_beats_on(rec, li, p)?;
     let screen = pipeline::screen_rhythm(&b, rec.fs_hz, p)?;
-    let irregular_s: f64 = screen
-        .episodes
-        .iter()
-        .map(|e| (e.end_s - e.start_s).max(0.0))
-        .sum();
+    let irregular_s = screen.irregular_s();
     let (v, e) = verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
     let g = if geometry {
         record_geometry_index(rec, &b, p)?
