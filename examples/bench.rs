@@ -29,7 +29,7 @@ fn main() -> anyhow::Result<()> {
     })?;
     let x = &rec.leads[0].samples;
     println!("samples per lead: {}", x.len());
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let c = time("condition one lead (band-pass, notch, baseline)", || {
         beatfold::signal::condition(x, rec.fs_hz, &p.condition)
     })?;

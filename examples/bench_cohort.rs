@@ -35,7 +35,7 @@ fn dir_size(p: &Path) -> u64 {
 
 fn stages(dir: &Path, n: usize) -> anyhow::Result<()> {
     let specs = cohort::list_records(dir)?;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let mut t_read = 0.0;
     let mut t_stage = vec![0.0f64; pipeline::STAGES.len() + 1];
     let mut count = 0;

@@ -30,7 +30,7 @@ fn main() -> anyhow::Result<()> {
         rayon::current_num_threads()
     );
     let x = &rec.leads[0].samples;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     best_of_3("conditioning (band-pass, notch, baseline)", || {
         beatfold::signal::condition(x, rec.fs_hz, &p.condition)
     })?;

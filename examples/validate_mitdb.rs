@@ -85,10 +85,10 @@ fn main() -> anyhow::Result<()> {
         .position(|a| a == "--config")
         .and_then(|i| args.get(i + 1))
         .map(PathBuf::from);
-    let params = match &config {
+    let params = beatfold::params::Check::check(match &config {
         Some(c) => AnalyzeParams::from_json_file(c)?,
         None => AnalyzeParams::default(),
-    };
+    })?;
     let mut md = String::new();
     let mut n_records = 0usize;
     let mut primary_rows = Vec::new();
@@ -98,10 +98,10 @@ fn main() -> anyhow::Result<()> {
         md,
         "|---|---|---|---|---|---|---|---|---|---|---|---|---|---|"
     );
-    let fused_params = AnalyzeParams {
+    let fused_params = beatfold::params::Check::check(AnalyzeParams {
         fuse_leads: true,
-        ..params.clone()
-    };
+        ..(*params).clone()
+    })?;
     let mut alt = [(0usize, 0usize, 0usize); 2];
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);
     let mut worst: Vec<(String, f64, f64)> = Vec::new();

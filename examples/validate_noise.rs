@@ -63,10 +63,10 @@ fn main() -> anyhow::Result<()> {
     if heads.is_empty() {
         bail!("{}: no noise stress records (NNNeSS.hea)", folder.display());
     }
-    let params = match &config {
+    let params = beatfold::params::Check::check(match &config {
         Some(c) => AnalyzeParams::from_json_file(c)?,
         None => AnalyzeParams::default(),
-    };
+    })?;
     let rules = Ec57Rules::default();
     let readable = ReadableParams::default();
     let schedule = NoiseSchedule::default();

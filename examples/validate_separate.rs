@@ -147,7 +147,7 @@ fn main() -> anyhow::Result<()> {
             .map(|r| folder.join(format!("{r}.hea")))
             .collect()
     };
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let sp = SeparateParams::default();
     let t0 = Instant::now();
     let all: Vec<PathBuf> = paths(&separate::DS1)

@@ -43,7 +43,7 @@ fn main() -> anyhow::Result<()> {
         i += 2;
     }
     let map = LabelMap::parse("A=irregular,N=regular,O=other,~=unreadable")?;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let t0 = std::time::Instant::now();
     let (s, _) = beatfold::verdicts::score_labels(&dir, &labels, &map, &p, false)?;
     let dt = t0.elapsed().as_secs_f64();

@@ -19,6 +19,7 @@ pub mod embed;
 pub mod error;
 pub mod features;
 pub mod io;
+pub mod params;
 pub mod pipeline;
 pub mod points;
 pub mod record;

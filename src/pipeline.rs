@@ -61,9 +61,19 @@ pub struct Analysis {
     pub sample_entropy: f64,
     /// Irregular-rhythm research screen over the RR series (Dash et al. 2009 statistics).
     pub screen: crate::rhythm::screen::Screen,
+    /// Total duration of the screen's irregular episodes, seconds.
+    pub irregular_s: f64,
     /// Recurrence quantification of the beat trajectory in diffusion coordinates, in sliding
     /// windows (Marwan et al. 2007); window bounds index feature rows.
     pub recurrence: Vec<crate::rhythm::recurrence::RqaWindow>,
+    /// The trajectory the recurrence windows were computed on: the first
+    /// `recurrence_components` diffusion coordinates of each embedded beat (empty when there
+    /// was no recurrence quantification).
+    pub recurrence_trajectory: crate::points::Points,
+    /// The recurrence parameters used (threshold, window, step, line lengths).
+    pub recurrence_params: crate::rhythm::recurrence::RqaParams,
+    /// Median determinism of the recurrence windows (NaN without windows).
+    pub recurrence_det_median: f64,
     /// The record's rhythm verdict (research label, never a diagnosis).
     pub verdict: crate::rhythm::verdict::Verdict,
     /// What the verdict rests on.
@@ -90,6 +100,7 @@ use crate::dimension::{self, KmeansScalingParams};
 use crate::embed::{self, DiffusionParams};
 use crate::error::{Error, Result};
 use crate::features::{self, FeatureParams};
+use crate::params::{Check, Checked};
 use crate::record::Record;
 use crate::rhythm;
 use crate::signal::{self, ConditionParams};
@@ -185,17 +196,18 @@ impl Default for AnalyzeParams {
     }
 }
 
-impl AnalyzeParams {
-    /// Validate every stage's parameters before any work starts.
-    pub fn check(&self) -> Result<()> {
+impl Check for AnalyzeParams {
+    /// Validate every stage's parameters before any work starts; errors name the config path
+    /// (e.g. `diffusion.components`).
+    fn validate(&self) -> Result<()> {
         self.condition
-            .check()
+            .validate()
             .map_err(|e| e.in_block("condition"))?;
         self.pan_tompkins
-            .check()
+            .validate()
             .map_err(|e| e.in_block("pan_tompkins"))?;
-        self.elgendi.check().map_err(|e| e.in_block("elgendi"))?;
-        self.verdict.check().map_err(|e| e.in_block("verdict"))?;
+        self.elgendi.validate().map_err(|e| e.in_block("elgendi"))?;
+        self.verdict.validate().map_err(|e| e.in_block("verdict"))?;
         if !(0.0..=1.0).contains(&self.fuse_margin) {
             return Err(Error::param(
                 "fuse_margin",
@@ -208,17 +220,19 @@ impl AnalyzeParams {
                 format!("{} s; must be at least 1 s", self.agreement_window_s),
             ));
         }
-        self.features.check().map_err(|e| e.in_block("features"))?;
+        self.features
+            .validate()
+            .map_err(|e| e.in_block("features"))?;
         self.diffusion
-            .check()
+            .validate()
             .map_err(|e| e.in_block("diffusion"))?;
         self.dimension
-            .check()
+            .validate()
             .map_err(|e| e.in_block("dimension"))?;
-        self.screen.check().map_err(|e| e.in_block("screen"))?;
-        self.atrial.check().map_err(|e| e.in_block("atrial"))?;
+        self.screen.validate().map_err(|e| e.in_block("screen"))?;
+        self.atrial.validate().map_err(|e| e.in_block("atrial"))?;
         self.recurrence
-            .check()
+            .validate()
             .map_err(|e| e.in_block("recurrence"))?;
         if self.recurrence_components == 0 {
             return Err(Error::param(
@@ -240,7 +254,9 @@ impl AnalyzeParams {
         }
         Ok(())
     }
+}
 
+impl AnalyzeParams {
     /// Parse parameters from JSON text; on failure, the dotted config path of the offending key
     /// (e.g. `diffusion.components`, or `(top level)`) and the parser's error.
     pub fn from_json_text(text: &str) -> std::result::Result<Self, (String, serde_json::Error)> {
@@ -268,7 +284,7 @@ impl AnalyzeParams {
             )
         })?;
         // A value out of range names the file as well as the key.
-        p.check().map_err(|e| match e {
+        p.validate().map_err(|e| match e {
             Error::Param { name, msg } => Error::input(path, name, msg),
             e => e,
         })?;
@@ -410,13 +426,13 @@ pub fn prepare(rec: &Record, p: &AnalyzeParams) -> Result<usize> {
 
 /// Condition one lead and detect its beats (the `beats` command and the first half of
 /// [`analyze`]): [`prepare`], then [`detect_beats_on`].
-pub fn detect_beats(rec: &Record, p: &AnalyzeParams) -> Result<BeatsResult> {
+pub fn detect_beats(rec: &Record, p: &Checked<AnalyzeParams>) -> Result<BeatsResult> {
     let li = prepare(rec, p)?;
     detect_beats_on(rec, li, p)
 }
 
 /// Condition lead `li` (chosen by [`prepare`]) and detect its beats.
-pub fn detect_beats_on(rec: &Record, li: usize, p: &AnalyzeParams) -> Result<BeatsResult> {
+pub fn detect_beats_on(rec: &Record, li: usize, p: &Checked<AnalyzeParams>) -> Result<BeatsResult> {
     let raw = &rec.leads[li].samples;
     // The analysed lead first (it is preferred), then the others when fusing.
     let mut leads: Vec<&[f64]> = vec![raw.as_slice()];
@@ -489,10 +505,9 @@ pub fn detect_beats_on(rec: &Record, li: usize, p: &AnalyzeParams) -> Result<Bea
 pub fn analyze(
     rec: &Record,
     input: &InputInfo,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
     progress: &mut dyn FnMut(usize, &str),
 ) -> Result<Analysis> {
-    p.check()?;
     let t0 = std::time::Instant::now();
     let li = prepare(rec, p)?;
     progress(0, STAGES[0]);
@@ -573,7 +588,7 @@ pub fn analyze(
             p.screen.window_beats
         ));
     }
-    let recurrence = if embedding.n >= 8 {
+    let (recurrence, recurrence_trajectory) = if embedding.n >= 8 {
         let c = p.recurrence_components.min(embedding.components);
         let traj: Vec<f64> = embedding
             .coords
@@ -581,15 +596,19 @@ pub fn analyze(
             .flat_map(|r| r[..c].to_vec())
             .collect();
         let pts = crate::points::Points::new(embedding.n, c, traj)?;
-        rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?
+        (rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?, pts)
     } else {
-        Vec::new()
+        (
+            Vec::new(),
+            crate::points::Points {
+                n: 0,
+                dim: 0,
+                data: Vec::new(),
+            },
+        )
     };
-    let irregular_s: f64 = screen
-        .episodes
-        .iter()
-        .map(|e| (e.end_s - e.start_s).max(0.0))
-        .sum();
+    let recurrence_det_median = crate::stats::median(recurrence.iter().map(|w| w.rqa.det));
+    let irregular_s = screen.irregular_s();
     let (verdict, verdict_evidence) =
         crate::verdicts::verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
     let geometry_index = crate::verdicts::geometry_index(&recurrence);
@@ -630,7 +649,11 @@ pub fn analyze(
         poincare_ms: (sd1_ms, sd2_ms),
         sample_entropy,
         screen,
+        irregular_s,
         recurrence,
+        recurrence_trajectory,
+        recurrence_params: p.recurrence.clone(),
+        recurrence_det_median,
         verdict,
         verdict_evidence,
         geometry_index,
@@ -697,10 +720,10 @@ mod tests {
             p.atrial.window_end_ms,
             rhythm::atrial::AtrialParams::default().window_end_ms
         );
-        assert!(p.check().is_ok());
+        assert!(p.validate().is_ok());
         let bad: AnalyzeParams =
             serde_json::from_str(r#"{"atrial": {"window_start_ms": 50}}"#).unwrap();
-        match bad.check() {
+        match bad.validate() {
             Err(Error::Param { name, .. }) => assert!(name.starts_with("atrial."), "{name}"),
             other => panic!("expected a parameter error, got {other:?}"),
         }
@@ -717,7 +740,7 @@ mod tests {
             ),
         ] {
             let p = AnalyzeParams::from_json_text(json).unwrap();
-            match p.check() {
+            match p.validate() {
                 Err(Error::Param { name, msg }) => {
                     assert!(name.starts_with(key), "{json}: `{name}`");
                     assert!(!msg.is_empty());
@@ -733,7 +756,7 @@ mod tests {
             let p =
                 AnalyzeParams::from_json_text(&format!(r#"{{"condition": {{"order": {order}}}}}"#))
                     .unwrap();
-            let config_ok = p.check().is_ok();
+            let config_ok = p.validate().is_ok();
             let design_ok =
                 crate::signal::filter::Sos::butter_bandpass(order, 0.5, 40.0, 250.0).is_ok();
             assert_eq!(config_ok, design_ok, "order {order}");
@@ -757,6 +780,11 @@ mod tests {
             ("condition.notch_hzz", r#"{"condition": {"notch_hzz": 50}}"#),
             ("pan_tompkins.x", r#"{"pan_tompkins": {"x": 1}}"#),
             ("elgendi.x", r#"{"elgendi": {"x": 1}}"#),
+            (
+                "verdict.min_duraton_s",
+                r#"{"verdict": {"min_duraton_s": 1}}"#,
+            ),
+            ("lead_", r#"{"lead_": "II"}"#),
             ("diffusionn", r#"{"diffusionn": {}}"#),
         ] {
             let (key, e) = AnalyzeParams::from_json_text(json).expect_err(block);

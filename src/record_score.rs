@@ -39,7 +39,7 @@ pub fn beat_score(rec: &Record, b: &BeatsResult, rules: &Ec57Rules) -> RecordSco
 pub fn noise_record(
     rec: &Record,
     b: &BeatsResult,
-    p: &AnalyzeParams,
+    p: &crate::params::Checked<AnalyzeParams>,
     readable_params: &ReadableParams,
     rules: &Ec57Rules,
     schedule: &NoiseSchedule,

@@ -10,6 +10,7 @@
 
 use crate::error::{Error, Result};
 use crate::io::{self, ReadOptions};
+use crate::params::Checked;
 use crate::pipeline::{self, AnalyzeParams, BeatsResult};
 use crate::record::Record;
 use crate::rhythm::label_score::{LabelMap, LabelScore};
@@ -54,7 +55,10 @@ pub fn verdict_of_beats(
 /// The verdict of a record from scratch: quality, beats, the screen and the P-wave index (no
 /// embedding). A record too short or too broken for detection gets an `unreadable` verdict
 /// with the reason, not an error; bad parameters are errors.
-pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, VerdictEvidence)> {
+pub fn record_verdict(
+    rec: &Record,
+    p: &Checked<AnalyzeParams>,
+) -> Result<(Verdict, VerdictEvidence)> {
     let (v, e, _) = record_verdict_geometry(rec, p, false)?;
     Ok((v, e))
 }
@@ -63,10 +67,9 @@ pub fn record_verdict(rec: &Record, p: &AnalyzeParams) -> Result<(Verdict, Verdi
 /// ([`record_geometry_index`]; NaN when not asked for or when the record has too few beats).
 pub fn record_verdict_geometry(
     rec: &Record,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
     geometry: bool,
 ) -> Result<(Verdict, VerdictEvidence, f64)> {
-    p.check()?;
     let li = pipeline::choose_lead(rec, p.lead.as_deref())?;
     let raw = &rec.leads[li].samples;
     let fs_ok = rec.fs_hz.is_finite() && rec.fs_hz > 2.0 * p.condition.band_hz.1;
@@ -100,11 +103,7 @@ pub fn record_verdict_geometry(
     let quality = crate::signal::quality(raw, rec.fs_hz, p.quality_segment_s);
     let b = pipeline::detect_beats_on(rec, li, p)?;
     let screen = pipeline::screen_rhythm(&b, rec.fs_hz, p)?;
-    let irregular_s: f64 = screen
-        .episodes
-        .iter()
-        .map(|e| (e.end_s - e.start_s).max(0.0))
-        .sum();
+    let irregular_s = screen.irregular_s();
     let (v, e) = verdict_of_beats(rec, li, &b, &quality, irregular_s, p)?;
     let g = if geometry {
         record_geometry_index(rec, &b, p)?
@@ -208,11 +207,10 @@ pub fn verdicts_for_labels(
     dir: &Path,
     labels: &[(String, String)],
     map: &LabelMap,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
     geometry: bool,
 ) -> Result<Vec<LabelledVerdict>> {
     use rayon::prelude::*;
-    p.check()?;
     let jobs: Vec<(String, String, VerdictClass, PathBuf)> = labels
         .iter()
         .map(|(name, label)| {
@@ -248,7 +246,7 @@ pub fn score_labels(
     dir: &Path,
     labels_path: &Path,
     map: &LabelMap,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
     geometry: bool,
 ) -> Result<(LabelScore, Vec<LabelledVerdict>)> {
     let labels = crate::rhythm::label_score::read_labels(labels_path)?;

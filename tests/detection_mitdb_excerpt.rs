@@ -27,7 +27,7 @@ fn run(name: &str, p: &AnalyzeParams) -> (Score, Score) {
     .unwrap()
     .record;
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
-    let b = detect_beats(&rec, p).unwrap();
+    let b = detect_beats(&rec, &beatfold::params::Check::check(p.clone()).unwrap()).unwrap();
     (
         score(&reference, &b.samples, rec.fs_hz, 0.150),
         score(&reference, &b.second, rec.fs_hz, 0.150),

@@ -3,7 +3,7 @@
 //! beat-by-beat 150 ms matching window of ANSI/AAMI EC57.
 
 use beatfold::beats::{pan_tompkins, score, DetectParams, Score};
-use beatfold::pipeline::{detect_beats, AnalyzeParams};
+use beatfold::pipeline::detect_beats;
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 
 fn run(scenario: Scenario, hr: f64, seed: u64, minutes: f64) -> (Score, Score) {
@@ -14,7 +14,7 @@ fn run(scenario: Scenario, hr: f64, seed: u64, minutes: f64) -> (Score, Score) {
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
     // The pipeline's beats (primary detector, Elgendi et al. 2013) and the second detector
     // (Pan & Tompkins 1985) on its own.
-    let b = detect_beats(&rec, &AnalyzeParams::default()).unwrap();
+    let b = detect_beats(&rec, &beatfold::params::Checked::default()).unwrap();
     let pt = pan_tompkins(&rec.leads[0].samples, rec.fs_hz, &DetectParams::default()).unwrap();
     (
         score(&reference, &b.samples, rec.fs_hz, 0.150),
@@ -66,7 +66,7 @@ fn irregular_episode_and_ectopic_beats_are_detected() {
     // telemetry-night carries a paroxysmal irregular episode and premature beats.
     let p = SynthParams::for_scenario(Scenario::TelemetryNight, 6.0, 250.0, 21);
     let rec = synthesize(&p).unwrap();
-    let b = detect_beats(&rec, &AnalyzeParams::default()).unwrap();
+    let b = detect_beats(&rec, &beatfold::params::Checked::default()).unwrap();
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
     let s = score(&reference, &b.samples, rec.fs_hz, 0.150);
     assert!(s.se >= 0.99 && s.ppv >= 0.99, "Se {} +P {}", s.se, s.ppv);

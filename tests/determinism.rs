@@ -2,7 +2,7 @@
 //! datasets in `results.h5` (its `created_utc` and `elapsed_s` attributes aside) across two runs
 //! and across rayon pools of 1 and 2 threads.
 
-use beatfold::pipeline::{analyze, AnalyzeParams, InputInfo};
+use beatfold::pipeline::{analyze, InputInfo};
 use beatfold::record::Record;
 use beatfold::report::{self, ReportOptions};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
@@ -24,7 +24,7 @@ fn run_in_pool(rec: &Record, threads: usize, dir: &Path) {
         let a = analyze(
             rec,
             &InputInfo::default(),
-            &AnalyzeParams::default(),
+            &beatfold::params::Checked::default(),
             &mut |_, _| {},
         )
         .expect("analysis");

@@ -4,7 +4,7 @@
 //! an `Analysis` whose quality flags and notes say what happened, never a panic; and the whole
 //! report is written for each (docs/robustness.md has the table).
 
-use beatfold::pipeline::{analyze, Analysis, AnalyzeParams, InputInfo};
+use beatfold::pipeline::{analyze, Analysis, InputInfo};
 use beatfold::record::{Annotations, Lead, Record};
 use beatfold::report::{self, ReportOptions};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
@@ -37,7 +37,7 @@ fn run(rec: &Record) -> Analysis {
     let a = analyze(
         rec,
         &InputInfo::default(),
-        &AnalyzeParams::default(),
+        &beatfold::params::Checked::default(),
         &mut |_, _| {},
     )
     .unwrap_or_else(|e| panic!("analyze failed instead of flagging: {e}"));
@@ -204,7 +204,7 @@ fn tiny_records_are_refused_or_flagged_never_panic() {
         match analyze(
             &r,
             &InputInfo::default(),
-            &AnalyzeParams::default(),
+            &beatfold::params::Checked::default(),
             &mut |_, _| {},
         ) {
             Ok(a) => {
@@ -228,7 +228,7 @@ fn absurd_sampling_rates_give_a_clear_answer() {
     match analyze(
         &record(slow, 1.0),
         &InputInfo::default(),
-        &AnalyzeParams::default(),
+        &beatfold::params::Checked::default(),
         &mut |_, _| {},
     ) {
         Ok(a) => {
@@ -250,7 +250,7 @@ fn absurd_sampling_rates_give_a_clear_answer() {
     match analyze(
         &record(fast, 1.0e6),
         &InputInfo::default(),
-        &AnalyzeParams::default(),
+        &beatfold::params::Checked::default(),
         &mut |_, _| {},
     ) {
         Ok(a) => {
@@ -378,7 +378,7 @@ fn a_failed_write_leaves_the_old_file_and_no_temporary() {
     let a = analyze(
         &base(),
         &InputInfo::default(),
-        &AnalyzeParams::default(),
+        &beatfold::params::Checked::default(),
         &mut |_, _| {},
     )
     .unwrap();

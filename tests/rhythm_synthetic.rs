@@ -22,7 +22,7 @@ fn screen_covers_the_synthetic_episode() {
         let a = analyze(
             &rec,
             &InputInfo::default(),
-            &AnalyzeParams::default(),
+            &beatfold::params::Checked::default(),
             &mut |_, _| {},
         )
         .unwrap();
@@ -122,7 +122,7 @@ fn demo_episode_is_found_at_beat_resolution() {
     let a = analyze(
         &rec,
         &InputInfo::default(),
-        &AnalyzeParams::default(),
+        &beatfold::params::Checked::default(),
         &mut |_, _| {},
     )
     .unwrap();
@@ -151,7 +151,7 @@ fn short_synthetic_records_get_their_verdict() {
     // trigeminy (`ectopic_every` 2 and 3). AF-like is `irregular` (common practice: irregularly
     // irregular RR and no organised atrial activity); a repeating ectopic pattern is not.
     use beatfold::rhythm::verdict::VerdictClass;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let verdict = |sp: SynthParams| {
         let rec = synthesize(&sp).unwrap();
         beatfold::verdicts::record_verdict(&rec, &p).unwrap().0
@@ -197,7 +197,7 @@ fn trigeminy_is_not_irregular() {
     // never an irregularly irregular rhythm (common practice). No beat of such a record is
     // locally regular, so the P-wave template comes from the beats that are not premature.
     use beatfold::rhythm::verdict::VerdictClass;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     for seed in [1u64, 2, 3] {
         let sp = SynthParams {
             ectopic_rate: 0.0,
@@ -221,7 +221,7 @@ fn bad_records_get_an_unreadable_verdict_not_a_panic() {
     // through `record_verdict`: each is `unreadable` with a reason that says why.
     use beatfold::record::{Annotations, Lead, Record};
     use beatfold::rhythm::verdict::VerdictClass;
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let rec = |samples: Vec<f64>| Record {
         name: "bad".into(),
         fs_hz: 300.0,

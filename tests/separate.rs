@@ -30,7 +30,7 @@ fn class_score(r: &Separation, space: &str, c: BeatClass) -> (f64, f64, usize) {
 
 #[test]
 fn builtin_features_separate_v_from_n_within_and_across_records() {
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let sp = SeparateParams::default();
     let recs: Vec<_> = [11, 12, 13]
         .iter()
@@ -83,7 +83,7 @@ fn random_table(lb: &separate::LabelledBeats, seed: u64, skip: &[usize], extra: 
 
 #[test]
 fn random_features_score_at_chance_and_table_gaps_are_counted() {
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let rec = record(21, 5.0, 0.15);
     let plain = labelled_beats(&rec, &p, None).unwrap();
     let skip = [3, 40, 41];
@@ -109,7 +109,7 @@ fn random_features_score_at_chance_and_table_gaps_are_counted() {
 
 #[test]
 fn bad_input_gets_clear_errors() {
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let mut bare = record(31, 1.0, 0.1);
     bare.annotations.beats.clear();
     let e = labelled_beats(&bare, &p, None).unwrap_err().to_string();

@@ -13,6 +13,7 @@
 // `!(x > 0.0)` is used on purpose: unlike `x <= 0.0` it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+use beatfold::params::Check;
 use beatfold::dimension::{dimension_suite, Method, SuiteParams};
 use beatfold::embed::{diffusion_map, DiffusionModel};
 use beatfold::io::{self, ReadOptions};
@@ -132,7 +133,7 @@ fn analyze_params(config_json: Option<&str>) -> PyResult<AnalyzeParams> {
             .map_err(|(at, e)| bad_value(format!("parameter `{at}`: {e}")))?,
         None => AnalyzeParams::default(),
     };
-    p.check().map_err(to_py)?;
+    p.validate().map_err(to_py)?;
     Ok(p)
 }
 
@@ -246,7 +247,7 @@ fn detect_beats<'py>(
             )));
         }
     }
-    let params = analyze_params(config_json)?;
+    let params = analyze_params(config_json)?.check().map_err(to_py)?;
     let leads: Vec<Lead> = columns
         .into_iter()
         .enumerate()
@@ -391,7 +392,7 @@ fn diffusion_fit<'py>(
         .transpose()
         .map_err(|m| bad_value(format!("epsilon: {m}")))?;
     p.overlay_kernel(bandwidth, k);
-    p.check().map_err(to_py)?;
+    p.validate().map_err(to_py)?;
     let pts = points_of(x, "X")?;
     let e = py.detach(|| diffusion_map(&pts, &p)).map_err(to_py)?;
     let summary = json!({"n": e.n, "components": e.components, "epsilon": e.epsilon,
@@ -434,7 +435,7 @@ fn intrinsic_dimension(
         kmeans,
         ..SuiteParams::default()
     };
-    p.check().map_err(to_py)?;
+    p.validate().map_err(to_py)?;
     let pts = points_of(x, "X")?;
     let s = py.detach(|| dimension_suite(&pts, &p)).map_err(to_py)?;
     json_text(&json_views::dimension_json(&s, json!({"from": "points"})))
@@ -519,6 +520,7 @@ fn rhythm_of_record(
     if lead.is_some() {
         params.lead = lead;
     }
+    let params = params.check().map_err(to_py)?;
     let window = window.unwrap_or(json_views::RHYTHM_WINDOW);
     // Window options are checked before anything is read.
     use beatfold::rhythm::windowed::Span;
@@ -556,6 +558,7 @@ fn analyze(
     if lead.is_some() {
         params.lead = lead;
     }
+    let params = params.check().map_err(to_py)?;
     let opts = ReadOptions {
         fs_hz,
         annotations,

@@ -17,7 +17,7 @@ const DEMO_ANN: &str = include_str!("../../demo-data/telemetry-night.annotations
 pub(super) fn analyze_and_write(
     rec: &Record,
     info: &InputInfo,
-    params: &AnalyzeParams,
+    params: &beatfold::params::Checked<AnalyzeParams>,
     out: &Path,
     json: bool,
     ropts: &report::ReportOptions,

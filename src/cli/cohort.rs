@@ -37,14 +37,14 @@ pub struct CohortArgs {
     #[arg(long = "fs", value_name = "HZ")]
     pub fs_hz: Option<f64>,
     /// Seed of the shared embedding's beat sample and fit (default 0).
-    #[arg(long, default_value_t = 0)]
-    pub seed: u64,
+    #[arg(long)]
+    pub seed: Option<u64>,
     /// Most beats sampled from one record for the shared embedding, 1 to 100000 (default 300).
-    #[arg(long, value_name = "N", default_value_t = 300)]
-    pub per_record: usize,
+    #[arg(long, value_name = "N")]
+    pub per_record: Option<usize>,
     /// Most beats in the shared embedding's fit sample, 10 to 5000 (default 1000).
-    #[arg(long, value_name = "N", default_value_t = 1000)]
-    pub max_total: usize,
+    #[arg(long, value_name = "N")]
+    pub max_total: Option<usize>,
     /// What each record writes: `summary` (default: table row and compact record.h5) or
     /// `full` (also report.html, results.h5, summary.json, figures/).
     #[arg(long, value_name = "summary|full", default_value = "summary")]
@@ -142,12 +142,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
         jobs,
         shard: a.shard.as_deref().map(Shard::parse).transpose()?,
         fs_hz: a.fs_hz,
-        shared: SharedParams {
-            seed: a.seed,
-            per_record: a.per_record,
-            max_total: a.max_total,
-            ..SharedParams::default()
-        },
+        shared: shared_params(a),
         outputs: RecordOutputs::parse(&a.record_outputs)?,
         full_for: a
             .full_for
@@ -188,4 +183,15 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
         }
     }
     Ok(())
+}
+
+/// The shared embedding's options: each flag, else the library default.
+fn shared_params(a: &CohortArgs) -> SharedParams {
+    let d = SharedParams::default();
+    SharedParams {
+        seed: a.seed.unwrap_or(d.seed),
+        per_record: a.per_record.unwrap_or(d.per_record),
+        max_total: a.max_total.unwrap_or(d.max_total),
+        ..d
+    }
 }

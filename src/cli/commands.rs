@@ -5,6 +5,7 @@
 use super::{Cli, Command, InputArgs};
 use anyhow::Result;
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::{Check, Checked};
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
 use beatfold::record::Record;
 use beatfold::{report, NOTICE};
@@ -82,7 +83,7 @@ pub fn run(cli: Cli) -> Result<()> {
                 colour_by: report::ColourBy::parse(&colour_by)?,
                 ..Default::default()
             };
-            ropts.check()?;
+            ropts.validate()?;
             let (rec, params, info) = load(&input, &o)?;
             super::analyze::analyze_and_write(&rec, &info, &params, &out, json, &ropts, &o)
         }
@@ -99,7 +100,7 @@ pub fn run(cli: Cli) -> Result<()> {
             label_map,
         } => match labels {
             Some(l) => {
-                super::label_score::run(&inputs, &l, &label_map, read.lead.clone(), json, quiet)
+                super::label_score::run(&inputs, &l, &label_map, &params_of(&read)?, json, quiet)
             }
             None => {
                 let rules = beatfold::beats::ec57::Ec57Rules {
@@ -107,7 +108,7 @@ pub fn run(cli: Cli) -> Result<()> {
                     leave_out,
                     ..Default::default()
                 };
-                rules.check()?;
+                rules.validate()?;
                 super::beats::score_cmd(&inputs, &read, json, quiet, &rules)
             }
         },
@@ -173,19 +174,28 @@ fn default_out(input: &Path) -> PathBuf {
     PathBuf::from(format!("{stem}-beatfold"))
 }
 
-pub(super) fn params_from(input: &InputArgs) -> Result<AnalyzeParams> {
-    let mut p = match &input.read.config {
+/// The parameters of a command that reads one recording: the flags (`--lead`), then the config
+/// file, then the library defaults, checked once.
+pub(super) fn params_from(input: &InputArgs) -> Result<Checked<AnalyzeParams>> {
+    params_of(&input.read)
+}
+
+/// [`params_from`] for the reading options alone (commands that read many recordings).
+pub(super) fn params_of(read: &super::ReadArgs) -> Result<Checked<AnalyzeParams>> {
+    let mut p = match &read.config {
         Some(c) => AnalyzeParams::from_json_file(c)?,
         None => AnalyzeParams::default(),
     };
-    if input.read.lead.is_some() {
-        p.lead = input.read.lead.clone();
+    if read.lead.is_some() {
+        p.lead = read.lead.clone();
     }
-    p.check()?;
-    Ok(p)
+    Ok(p.check()?)
 }
 
-pub(super) fn load(input: &InputArgs, o: &Out) -> Result<(Record, AnalyzeParams, InputInfo)> {
+pub(super) fn load(
+    input: &InputArgs,
+    o: &Out,
+) -> Result<(Record, Checked<AnalyzeParams>, InputInfo)> {
     let params = params_from(input)?;
     let loaded = io::read_record(
         &input.input,

@@ -4,6 +4,7 @@ use super::commands::{load, params_from, Out};
 use super::InputArgs;
 use anyhow::{bail, Result};
 use beatfold::io;
+use beatfold::params::Check;
 use beatfold::pipeline;
 use beatfold::report;
 use serde_json::json;
@@ -11,9 +12,9 @@ use std::path::PathBuf;
 
 /// Options of the `dimension` command besides input and output switches.
 pub(super) struct DimensionOpts {
-    pub(super) method: String,
-    pub(super) seed: u64,
-    pub(super) bootstrap: usize,
+    pub(super) method: Option<String>,
+    pub(super) seed: Option<u64>,
+    pub(super) bootstrap: Option<usize>,
     pub(super) from: String,
     pub(super) embed_dim: usize,
     pub(super) delay: Option<usize>,
@@ -92,18 +93,24 @@ pub(super) fn dimension_cmd(
     let o = Out {
         quiet: quiet || json,
     };
-    let methods = Method::parse_list(&opts.method)?;
+    // Flag, then config file (`dimension.seed`), then the library default.
+    let defaults = SuiteParams::default();
+    let methods = match &opts.method {
+        Some(m) => Method::parse_list(m)?,
+        None => defaults.methods.clone(),
+    };
     let (pts, source) = dimension_points(input, opts, &o)?;
-    let mut kp = params_from(input)?.dimension;
-    kp.seed = opts.seed;
+    let mut kp = params_from(input)?.into_inner().dimension;
+    kp.seed = opts.seed.unwrap_or(kp.seed);
     let p = SuiteParams {
         methods,
-        bootstrap: opts.bootstrap,
-        seed: opts.seed,
+        bootstrap: opts.bootstrap.unwrap_or(defaults.bootstrap),
+        seed: kp.seed,
         max_points: opts.max_points,
         kmeans: kp,
-        ..SuiteParams::default()
-    };
+        ..defaults
+    }
+    .check()?;
     let s = dimension_suite(&pts, &p)?;
     let mut written = Vec::new();
     if let Some(stem) = &opts.figure {

@@ -27,7 +27,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
     };
     let pts = points_of(input, &o)?;
     // Flag, then config file, then the library default.
-    let mut p = params_from(input)?.diffusion;
+    let mut p = params_from(input)?.into_inner().diffusion;
     p.components = a.components.unwrap_or(p.components);
     p.alpha = a.alpha.unwrap_or(p.alpha);
     p.t = a.t.unwrap_or(p.t);
@@ -39,7 +39,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
     }
     let (e, placed) = match &a.model {
         Some(path) => {
-            let model = beatfold::embed::model_io::load_model(path)?;
+            let model = beatfold::io::model::load_model(path)?;
             let coords = model.extend(&pts)?;
             let (pc, pk, pe) = beatfold::embed::pca_baseline(&pts, model.components())?;
             let mut e = model.embedding_of_fit();
@@ -68,7 +68,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         )?;
     }
     if let (Some(path), Some(m)) = (&a.save_model, &e.model) {
-        beatfold::embed::model_io::save_model(m, path)?;
+        beatfold::io::model::save_model(m, path)?;
     }
     if a.json {
         let dg = &e.diagnostics;

@@ -13,7 +13,7 @@ pub fn run(
     inputs: &[PathBuf],
     labels: &Path,
     map: &str,
-    lead: Option<String>,
+    p: &beatfold::params::Checked<AnalyzeParams>,
     json: bool,
     quiet: bool,
 ) -> Result<()> {
@@ -30,11 +30,7 @@ pub fn run(
             dir.display()
         );
     }
-    let p = AnalyzeParams {
-        lead,
-        ..AnalyzeParams::default()
-    };
-    let (s, rows) = beatfold::verdicts::score_labels(dir, labels, &map, &p, true)?;
+    let (s, rows) = beatfold::verdicts::score_labels(dir, labels, &map, p, true)?;
     let num = |x: f64| {
         if x.is_finite() {
             json!(x)

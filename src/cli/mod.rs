@@ -3,6 +3,7 @@
 //! `--json` (where the notice is a key) or `--quiet` is given.
 
 mod analyze;
+mod args;
 mod beats;
 pub mod cohort;
 pub mod commands;
@@ -13,7 +14,8 @@ mod rhythm;
 pub mod separate;
 mod synth;
 
-use clap::{Args, Parser, Subcommand};
+pub use args::{EmbedOptions, InputArgs, ReadArgs};
+use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 
 /// beatfold — ECG-like recordings to beats, diffusion-map embeddings, scale-resolved dimension
@@ -27,90 +29,6 @@ pub struct Cli {
     /// The command.
     #[command(subcommand)]
     pub command: Command,
-}
-
-/// Options of `beatfold embed`.
-#[derive(Debug, Args, Clone)]
-pub struct EmbedOptions {
-    /// Output CSV of diffusion coordinates (one row a point, no header).
-    #[arg(long)]
-    pub out: Option<PathBuf>,
-    /// Output CSV of the PCA baseline scores (one row a point, no header).
-    #[arg(long, value_name = "FILE")]
-    pub pca_out: Option<PathBuf>,
-    /// Number of diffusion coordinates (default 10, or the config file's value).
-    #[arg(long)]
-    pub components: Option<usize>,
-    /// Density normalisation alpha, 0..1 (default 1: Laplace–Beltrami, density-free).
-    #[arg(long)]
-    pub alpha: Option<f64>,
-    /// Diffusion time t (default 1).
-    #[arg(long)]
-    pub t: Option<f64>,
-    /// Kernel bandwidth: `local` (variable bandwidth, the default), `auto` (one global epsilon
-    /// by the kernel-sum rule) or a number (a fixed epsilon in squared input units).
-    #[arg(long, value_name = "auto|local|EPS")]
-    pub bandwidth: Option<beatfold::embed::Bandwidth>,
-    /// Neighbours per point in the sparse kernel graph, 2..1000, or 0 for a dense kernel
-    /// (every pair; up to 5000 points) (default 15, or the config file's value).
-    #[arg(long, visible_alias = "k", value_name = "K")]
-    pub neighbors: Option<usize>,
-    /// Landmark mode: fit on at most N seeded random points and place the others by Nyström
-    /// extension (default 200 000).
-    #[arg(long, value_name = "N")]
-    pub landmarks: Option<usize>,
-    /// Place the input's points into the model saved in this HDF5 file (a results.h5 from
-    /// `analyze` or a file from --save-model) instead of fitting a new map.
-    #[arg(long, value_name = "FILE.h5", conflicts_with_all = ["save_model", "bandwidth", "neighbors", "landmarks"])]
-    pub model: Option<PathBuf>,
-    /// Write the fitted model to this HDF5 file (group /embedding/model).
-    #[arg(long, value_name = "FILE.h5")]
-    pub save_model: Option<PathBuf>,
-    /// Seed for landmarks, bandwidth subsample and eigensolver start (default 0).
-    #[arg(long)]
-    pub seed: Option<u64>,
-    /// Print a summary as JSON on stdout.
-    #[arg(long)]
-    pub json: bool,
-}
-
-/// A recording and how to read it (commands that take one recording).
-#[derive(Debug, Args, Clone)]
-pub struct InputArgs {
-    /// Recording (.csv/.tsv, .edf, .hea, .h5) or, where accepted, a plain numeric CSV of points.
-    pub input: PathBuf,
-    /// How to read it.
-    #[command(flatten)]
-    pub read: ReadArgs,
-}
-
-/// Reading options, defined once for every command that reads recordings.
-#[derive(Debug, Args, Clone, Default)]
-pub struct ReadArgs {
-    /// Sampling rate in Hz for files without a time column or rate comment (no default).
-    #[arg(long = "fs", value_name = "HZ")]
-    pub fs_hz: Option<f64>,
-    /// Lead to analyse, by name or zero-based index (default: the first lead).
-    #[arg(long, value_name = "NAME|INDEX")]
-    pub lead: Option<String>,
-    /// Reference annotation file: a beatfold annotation CSV, or a PhysioNet annotation file
-    /// (default: a sibling `<stem>.annotations.csv`, or for a .hea record its `.atr` file).
-    #[arg(long, value_name = "FILE")]
-    pub reference: Option<PathBuf>,
-    /// For a PhysioNet-format record: the suffix of the annotation file beside its header to use
-    /// as the reference, e.g. `qrs` (default `atr`).
-    #[arg(long, value_name = "SUFFIX", conflicts_with = "reference")]
-    pub annotation_suffix: Option<String>,
-    /// JSON file of analysis parameters (missing keys take defaults; see docs/methods.md).
-    #[arg(long, value_name = "FILE")]
-    pub config: Option<PathBuf>,
-    /// For HDF5 input: the dataset holding the signal, e.g. /ecg (default: the only dataset).
-    #[arg(long, value_name = "PATH")]
-    pub dataset: Option<String>,
-    /// For PhysioNet-format input: a signal checksum that does not match its header is a
-    /// warning (`warn`, default: the reading goes on) or an error (`strict`).
-    #[arg(long, value_name = "warn|strict", default_value_t = beatfold::io::ChecksumPolicy::Warn)]
-    pub checksum: beatfold::io::ChecksumPolicy,
 }
 
 /// Commands.
@@ -241,14 +159,14 @@ pub enum Command {
         #[command(flatten)]
         input: InputArgs,
         /// Estimators, comma separated (kmeans, twonn, mle, correlation, local_pca; default all).
-        #[arg(long, default_value = "kmeans,twonn,mle,correlation,local_pca")]
-        method: String,
-        /// Random seed (default 0).
-        #[arg(long, default_value_t = 0)]
-        seed: u64,
+        #[arg(long, value_name = "LIST")]
+        method: Option<String>,
+        /// Random seed (default: the config file's `dimension.seed`, else 0).
+        #[arg(long)]
+        seed: Option<u64>,
         /// Bootstrap resamples per interval, 0 to 10000 (default 30; 0 = no intervals).
-        #[arg(long, value_name = "N", default_value_t = 30)]
-        bootstrap: usize,
+        #[arg(long, value_name = "N")]
+        bootstrap: Option<usize>,
         /// Point cloud of a recording: beat features, or a delay embedding of the RR series or of
         /// the conditioned signal (default features; ignored for a numeric CSV of points).
         #[arg(

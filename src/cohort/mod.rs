@@ -232,7 +232,7 @@ impl Default for CohortOptions {
 impl CohortOptions {
     /// Validate every option before work starts.
     pub fn check(&self) -> Result<()> {
-        self.params.check()?;
+        crate::params::Check::validate(&self.params)?;
         if !(1..=1024).contains(&self.jobs) {
             return Err(Error::param(
                 "jobs",
@@ -719,6 +719,7 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
         // The table shows no dimension below its support: do not compute one.
         p.dimension_min_points = p.dimension_min_points.max(opts.support.dimension_points);
     }
+    let p = crate::params::Check::check(p)?;
     let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
     compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
     if full {

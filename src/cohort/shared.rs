@@ -15,8 +15,9 @@
 //! seed mixed with a hash of its name), so it does not depend on which shard analysed it.
 
 use super::{record_dir, Plan, Row, Status};
-use crate::embed::{self, model_io, DiffusionModel, DiffusionParams};
+use crate::embed::{self, DiffusionModel, DiffusionParams};
 use crate::error::{Error, Result};
+use crate::io::model as model_io;
 use crate::points::Points;
 use hdf5_pure::{AttrValue, FileBuilder};
 use rand::SeedableRng;
@@ -398,7 +399,7 @@ fn write_record_h5(
     encode(b, path)
 }
 
-/// `cohort_embedding.h5`: `/embedding/model` (see `embed::model_io`), `/sample/record` (index
+/// `cohort_embedding.h5`: `/embedding/model` (see `io::model`), `/sample/record` (index
 /// into `/sample/records`), `/sample/row` (feature row in that record), `/sample/coords` (fit
 /// coordinates), `/sample/records` (record names), `/records/name` and `/records/position`
 /// (every placed record's mean (ψ1, ψ2), sorted by name); root attributes `notice`,

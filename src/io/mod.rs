@@ -11,6 +11,7 @@ pub mod csv;
 pub mod edf;
 pub mod hdf5;
 pub mod matv4;
+pub mod model;
 pub mod physionet;
 pub mod tables;
 

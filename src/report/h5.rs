@@ -220,7 +220,7 @@ pub(crate) fn results_h5_bytes(a: &Analysis, created_utc: &str, path: &Path) -> 
     g.create_dataset("eigenvalues")
         .with_f64_data(&e.eigenvalues);
     if let Some(m) = &e.model {
-        crate::embed::model_io::add_model_group(&mut g, m);
+        crate::io::model::add_model_group(&mut g, m);
     }
     b.add_group(g.finish());
 

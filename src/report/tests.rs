@@ -99,7 +99,7 @@ fn sample_analysis() -> Analysis {
         embedding: Embedding {
             n: m,
             components: 3,
-            coords,
+            coords: coords.clone(),
             eigenvalues: vec![0.95, 0.81, 0.6],
             epsilon: 0.25,
             alpha: 1.0,
@@ -173,7 +173,11 @@ fn sample_analysis() -> Analysis {
                 end_s: 9.5,
             }],
         },
+        irregular_s: 8.5,
         recurrence: Vec::new(),
+        recurrence_trajectory: Points::new(m, 3, coords.clone()).expect("trajectory"),
+        recurrence_params: Default::default(),
+        recurrence_det_median: f64::NAN,
         verdict: crate::rhythm::verdict::Verdict {
             class: crate::rhythm::verdict::VerdictClass::Regular,
             irregular_fraction: 0.0,

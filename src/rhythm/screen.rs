@@ -727,6 +727,15 @@ pub fn screen_beats_atrial(
 }
 
 impl Screen {
+    /// Total duration of the irregular episodes, seconds (0 without episodes).
+    pub fn irregular_s(&self) -> f64 {
+        self.episodes
+            .iter()
+            .map(|e| (e.end_s - e.start_s).max(0.0))
+            .sum::<f64>()
+            + 0.0
+    }
+
     /// Episodes as `(start_s, end_s)` pairs.
     pub fn episode_bounds(&self) -> Vec<(f64, f64)> {
         self.episodes.iter().map(|e| (e.start_s, e.end_s)).collect()

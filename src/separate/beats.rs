@@ -119,7 +119,7 @@ pub fn rows_of(table: &BeatTable, name: &str) -> Vec<usize> {
 /// labelled beat of the record.
 pub fn labelled_beats(
     rec: &Record,
-    p: &AnalyzeParams,
+    p: &crate::params::Checked<AnalyzeParams>,
     table: Option<&BeatTable>,
 ) -> Result<LabelledBeats> {
     if rec.annotations.beats.is_empty() {

@@ -58,10 +58,9 @@ pub const WITHIN_NOTE: &str = "Within-record: every beat is voted on by other be
 pub fn load_labelled(
     paths: &[PathBuf],
     opts: &ReadOptions,
-    p: &AnalyzeParams,
+    p: &crate::params::Checked<AnalyzeParams>,
     table: Option<&BeatTable>,
 ) -> Result<(Vec<LabelledBeats>, Vec<String>)> {
-    p.check()?;
     if let Some(t) = table {
         if !t.has_record && paths.len() > 1 {
             return Err(crate::Error::input(

@@ -15,7 +15,7 @@ pub const MAX_MINUTES: f64 = 24.0 * 60.0;
 
 /// Everything that defines a synthetic recording. Same parameters (seed included) ⇒ same record.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(default)]
+#[serde(default, deny_unknown_fields)]
 pub struct SynthParams {
     /// Name given to the record (the scenario name for [`SynthParams::for_scenario`]).
     pub name: String,

@@ -145,7 +145,7 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
         embedding: Embedding {
             n: m,
             components: 3,
-            coords,
+            coords: coords.clone(),
             eigenvalues: vec![0.99, 0.98, 0.9],
             epsilon: 0.1,
             alpha: 1.0,
@@ -184,7 +184,13 @@ pub fn fake(n_beats: usize, name: &str, rhythm_label: &str) -> Analysis {
                 end_s: 6.0,
             }],
         },
+        irregular_s: 4.0,
+        recurrence_det_median: beatfold::stats::median(recurrence.iter().map(|w| w.rqa.det)),
         recurrence,
+        recurrence_trajectory: beatfold::points::Points::new(m, 3, coords.clone()).unwrap(),
+        recurrence_params: serde_json::from_value(json!({ "threshold": { "distance": 0.05 },
+            "theiler": 1, "l_min": 2, "v_min": 2, "window": 256, "step": 64 }))
+        .unwrap(),
         verdict: beatfold::rhythm::verdict::Verdict {
             class: beatfold::rhythm::verdict::VerdictClass::Regular,
             irregular_fraction: 0.0,

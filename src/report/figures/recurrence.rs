@@ -9,8 +9,7 @@ use super::style::{
 };
 use super::view::View;
 use crate::pipeline::Analysis;
-use crate::points::Points;
-use crate::rhythm::recurrence::{recurrence_matrix, RqaParams};
+use crate::rhythm::recurrence::recurrence_matrix;
 use plotters::prelude::*;
 
 /// A named, coloured line of (x, y) points.
@@ -19,23 +18,6 @@ pub(crate) type Series = (&'static str, RGBColor, Vec<(f64, f64)>);
 /// Largest recurrence-plot window, beats (the matrix is n × n).
 pub(crate) const MAX_RP: usize = 200;
 
-/// Recurrence parameters and trajectory components the analysis used (defaults if absent).
-pub(crate) fn rqa_setup(a: &Analysis) -> (RqaParams, usize) {
-    let params = a
-        .parameters
-        .get("recurrence")
-        .and_then(|v| serde_json::from_value::<RqaParams>(v.clone()).ok())
-        .filter(|p| p.check().is_ok())
-        .unwrap_or_default();
-    let comps = a
-        .parameters
-        .get("recurrence_components")
-        .and_then(|v| v.as_u64())
-        .map_or(3, |c| c as usize)
-        .max(1);
-    (params, comps)
-}
-
 /// 6. Recurrence plot of one window and the recurrence-measure timeline.
 pub(crate) fn draw_recurrence<DB: DrawingBackend>(
     a: &Analysis,
@@ -43,19 +25,15 @@ pub(crate) fn draw_recurrence<DB: DrawingBackend>(
     area: &Area<DB>,
 ) -> DrawResult {
     let title = "Recurrence of the beat trajectory";
-    let e = &a.embedding;
-    let k = e.components;
-    if e.n < 8 || k == 0 || e.coords.len() != e.n * k {
+    let pts = &a.recurrence_trajectory;
+    if pts.n < 8 || pts.dim == 0 {
         return draw_message(
             area,
             title,
             "fewer than 8 embedded beats: no recurrence plot",
         );
     }
-    let (params, comps) = rqa_setup(a);
-    let c = comps.min(k);
-    let traj: Vec<f64> = e.coords.chunks(k).flat_map(|r| r[..c].to_vec()).collect();
-    let pts = Points::new(e.n, c, traj).map_err(|err| format!("trajectory: {err}"))?;
+    let params = &a.recurrence_params;
     let times = row_times(a);
     let time_of = |i: usize| times.as_ref().and_then(|t| t.get(i).copied());
     // Window: from the first beat at or after the chosen start, at most MAX_RP beats, ending at
@@ -63,20 +41,21 @@ pub(crate) fn draw_recurrence<DB: DrawingBackend>(
     let (start, end) = match &times {
         Some(t) if view.chosen() => {
             let (t0, t1) = view.range_or(a, f64::INFINITY);
-            let s = t.partition_point(|&x| x < t0).min(e.n - 1);
+            let s = t.partition_point(|&x| x < t0).min(pts.n - 1);
             let stop = t.partition_point(|&x| x <= t1);
-            (s, stop.clamp(s + 1, e.n).min(s + MAX_RP))
+            (s, stop.clamp(s + 1, pts.n).min(s + MAX_RP))
         }
-        _ => (0, e.n.min(params.window).min(MAX_RP)),
+        _ => (0, pts.n.min(params.window).min(MAX_RP)),
     };
     let (start, end) = if end - start < 8 {
-        let s = start.min(e.n - 8);
-        (s, (s + 8).max(end).min(e.n))
+        let s = start.min(pts.n - 8);
+        (s, (s + 8).max(end).min(pts.n))
     } else {
         (start, end)
     };
-    let (m, eps) = recurrence_matrix(&pts, start, end, &params).map_err(|err| err.to_string())?;
+    let (m, eps) = recurrence_matrix(pts, start, end, params).map_err(|err| err.to_string())?;
     let n = end - start;
+    let c = pts.dim;
     let body = with_title(
         area,
         &format!(
