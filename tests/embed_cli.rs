@@ -64,8 +64,6 @@ fn fit_save_and_place_with_model() {
     let j2 = run(&[
         "embed",
         p,
-        "--components",
-        "3",
         "--model",
         m.to_str().unwrap(),
         "--out",
