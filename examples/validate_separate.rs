@@ -76,7 +76,7 @@ fn landmark_study() -> anyhow::Result<()> {
     use beatfold::embed::{self, DiffusionParams};
     use beatfold::points::Points;
     use beatfold::synth::{synthesize, Scenario, SynthParams};
-    let p = AnalyzeParams::default();
+    let p = beatfold::params::Check::check(AnalyzeParams::default())?;
     let recs = (0..20u64)
         .map(|s| {
             let mut sp = SynthParams::for_scenario(Scenario::Resting, 30.0, 250.0, 1000 + s);
