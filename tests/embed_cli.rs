@@ -81,3 +81,31 @@ fn fit_save_and_place_with_model() {
     let den: f64 = ca.iter().map(|x| x * x).sum();
     assert!((num / den).sqrt() < 0.02, "{}", (num / den).sqrt());
 }
+
+#[test]
+fn help_states_the_library_defaults() {
+    // The defaults are defined once, in the library; the help text must say the same numbers.
+    let out = Command::new(env!("CARGO_BIN_EXE_beatfold"))
+        .args(["embed", "--help"])
+        .output()
+        .unwrap();
+    let help = String::from_utf8_lossy(&out.stdout).replace('\n', " ");
+    let help = help.split_whitespace().collect::<Vec<_>>().join(" ");
+    let d = beatfold::embed::DiffusionParams::default();
+    for (flag, text) in [
+        ("--components", format!("default {}", d.components)),
+        ("--neighbors", format!("default {}", d.neighbors)),
+        ("--alpha", format!("default {}", d.alpha)),
+    ] {
+        let at = help
+            .find(&format!("{flag} "))
+            .unwrap_or_else(|| panic!("{flag} missing from the help"));
+        let rest = &help[at..];
+        let end = rest[2..].find(" --").map_or(rest.len(), |e| e + 2);
+        assert!(
+            rest[..end].contains(&text),
+            "{flag}: help says `{}`, library default `{text}`",
+            &rest[..end]
+        );
+    }
+}

@@ -26,7 +26,7 @@ pub struct EmbedOptions {
     #[arg(long, value_name = "auto|local|EPS")]
     pub bandwidth: Option<beatfold::embed::Bandwidth>,
     /// Neighbours per point in the sparse kernel graph, 2..1000, or 0 for a dense kernel
-    /// (every pair; up to 5000 points) (default 15, or the config file's value).
+    /// (every pair; up to 5000 points) (default 30, or the config file's value).
     #[arg(long, visible_alias = "k", value_name = "K")]
     pub neighbors: Option<usize>,
     /// Landmark mode: fit on at most N seeded random points and place the others by Nyström
