@@ -95,13 +95,17 @@ pub(super) fn analyze_and_write(
                 .estimates
                 .iter()
                 .map(|e| {
-                    format!(
-                        "{} {:.2} [{:.2}, {:.2}]",
-                        e.method.name(),
-                        e.d,
-                        e.ci95[0],
-                        e.ci95[1]
-                    )
+                    if e.ci95[0].is_finite() && e.ci95[1].is_finite() {
+                        format!(
+                            "{} {:.2} [{:.2}, {:.2}]",
+                            e.method.name(),
+                            e.d,
+                            e.ci95[0],
+                            e.ci95[1]
+                        )
+                    } else {
+                        format!("{} {:.2} (no interval)", e.method.name(), e.d)
+                    }
                 })
                 .collect();
             o.line(format!(

@@ -97,7 +97,8 @@ pub enum Command {
         /// for the trajectory, one recurrence window for the recurrence plot).
         #[arg(long = "view-end", value_name = "SECONDS")]
         to_s: Option<f64>,
-        /// Colour of the embedding figure's points: time (default), rr, class or rhythm.
+        /// Colour of the embedding figure's points: time (default), rr, class, rhythm or
+        /// local-dimension (which also adds a strip of local dimension against time).
         #[arg(long = "colour-by", value_name = "WHAT", default_value = "time")]
         colour_by: String,
     },
