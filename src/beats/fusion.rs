@@ -10,7 +10,14 @@
 //! higher than our Pan & Tompkins (1985) on the open annotated records of `docs/validation.md`;
 //! Pan–Tompkins is then the independent second opinion, and either can be made primary.
 //!
-//! Several leads (vote fusion, see [`VoteParams`]): both detectors run on every lead, and per
+//! Several leads, [`FuseMethod::Choose`] (default, "choose per window", our rule): both detectors
+//! run on every lead; in each agreement window (default 10 s) the beats are taken from the lead
+//! whose two detectors agree best, and a lead other than the preferred one must beat the
+//! preferred lead's bSQI by `fuse_margin` (default 0.2) so that a noise-free window never
+//! switches. Beats closer than the refractory period across a window edge are merged (the
+//! earlier kept).
+//!
+//! Several leads, [`FuseMethod::Vote`] (vote fusion, see [`VoteParams`]): both detectors run on every lead, and per
 //! agreement window (default 10 s) a clean window (the preferred lead's two detectors agree,
 //! bSQI ≥ 0.9) keeps the preferred lead's beats; otherwise a lead whose bSQI beats the preferred
 //! one's by `fuse_margin` (default 0.2) gives its beats, and failing that a beat needs a majority
@@ -59,9 +66,24 @@ impl DetectorChoice {
     }
 }
 
+/// How several leads are combined by [`detect_leads`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum FuseMethod {
+    /// Per window, the lead whose two detectors agree best (a lead other than the preferred one
+    /// must be better by `fuse_margin`). Default: it keeps the most beats on noisy records.
+    #[default]
+    Choose,
+    /// The vote fusion of [`VoteParams`]: fewer false detections in noise, a few more missed
+    /// beats (docs/validation-noise.md).
+    Vote,
+}
+
 /// Parameters of [`detect_leads`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct FusionParams<'a> {
+    /// How several leads are combined.
+    pub method: FuseMethod,
     /// Pan & Tompkins parameters.
     pub pan_tompkins: &'a DetectParams,
     /// Elgendi parameters.
@@ -213,7 +235,32 @@ pub fn detect_leads_with(
             windows,
         });
     }
-    Ok(vote_fusion(&per_lead, &win, fs_hz, p, vote, n))
+    if p.method == FuseMethod::Vote {
+        return Ok(vote_fusion(&per_lead, &win, fs_hz, p, vote, n));
+    }
+    let len = ((p.window_s * fs_hz).round() as usize).max(1);
+    let refractory = (p.elgendi.refractory_s.max(p.pan_tompkins.refractory_s) * fs_hz) as usize;
+    let stitch = |pick: fn(&BeatPair) -> &Vec<usize>| -> Vec<usize> {
+        let mut out: Vec<usize> = Vec::new();
+        for (k, &(_, _, li)) in windows.iter().enumerate() {
+            let src = per_lead.get(li).map(pick);
+            let (lo, hi) = (k * len, (k + 1) * len);
+            for &s in src.into_iter().flatten() {
+                if s < lo || s >= hi {
+                    continue;
+                }
+                if out.last().is_none_or(|&prev| s >= prev + refractory.max(1)) {
+                    out.push(s);
+                }
+            }
+        }
+        out
+    };
+    Ok(LeadDetection {
+        primary: stitch(|x| &x.0),
+        second: stitch(|x| &x.1),
+        windows,
+    })
 }
 
 /// Parameters of the two-lead vote fusion ([`detect_leads`] with several leads).
@@ -295,7 +342,7 @@ enum Source {
 ///   multi-lead detectors, e.g. Johnson et al. 2015, "Multimodal heart beat detection using
 ///   signal quality indices");
 /// - otherwise a beat needs a majority of the detector × lead lists (lead-wise voting of QRS
-///   detectors; e.g. the voting fusion of Johnson et al. 2015 and of Clifford's group);
+///   detectors, in the spirit of the multi-channel fusion of Johnson et al. 2015);
 /// - then the RR context of Hamilton & Tompkins (1986), turned around: a beat without a majority
 ///   of the lists, or outside clean windows, that splits a normal RR interval into two short ones
 ///   is removed (a ventricular beat of bigeminy, followed by its compensatory pause, is kept).
@@ -442,6 +489,7 @@ mod tests {
 
     fn params<'a>(pt: &'a DetectParams, el: &'a ElgendiParams) -> FusionParams<'a> {
         FusionParams {
+            method: FuseMethod::Choose,
             pan_tompkins: pt,
             elgendi: el,
             primary: DetectorChoice::Elgendi,
@@ -571,7 +619,10 @@ mod tests {
             }
         }
         let (pt, el) = (DetectParams::default(), ElgendiParams::default());
-        let p = params(&pt, &el);
+        let p = FusionParams {
+            method: FuseMethod::Vote,
+            ..params(&pt, &el)
+        };
         let single = detect_leads(&[&leads[0]], fs, &p).unwrap();
         let fused = detect_leads(&[&leads[0], &leads[1]], fs, &p).unwrap();
         let s1 = crate::beats::score(&truth, &single.primary, fs, 0.15);

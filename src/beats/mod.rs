@@ -23,7 +23,8 @@ mod testsig;
 
 pub use elgendi::{elgendi, ElgendiParams};
 pub use fusion::{
-    detect_leads, detect_leads_with, DetectorChoice, FusionParams, LeadDetection, VoteParams,
+    detect_leads, detect_leads_with, DetectorChoice, FuseMethod, FusionParams, LeadDetection,
+    VoteParams,
 };
 pub use labels::label_beats;
 pub use pan_tompkins::{pan_tompkins, DetectParams, Detection, PanTompkins};
