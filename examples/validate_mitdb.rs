@@ -102,7 +102,12 @@ fn main() -> anyhow::Result<()> {
         fuse_leads: true,
         ..(*params).clone()
     })?;
-    let mut alt = [(0usize, 0usize, 0usize); 2];
+    let vote_params = beatfold::params::Check::check(AnalyzeParams {
+        fuse_leads: true,
+        fuse_method: beatfold::beats::FuseMethod::Vote,
+        ..(*params).clone()
+    })?;
+    let mut alt = [(0usize, 0usize, 0usize); 3];
     let (mut tp, mut fp, mut fnn) = (0usize, 0usize, 0usize);
     let mut worst: Vec<(String, f64, f64)> = Vec::new();
     let mut rhythm_md = String::from(
@@ -145,6 +150,7 @@ fn main() -> anyhow::Result<()> {
         decode_ok &= match_counts;
         let b = pipeline::detect_beats(&rec, &params)?;
         let fused = pipeline::detect_beats(&rec, &fused_params)?;
+        let voted = pipeline::detect_beats(&rec, &vote_params)?;
         let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
         let score = |d: &[usize]| {
             beats::ec57::score_record(rec_name, &reference, d, rec.fs_hz, rec.n_samples(), &rules)
@@ -156,6 +162,7 @@ fn main() -> anyhow::Result<()> {
         // With the default primary (Elgendi) the second detector is Pan–Tompkins on the same lead.
         let s_pt = score(&b.second).score;
         let s_fused = score(&fused.samples).score;
+        let s_voted = score(&voted.samples).score;
         // Irregular-rhythm research screen against (AFIB and (AFL intervals, by duration.
         // P-wave presence index per beat, computed once and kept for the sensitivity table.
         let pw = beatfold::rhythm::atrial::p_wave_index_with(
@@ -227,7 +234,7 @@ fn main() -> anyhow::Result<()> {
             tp += s.tp;
             fp += s.fp;
             fnn += s.fn_;
-            for (k, x) in [s_pt, s_fused].iter().enumerate() {
+            for (k, x) in [s_pt, s_fused, s_voted].iter().enumerate() {
                 alt[k].0 += x.tp;
                 alt[k].1 += x.fp;
                 alt[k].2 += x.fn_;
@@ -269,7 +276,8 @@ fn main() -> anyhow::Result<()> {
          Detection (EC57 rules: 150 ms window, first 5 min not scored, paced records excluded), primary detector \
          (Elgendi et al. 2013, lead 0): gross Se {:.2} %, +P {:.2} % over {} reference beats; lowest record {} \
          (Se {:.2} %, +P {:.2} %). For comparison, gross Se / +P of Pan & Tompkins (1985) on lead 0: {} %; \
-         of the primary with both leads chosen per 10 s window (`fuse_leads`): {} %.\n",
+         of the primary with both leads chosen per 10 s window (`fuse_leads`): {} %; of both leads fused by vote \
+         (`fuse_leads` with `fuse_method` \"vote\", `beats::fusion`): {} %.\n",
         if decode_ok { "all equal to" } else { "NOT all equal to" },
         100.0 * gse,
         100.0 * gppv,
@@ -279,6 +287,7 @@ fn main() -> anyhow::Result<()> {
         worst.first().map_or(0.0, |w| 100.0 * w.2),
         pct(alt[0]),
         pct(alt[1]),
+        pct(alt[2]),
     );
     eprintln!("run time {:.1} s", t0.elapsed().as_secs_f64());
     let af_se = af_tp / af_ref.max(1e-9);

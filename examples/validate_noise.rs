@@ -1,6 +1,7 @@
 //! The noise stress test (Moody, Muldrow & Mark 1984) on a folder of noise-stress records
 //! (e.g. `../shared/data/nstdb`): every header `NNNeSS.hea` whose name carries an SNR is read,
-//! its beats are detected with the default parameters, and it is scored by the EC57 rules
+//! its beats are detected with the default parameters on lead 0 and with both leads fused
+//! (`fuse_leads`, the main table), and it is scored by the EC57 rules
 //! (`beatfold::record_score`, the same code as `beatfold score`), per SNR, with the beats in
 //! stretches the quality index marks unreadable counted apart.
 //!
@@ -16,8 +17,11 @@ use anyhow::{bail, Context};
 use beatfold::beats::ec57::Ec57Rules;
 use beatfold::beats::noise_stress::{self, NoiseSchedule};
 use beatfold::beats::readable::ReadableParams;
+use beatfold::beats::scoring::paired_flags;
+use beatfold::beats::{detect_leads, FuseMethod, FusionParams, VoteParams};
 use beatfold::io::{self, ReadOptions};
 use beatfold::pipeline::{self, AnalyzeParams};
+use beatfold::record::Record;
 use beatfold::record_score;
 use std::path::PathBuf;
 
@@ -77,20 +81,41 @@ fn main() -> anyhow::Result<()> {
         ..readable.clone()
     };
     let mut one_lead_rows = Vec::new();
+    let mut lead0_rows = Vec::new();
     let mut rows = Vec::new();
+    let mut breakdown: Vec<(Option<i32>, Breakdown)> = Vec::new();
+    // Lead 0 alone (the default), and both leads fused (`fuse_leads`, the main table).
+    let lead0 = beatfold::params::Check::check(AnalyzeParams {
+        fuse_leads: false,
+        ..(*params).clone()
+    })?;
+    let fused = beatfold::params::Check::check(AnalyzeParams {
+        fuse_leads: true,
+        fuse_method: FuseMethod::Vote,
+        ..(*params).clone()
+    })?;
     for h in &heads {
         let rec = io::read_record(h, &ReadOptions::default())?.record;
-        let b = pipeline::detect_beats(&rec, &params)?;
-        let r = record_score::noise_record(&rec, &b, &params, &readable, &rules, &schedule)?;
-        one_lead_rows.push(record_score::noise_record(
-            &rec, &b, &params, &one_lead, &rules, &schedule,
+        let b0 = pipeline::detect_beats(&rec, &lead0)?;
+        let b = pipeline::detect_beats(&rec, &fused)?;
+        let r = record_score::noise_record(&rec, &b, &lead0, &readable, &rules, &schedule)?;
+        lead0_rows.push(record_score::noise_record(
+            &rec, &b0, &lead0, &readable, &rules, &schedule,
         )?);
+        one_lead_rows.push(record_score::noise_record(
+            &rec, &b0, &lead0, &one_lead, &rules, &schedule,
+        )?);
+        let bd = breakdown_of(&rec, &b.samples, &fused, &rules, &schedule)?;
         eprintln!(
             "{}: Se {:.2} % +P {:.2} %",
             r.record,
             100.0 * r.all.se,
             100.0 * r.all.ppv
         );
+        match breakdown.iter_mut().find(|x| x.0 == r.snr_db) {
+            Some(x) => x.1.add(&bd),
+            None => breakdown.push((r.snr_db, bd)),
+        }
         rows.push(r);
     }
     eprintln!("run time {:.1} s", t0.elapsed().as_secs_f64());
@@ -100,7 +125,93 @@ fn main() -> anyhow::Result<()> {
     let mut compare = String::from(
         "| SNR dB | FP in unreadable %, both detectors and both leads | clean time marked % | FP in unreadable %, both detectors on lead 0 only | clean time marked % |\n|---|---|---|---|---|\n",
     );
-    for (a, b) in by_snr.iter().zip(noise_stress::by_snr(&one_lead_rows)) {
+    let by_snr_lead0 = noise_stress::by_snr(&lead0_rows);
+    let mut lead0_table = String::from(
+        "| SNR dB | lead 0 alone: TP | FP | FN | Se % | +P % | both leads fused: Se % | +P % |\n|---|---|---|---|---|---|---|---|\n",
+    );
+    for (a, f) in by_snr_lead0.iter().zip(&by_snr) {
+        lead0_table.push_str(&format!(
+            "| {} | {} | {} | {} | {:.2} | {:.2} | {:.2} | {:.2} |\n",
+            a.snr_db.map_or("–".into(), |v| v.to_string()),
+            a.all.tp,
+            a.all.fp,
+            a.all.fn_,
+            100.0 * a.all.se,
+            100.0 * a.all.ppv,
+            100.0 * f.all.se,
+            100.0 * f.all.ppv
+        ));
+    }
+    breakdown.sort_by_key(|x| std::cmp::Reverse(x.0));
+    let mut fp_table = String::from(
+        "| SNR dB | fused FP | in noisy segments | in clean segments | from clean windows | from another lead's windows | from voted windows | FP found by all / all but one / fewer lists | fused FN (in noisy segments) | FP of each list alone: lead 0 primary / second, lead 1 primary / second |\n|---|---|---|---|---|---|---|---|---|---|\n",
+    );
+    for (snr, x) in &breakdown {
+        fp_table.push_str(&format!(
+            "| {} | {} | {} | {} | {} | {} | {} | {} / {} / {} | {} ({}) | {} |\n",
+            snr.map_or("–".into(), |v| v.to_string()),
+            x.fp,
+            x.fp_noisy,
+            x.fp - x.fp_noisy,
+            x.fp_by_kind[0],
+            x.fp_by_kind[1],
+            x.fp_by_kind[2],
+            x.fp_seen_by[0],
+            x.fp_seen_by[1],
+            x.fp_seen_by[2],
+            x.fn_,
+            x.fn_noisy,
+            x.fp_lists
+                .iter()
+                .map(|v| v.to_string())
+                .collect::<Vec<_>>()
+                .join(" / ")
+        ));
+    }
+    let vote = VoteParams::default();
+    let mut why = String::new();
+    for (snr, se_t, ppv_t) in [(12, 99.0, 98.0), (6, 97.0, 95.0)] {
+        let (Some(r), Some((_, x))) = (
+            by_snr.iter().find(|r| r.snr_db == Some(snr)),
+            breakdown.iter().find(|b| b.0 == Some(snr)),
+        ) else {
+            continue;
+        };
+        let (se, ppv) = (100.0 * r.all.se, 100.0 * r.all.ppv);
+        if se >= se_t && ppv >= ppv_t {
+            why.push_str(&format!(
+                "- {snr} dB: target met (Se {se:.2} % ≥ {se_t}, +P {ppv:.2} % ≥ {ppv_t}).\n"
+            ));
+            continue;
+        }
+        // False detections allowed for the target +P at the measured TP.
+        let allowed = (r.all.tp as f64 * (100.0 - ppv_t) / ppv_t).floor();
+        let best_list = x.fp_lists.iter().min().copied().unwrap_or(0);
+        why.push_str(&format!(
+            "- {snr} dB: Se {se:.2} % (target {se_t}), +P {ppv:.2} % (target {ppv_t}). At {} true detections the \
+             +P target allows {allowed:.0} false ones; there are {}, all but {} in the noisy segments. {} of them come \
+             from voted windows and {} from windows where the lead-0 detectors agree (bSQI ≥ {}), i.e. both detectors \
+             took the same artefact. {} were found by all four detector × lead lists and {} by three: the artefact is \
+             on both leads at the same instant (the noise of the two leads is not independent), which no vote between \
+             these lists can remove. The best single list alone has {best_list} false detections. Of the {} missed \
+             beats, {} lie in noisy segments, where a real beat had fewer than three lists or was taken for an artefact \
+             splitting an RR interval.\n",
+            r.all.tp,
+            x.fp,
+            x.fp - x.fp_noisy,
+            x.fp_by_kind[2],
+            x.fp_by_kind[0],
+            vote.clean_bsqi,
+            x.fp_seen_by[0],
+            x.fp_seen_by[1],
+            x.fn_,
+            x.fn_noisy,
+        ));
+    }
+    for (a, b) in by_snr_lead0
+        .iter()
+        .zip(noise_stress::by_snr(&one_lead_rows))
+    {
         compare.push_str(&format!(
             "| {} | {:.1} | {:.1} | {:.1} | {:.1} |\n",
             a.snr_db.map_or("–".into(), |v| v.to_string()),
@@ -114,12 +225,25 @@ fn main() -> anyhow::Result<()> {
         "# Noise stress test\n\n\
          Made by `cargo run --release --example validate_noise -- {} --out {}` (do not edit by hand).\n\n\
          Data: MIT-BIH Noise Stress Test Database 1.0.0 (Moody, Muldrow & Mark 1984; PhysioNet, ODC-By 1.0): {}.\n\
-         Beats detected with the default parameters (primary detector on lead 0), scored by the EC57 rules of \
+         Beats detected with the default parameters and both leads fused (`fuse_leads` with `fuse_method` `\"vote\"`: the vote fusion of `beats::fusion`), scored by the EC57 rules of \
          `beatfold score` ({}). Noise from {:.0} s, {:.0} s noisy then {:.0} s clean in turn. A stretch is \
          unreadable when the two detectors' agreement bSQI (Li, Mark & Clifford 2008) is below {} in a {:.0} s \
          window, between the two detectors on lead 0 or between the primary detector on the two leads, or a quality \
-         flag is set; nothing here was tuned on these records.\n\n{table}\n\
-         The quality index with and without the comparison across leads:\n\n{compare}\n\
+         flag is set.\n\n\
+         The fusion's parameters (`beats::fusion::VoteParams`: clean window at bSQI ≥ {}, at least a fraction {} of the \
+         detector × lead lists, RR-context ratios {} and {}) were chosen on ten MIT-BIH records other than 118 and 119 \
+         (100, 103, 105, 106, 113, 200, 201, 208, 213, 221) with seeded synthetic electrode-motion-like noise at 12 and \
+         6 dB added to both leads (`scripts/fusion_dev/`): the setting of a small grid with the fewest false plus \
+         missed beats there, among those keeping MIT-BIH pooled Se and +P ≥ 99.6 % on the clean records other than \
+         118 and 119. The records below were not used for the choice, though their summary numbers were seen while \
+         the method was developed, so this is not a fully blind check.\n\n{table}\n\
+         Lead 0 alone (the default for `beatfold score` without `fuse_leads`) against both leads fused:\n\n{lead0_table}\n\
+         Where the false detections of the fused beats come from (scored part; a window is clean when the \
+         lead-0 detectors agree with bSQI ≥ {}, it takes another lead's beats when that lead's bSQI is higher by \
+         `fuse_margin`, else it is voted; the last column counts the false detections of each detector × lead \
+         list on its own):\n\n{fp_table}\n\
+         Against the targets:\n\n{why}\n\
+         The quality index of lead 0 alone with and without the comparison across leads:\n\n{compare}\n\
          Targets: at 6 dB pooled Se ≥ 97 % and +P ≥ 95 %; at 12 dB Se ≥ 99 % and +P ≥ 98 %; at 6 dB at \
          least 80 % of the false detections in unreadable stretches while at most 5 % of the clean time is marked.\n\n\
          Research use only: these numbers describe beatfold on this benchmark, not on your data.\n",
@@ -132,6 +256,11 @@ fn main() -> anyhow::Result<()> {
         schedule.clean_s,
         readable.bsqi_min,
         readable.window_s,
+        vote.clean_bsqi,
+        vote.min_vote_fraction,
+        vote.rr_short_ratio,
+        vote.rr_merge_ratio,
+        vote.clean_bsqi,
     );
     println!("{page}");
     if let Some(p) = &out {
@@ -166,4 +295,126 @@ fn main() -> anyhow::Result<()> {
         bail!("noise gates missed: {}", missed.join("; "));
     }
     Ok(())
+}
+
+/// False detections of the fused beats of one record, split by where they come from.
+#[derive(Default)]
+struct Breakdown {
+    fp: usize,
+    fp_noisy: usize,
+    /// Clean windows, another lead's windows, voted windows.
+    fp_by_kind: [usize; 3],
+    fn_: usize,
+    fn_noisy: usize,
+    /// False detections found by all, by all but one, and by fewer of the single lists.
+    fp_seen_by: [usize; 3],
+    /// Each detector × lead list alone: lead 0 primary, lead 0 second, lead 1 primary, ...
+    fp_lists: Vec<usize>,
+}
+
+impl Breakdown {
+    fn add(&mut self, o: &Breakdown) {
+        self.fp += o.fp;
+        self.fp_noisy += o.fp_noisy;
+        self.fn_ += o.fn_;
+        self.fn_noisy += o.fn_noisy;
+        for k in 0..3 {
+            self.fp_seen_by[k] += o.fp_seen_by[k];
+        }
+        for k in 0..3 {
+            self.fp_by_kind[k] += o.fp_by_kind[k];
+        }
+        self.fp_lists
+            .resize(self.fp_lists.len().max(o.fp_lists.len()), 0);
+        for (a, b) in self.fp_lists.iter_mut().zip(&o.fp_lists) {
+            *a += b;
+        }
+    }
+}
+
+fn breakdown_of(
+    rec: &Record,
+    fused_beats: &[usize],
+    p: &AnalyzeParams,
+    rules: &Ec57Rules,
+    schedule: &NoiseSchedule,
+) -> anyhow::Result<Breakdown> {
+    let fs = rec.fs_hz;
+    let leads: Vec<&[f64]> = rec.leads.iter().map(|l| l.samples.as_slice()).collect();
+    let fp_params = FusionParams {
+        method: p.fuse_method,
+        pan_tompkins: &p.pan_tompkins,
+        elgendi: &p.elgendi,
+        primary: p.primary_detector,
+        match_window_s: p.score_window_s,
+        window_s: p.agreement_window_s,
+        fuse_margin: p.fuse_margin,
+    };
+    let det = detect_leads(&leads, fs, &fp_params)?;
+    if det.primary != fused_beats {
+        bail!("{}: the fusion differs from the pipeline's", rec.name);
+    }
+    let reference = record_score::reference_beats(rec);
+    let first = beatfold::beats::ec57::first_scored_sample(rules.learning_s, fs, rec.n_samples());
+    let false_ones = |beats: &[usize]| -> Vec<usize> {
+        let (_, d) = paired_flags(&reference, beats, fs, rules.window_s);
+        beats
+            .iter()
+            .zip(d)
+            .filter(|(&s, paired)| !paired && s >= first)
+            .map(|(&s, _)| s)
+            .collect()
+    };
+    let mut out = Breakdown::default();
+    let fps = false_ones(&det.primary);
+    let clean_bsqi = VoteParams::default().clean_bsqi;
+    let len = ((p.agreement_window_s * fs).round() as usize).max(1);
+    for &s in &fps {
+        out.fp += 1;
+        if schedule.is_noisy(s as f64 / fs) {
+            out.fp_noisy += 1;
+        }
+        let kind = match det.windows.get(s / len) {
+            Some(&(_, q, 0)) if q >= clean_bsqi => 0,
+            Some(&(_, _, 0)) | None => 2,
+            Some(_) => 1,
+        };
+        out.fp_by_kind[kind] += 1;
+    }
+    let (r, _) = paired_flags(&reference, &det.primary, fs, rules.window_s);
+    for (&s, paired) in reference.iter().zip(r) {
+        if !paired && s >= first {
+            out.fn_ += 1;
+            if schedule.is_noisy(s as f64 / fs) {
+                out.fn_noisy += 1;
+            }
+        }
+    }
+    let mut lists = Vec::new();
+    for l in &leads {
+        let one = detect_leads(&[l], fs, &fp_params)?;
+        out.fp_lists.push(false_ones(&one.primary).len());
+        out.fp_lists.push(false_ones(&one.second).len());
+        lists.push(one.primary);
+        lists.push(one.second);
+    }
+    let tol = (VoteParams::default().cluster_s * fs).round() as usize;
+    for &s in &fps {
+        let seen = lists
+            .iter()
+            .filter(|l| {
+                let k = l.partition_point(|&b| b + tol < s);
+                l.get(k).is_some_and(|&b| b <= s + tol)
+            })
+            .count();
+        let k = if seen >= lists.len() {
+            0
+        } else if seen + 1 == lists.len() {
+            1
+        } else {
+            2
+        };
+        out.fp_seen_by[k] += 1;
+    }
+    Ok(out)
 }

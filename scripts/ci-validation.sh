@@ -4,7 +4,7 @@
 #   1. MIT-BIH Arrhythmia Database (../shared/data/mitdb): decoding against records.csv, beat
 #      detection by the EC57 rules (pooled Se and +P ≥ 99.5 %), irregular-rhythm screen by
 #      duration (Se and Sp ≥ 95 %); regenerates docs/validation-mitdb.md.
-#   2. Noise stress test (../shared/data/nstdb): Se/+P per SNR (12 dB: ≥ 99 / 98 %; 6 dB, pooled
+#   2. Noise stress test (../shared/data/nstdb), both leads fused by vote: Se/+P per SNR (12 dB: ≥ 99 / 98 %; 6 dB, pooled
 #      over 118e06 and 119e06: ≥ 97 / 95 %) and the quality index at 6 dB (≥ 80 % of the false
 #      detections in stretches marked unreadable, ≤ 5 % of the clean time marked); regenerates
 #      docs/validation-noise.md.

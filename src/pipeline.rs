@@ -135,6 +135,9 @@ pub struct AnalyzeParams {
     pub fuse_leads: bool,
     /// bSQI margin by which another lead must beat the analysed one to be used (default 0.2).
     pub fuse_margin: f64,
+    /// How `fuse_leads` combines the leads: `"choose"` (default, the best-agreeing lead per
+    /// window) or `"vote"` (the vote fusion of `beats::fusion`, fewer false detections in noise).
+    pub fuse_method: beats::FuseMethod,
     /// Window for the per-window beat agreement, seconds (default 10).
     pub agreement_window_s: f64,
     /// Beat features.
@@ -177,6 +180,7 @@ impl Default for AnalyzeParams {
             elgendi: ElgendiParams::default(),
             fuse_leads: false,
             fuse_margin: 0.2,
+            fuse_method: beats::FuseMethod::Choose,
             agreement_window_s: 10.0,
             features: FeatureParams::default(),
             // The library default: a variable bandwidth (Berry & Harlim 2016), which also keeps
@@ -446,6 +450,7 @@ pub fn detect_beats_on(rec: &Record, li: usize, p: &Checked<AnalyzeParams>) -> R
         );
     }
     let fp = FusionParams {
+        method: p.fuse_method,
         pan_tompkins: &p.pan_tompkins,
         elgendi: &p.elgendi,
         primary: p.primary_detector,

@@ -22,7 +22,10 @@ pub mod scoring;
 mod testsig;
 
 pub use elgendi::{elgendi, ElgendiParams};
-pub use fusion::{detect_leads, DetectorChoice, FusionParams, LeadDetection};
+pub use fusion::{
+    detect_leads, detect_leads_with, DetectorChoice, FuseMethod, FusionParams, LeadDetection,
+    VoteParams,
+};
 pub use labels::label_beats;
 pub use pan_tompkins::{pan_tompkins, DetectParams, Detection, PanTompkins};
 pub use scoring::{agreement, agreement_windows, rr_intervals_s, score, score_between};
