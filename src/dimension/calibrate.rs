@@ -158,10 +158,7 @@ fn save_disk(m: usize, key: &str) {
     if let Some(dir) = path.parent() {
         let _ = std::fs::create_dir_all(dir);
     }
-    let tmp = path.with_extension(format!("tmp{}", std::process::id()));
-    if std::fs::write(&tmp, text).is_ok() && std::fs::rename(&tmp, &path).is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
+    let _ = crate::io::write_atomic(&path, text.as_bytes());
 }
 
 /// Raw estimates of `methods` on the reference cube of dimension δ with m points (cached).
