@@ -106,9 +106,6 @@ use crate::rhythm;
 use crate::signal::{self, ConditionParams};
 use serde::Deserialize;
 
-/// Bootstrap resamples of the dimension suite in `analyze`.
-const SUITE_BOOTSTRAP: usize = 20;
-
 /// Fewest beats for which an embedding and a dimension estimate are attempted.
 pub const MIN_BEATS_FOR_GEOMETRY: usize = 30;
 
@@ -559,7 +556,6 @@ pub fn analyze(
         if feats.points.n >= p.dimension_min_points {
             let sp = dimension::SuiteParams {
                 seed: p.dimension.seed,
-                bootstrap: SUITE_BOOTSTRAP,
                 kmeans: p.dimension.clone(),
                 ..dimension::SuiteParams::default()
             };

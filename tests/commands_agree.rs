@@ -54,6 +54,15 @@ fn beats_analyze_and_rhythm_report_the_same_heart_rate_and_agreement() {
         "beats {ag_b} vs analyze {ag_a}"
     );
     assert_eq!(beats["n_beats"], analyze["beats"]["n_beats"]);
+    // One default for the dimension suite's bootstrap: `analyze` used to fix 20 resamples
+    // where the library and the `dimension` command use 30.
+    let dimension = json_of(&beatfold(
+        &["dimension", rec, "--json", "--quiet"],
+        tmp.path(),
+    ));
+    let library = beatfold::dimension::SuiteParams::default().bootstrap;
+    assert_eq!(analyze["dimension"]["bootstrap"], library, "analyze");
+    assert_eq!(dimension["bootstrap"], library, "dimension --json");
 }
 
 #[test]
