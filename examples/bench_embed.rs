@@ -12,13 +12,16 @@
 //! eigensolver on it) before the fit with the library's defaults. Each time is printed as wall
 //! seconds and the process's CPU seconds (less disturbed by other work on a shared machine).
 //!
+//! The fit with the library's defaults prints the wall and CPU seconds of each of its phases
+//! (`diffusion_map_observed`).
+//!
 //! With `--dump DIR` the windows are also written to `DIR/points.f64` (row-major little-endian
 //! float64, N × 64) and the fit's seconds to `DIR/beatfold.json`, for
 //! `scripts/time_sklearn_embedding.py DIR` (a reference library on the same points).
 
 #[path = "common/dump.rs"]
 mod dump;
-use beatfold::embed::{diffusion_map, knn, sparse, DiffusionParams, Pca};
+use beatfold::embed::{diffusion_map_observed, knn, sparse, DiffusionParams, Pca};
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -143,13 +146,24 @@ fn main() -> anyhow::Result<()> {
         let eig = time("stage: eigensolver, 11 pairs", || {
             sparse::top_eigen_sparse(&s, 11, 0)
         })?;
-        println!("  solver {:?}, residual {:.2e}", eig.solver, eig.residual);
+        println!(
+            "  solver {:?}, residual {:.2e}, block products {}, lower spectrum bound {:.3}",
+            eig.solver, eig.residual, eig.chebyshev_work.0, eig.chebyshev_work.1
+        );
         println!(
             "peak resident memory so far (VmHWM): {:.0} MiB",
             peak_rss_mib()
         );
     }
     let t_fit = std::time::Instant::now();
+    // Phases of the fit as the library reports them (wall and CPU seconds of each).
+    let mut phases: Vec<(&str, f64, f64)> = Vec::new();
+    let (mut t_last, mut c_last) = (Instant::now(), cpu_seconds());
+    let mut on_phase = |name: &'static str| {
+        let (t, c) = (Instant::now(), cpu_seconds());
+        phases.push((name, (t - t_last).as_secs_f64(), c - c_last));
+        (t_last, c_last) = (t, c);
+    };
     let e = time(
         &format!(
             "diffusion map, k = 15, 10 components{}",
@@ -159,9 +173,12 @@ fn main() -> anyhow::Result<()> {
                 String::new()
             }
         ),
-        || diffusion_map(&pts, &p),
+        || diffusion_map_observed(&pts, &p, &mut on_phase),
     )?;
     let fit_s = t_fit.elapsed().as_secs_f64();
+    for (name, wall, cpu) in &phases {
+        println!("  phase {name:<20} {wall:>8.2} s  (CPU {cpu:.2} s)");
+    }
     if let Some(dir) = &dump {
         dump::write_points(dir, &pts)?;
         let meta = serde_json::json!({
@@ -186,6 +203,11 @@ fn main() -> anyhow::Result<()> {
             .as_ref()
             .and_then(|m| m.reduction.as_ref().map(|r| r.1))
     );
+    if let Some((products, bound)) = e.model.as_ref().and_then(|m| m.diagnostics.chebyshev_work) {
+        println!(
+            "Chebyshev eigensolver: {products} block products, lower spectrum bound {bound:.3}"
+        );
+    }
     println!("peak resident memory (VmHWM): {:.0} MiB", peak_rss_mib());
     Ok(())
 }

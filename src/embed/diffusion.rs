@@ -240,6 +240,10 @@ pub struct FitDiagnostics {
     pub component_sizes: Vec<usize>,
     /// What more than one component means and what was done (None when connected).
     pub note: Option<String>,
+    /// Chebyshev eigensolver work: block products and the lower spectrum bound (None for the
+    /// other solvers; not serialised, for benchmarks).
+    #[serde(skip)]
+    pub chebyshev_work: Option<(usize, f64)>,
 }
 
 /// A fitted diffusion map: what is needed to place new points by Nyström extension.
@@ -532,6 +536,7 @@ fn assemble(
         connected_components: comps.count(),
         component_sizes: comps.sizes.clone(),
         note: component_note(&comps.sizes, c),
+        chebyshev_work: None,
     };
     DiffusionModel {
         landmarks: lm,
@@ -575,6 +580,17 @@ fn reduce<'a>(
 /// Errors: bad parameters; fewer than `components + 2` points; a bandwidth that cannot be found;
 /// the eigensolver failing to converge.
 pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+    fit_observed(points, p, &mut |_| {})
+}
+
+/// [`fit`], calling `on_phase(name)` as each phase ends (`landmarks`, `pca`, then for a sparse
+/// kernel `knn`, `bandwidth`, `kernel graph`, `normalisation`, `eigensolver`, `assemble`; for
+/// the dense kernel one `dense fit`), so a caller can time the phases with its own clocks.
+pub fn fit_observed(
+    points: &Points,
+    p: &DiffusionParams,
+    on_phase: &mut dyn FnMut(&'static str),
+) -> Result<DiffusionModel> {
     p.check()?;
     let c = p.components;
     if points.n < c + 2 || points.dim == 0 {
@@ -599,6 +615,7 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     } else {
         std::borrow::Cow::Owned(points.select(&landmark_index))
     };
+    on_phase("landmarks");
     let reduction = if p.neighbors > 0 && p.pca_max_dim > 0 && raw.dim > p.pca_max_dim {
         let pca = Pca::fit(&raw)?;
         let keep = pca.components_for(p.pca_variance).min(p.pca_max_dim);
@@ -608,23 +625,35 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
     };
     let lm = reduce(&raw, &reduction)?.into_owned();
     drop(raw);
+    on_phase("pca");
     let mut model = if p.neighbors == 0 {
         fit_dense(lm, p)?
     } else {
-        fit_sparse(lm, p)?
+        fit_sparse(lm, p, on_phase)?
     };
+    on_phase(if p.neighbors == 0 {
+        "dense fit"
+    } else {
+        "assemble"
+    });
     model.landmark_index = landmark_index;
     model.reduction = reduction;
     Ok(model)
 }
 
 /// Sparse-kernel fit on the (already reduced) fit points.
-fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+fn fit_sparse(
+    lm: Points,
+    p: &DiffusionParams,
+    on_phase: &mut dyn FnMut(&'static str),
+) -> Result<DiffusionModel> {
     let c = p.components;
     let m = lm.n;
     let kq = (p.neighbors + 1).min(m);
     let nb = knn(&lm, &lm, kq)?;
+    on_phase("knn");
     let bw = choose_bandwidth(&nb, p)?;
+    on_phase("bandwidth");
     let mut s = kernel_graph(&nb, &|a, b| bw.scale(a, b));
     // Kernel weight of each row's farthest kept neighbour, median over rows.
     let mut last: Vec<f64> = (0..m)
@@ -645,10 +674,12 @@ fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
                 .map(move |e| (i, s.col[e]))
         }),
     );
+    on_phase("kernel graph");
     let (q, d, cmin) = normalise_scaled(&mut s, bw.kernel_alpha, &bw.rho, bw.kernel_dim);
     let w: Vec<f64> = (0..m)
         .map(|i| d[i] * bw.rho.get(i).map_or(1.0, |r| r * r))
         .collect();
+    on_phase("normalisation");
     let eig = if comps.count() == 1 {
         top_eigen_sparse(&s, c + 1, p.seed)?
     } else {
@@ -659,7 +690,8 @@ fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
         finish(&s, vals, vecs, Solver::Components)?
     };
     drop(s);
-    Ok(assemble(
+    on_phase("eigensolver");
+    let mut model = assemble(
         lm,
         p,
         bw,
@@ -671,7 +703,11 @@ fn fit_sparse(lm: Points, p: &DiffusionParams) -> Result<DiffusionModel> {
         eig.residuals,
         &comps,
         truncation,
-    ))
+    );
+    if eig.solver == Solver::Chebyshev {
+        model.diagnostics.chebyshev_work = Some(eig.chebyshev_work);
+    }
+    Ok(model)
 }
 
 /// Dense-kernel fit on the fit points (m ≤ 5000): every pair enters the kernel; ρ and ε are
@@ -988,7 +1024,17 @@ impl DiffusionModel {
 /// the PCA baseline (scores on the first `components` principal axes and their variance
 /// shares) and the fitted model.
 pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> {
-    let model = fit(points, p)?;
+    diffusion_map_observed(points, p, &mut |_| {})
+}
+
+/// [`diffusion_map`], calling `on_phase(name)` as each phase ends (those of [`fit_observed`],
+/// then `nystrom`, `landmark check` and `pca baseline`).
+pub fn diffusion_map_observed(
+    points: &Points,
+    p: &DiffusionParams,
+    on_phase: &mut dyn FnMut(&'static str),
+) -> Result<Embedding> {
+    let model = fit_observed(points, p, on_phase)?;
     let mut emb = model.embedding_of_fit();
     if model.landmarks.n != points.n {
         let c = model.components();
@@ -1007,11 +1053,14 @@ pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> 
         }
         emb.n = points.n;
         emb.coords = coords;
+        on_phase("nystrom");
         if p.landmark_check > 0 {
             emb.landmark_error = Some(landmark_error(points, &model, p)?);
+            on_phase("landmark check");
         }
     }
     let (pca_coords, pca_components, pca_explained) = pca_baseline(points, p.components)?;
+    on_phase("pca baseline");
     emb.pca_coords = pca_coords;
     emb.pca_components = pca_components;
     emb.pca_explained = pca_explained;

@@ -228,6 +228,26 @@ impl<'a> KdTree<'a> {
         }
     }
 
+    /// The leaf the search for `q` starts in (the node reached by always taking the nearer
+    /// child).
+    fn leaf_of(&self, q: &[f64]) -> usize {
+        let mut node = 0;
+        if self.nodes.is_empty() {
+            return 0;
+        }
+        while let Node::Split {
+            dim,
+            value,
+            left,
+            right,
+        } = self.nodes[node]
+        {
+            node = if q[dim] - value < 0.0 { left } else { right };
+        }
+        node
+    }
+
+    /// The `k` nearest points of `q`: (squared distance, index), nearest first.
     pub fn nearest(&self, q: &[f64], k: usize) -> Vec<(f64, usize)> {
         let mut top = TopK::new(k);
         if !self.nodes.is_empty() {
@@ -291,15 +311,37 @@ pub fn knn_kdtree(reference: &Points, queries: &Points, k: usize) -> Result<Neig
             }
         }
     } else {
-        index
+        // Queries searched in the order of the leaves they fall in, so consecutive searches
+        // visit the same cells while they are in cache; the answers are then put back in
+        // query order. Each query's answer does not depend on the order.
+        let mut order: Vec<(usize, usize)> = (0..queries.n)
+            .into_par_iter()
+            .map(|i| (tree.leaf_of(queries.row(i)), i))
+            .collect();
+        order.par_sort_unstable();
+        let mut s_index = vec![0usize; queries.n * k];
+        let mut s_dist2 = vec![0.0; queries.n * k];
+        s_index
             .par_chunks_mut(k)
-            .zip(dist2.par_chunks_mut(k))
-            .enumerate()
-            .for_each(|(i, (ri, rd))| {
+            .zip(s_dist2.par_chunks_mut(k))
+            .zip(order.par_iter())
+            .for_each(|((ri, rd), &(_, i))| {
                 for (j, (d, idx)) in tree.nearest(queries.row(i), k).into_iter().enumerate() {
                     ri[j] = idx;
                     rd[j] = d;
                 }
+            });
+        let mut pos = vec![0usize; queries.n];
+        for (r, &(_, i)) in order.iter().enumerate() {
+            pos[i] = r;
+        }
+        index
+            .par_chunks_mut(k)
+            .zip(dist2.par_chunks_mut(k))
+            .zip(pos.par_iter())
+            .for_each(|((ri, rd), &r)| {
+                ri.copy_from_slice(&s_index[r * k..(r + 1) * k]);
+                rd.copy_from_slice(&s_dist2[r * k..(r + 1) * k]);
             });
     }
     Ok(Neighbors {

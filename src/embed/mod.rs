@@ -67,8 +67,8 @@ pub mod sparse;
 
 pub use bandwidth::{kernel_sum_dimension, kernel_sum_rule, Bandwidth, KernelSum};
 pub use diffusion::{
-    aligned_relative_error, diffusion_map, fit, landmark_error, pca_baseline, principal_angles,
-    DiffusionModel, DiffusionParams, FitDiagnostics, DENSE_GRAPH_NEIGHBORS, MAX_FIT_POINTS,
-    MAX_SPARSE_FIT_POINTS,
+    aligned_relative_error, diffusion_map, diffusion_map_observed, fit, fit_observed,
+    landmark_error, pca_baseline, principal_angles, DiffusionModel, DiffusionParams,
+    FitDiagnostics, DENSE_GRAPH_NEIGHBORS, MAX_FIT_POINTS, MAX_SPARSE_FIT_POINTS,
 };
 pub use pca::Pca;

@@ -39,8 +39,12 @@ use rayon::prelude::*;
 
 /// Shift σ of the shift-invert transform.
 pub const SHIFT: f64 = 1e-5;
-/// Largest Cholesky factor, as a multiple of the stored entries of S.
-pub const FILL_FACTOR: usize = 60;
+/// Largest Cholesky factor, as a multiple of the stored entries of S. Above it the
+/// Chebyshev-filtered iteration is used: its block products run in parallel, while the
+/// factorisation and the triangular solves are sequential (for thread-count-independent bits).
+/// Measured (docs/performance.md): 50 000 beat-window landmarks in 20 PCA axes give a factor
+/// of 44 × the entries of S, and shift-invert then took longer than the Chebyshev iteration.
+pub const FILL_FACTOR: usize = 20;
 /// Convergence tolerance handed to the Krylov–Schur solver.
 const TOLERANCE: f64 = 1e-12;
 /// Residual bound ‖S v − λ v‖ of the Chebyshev-filtered subspace iteration.
@@ -359,6 +363,9 @@ pub struct TopEigen {
     pub residuals: Vec<f64>,
     /// Solver used.
     pub solver: Solver,
+    /// Chebyshev solver: its block products and the lower spectrum bound (0 and NaN for the
+    /// other solvers).
+    pub chebyshev_work: (usize, f64),
 }
 
 fn run_krylov(op: &dyn LinOp<f64>, n: usize, nev: usize, seed: u64) -> (Vec<f64>, Mat<f64>, usize) {
@@ -423,12 +430,13 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
     }
     // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
     // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
-    // the direct Krylov–Schur iteration is cheaper.
+    // the Chebyshev-filtered iteration on S is cheaper.
     let budget = (FILL_FACTOR * s.nnz()).max(1 << 20);
     let llt = SparseColMat::<usize, f64>::try_new_from_triplets(n, n, &trip)
         .ok()
         .and_then(|a| factor(&a, budget));
     drop(trip);
+    let mut work = (0, f64::NAN);
     let (values, vectors, solver) = match llt {
         Some(op) => {
             let (mu, v, conv) = run_krylov(&op, n, nev, seed);
@@ -443,10 +451,13 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
         }
         None => {
             let r = super::chebyshev::top_eigen_chebyshev(s, nev, seed, CHEBYSHEV_TOLERANCE)?;
+            work = (r.products, r.lower_bound);
             (r.values, r.vectors, Solver::Chebyshev)
         }
     };
-    finish(s, values, vectors, solver)
+    let mut out = finish(s, values, vectors, solver)?;
+    out.chebyshev_work = work;
+    Ok(out)
 }
 
 /// Sort eigenpairs non-increasing and measure the largest residual ‖S v − λ v‖.
@@ -485,5 +496,6 @@ pub(crate) fn finish(
         residual: residuals.iter().copied().fold(0.0, f64::max),
         residuals,
         solver,
+        chebyshev_work: (0, f64::NAN),
     })
 }
