@@ -1,6 +1,6 @@
 //! Development set of the record verdict, and the choice of its ectopy-aware parameters on it:
-//! `cargo run --release --example dev_short -- [MITDB_DIR] [--out PAGE.md]`
-//! (default `../shared/data/mitdb`; the page docs/validation-short-dev.md is made with
+//! `cargo run --release --example dev_short -- [MITDB_DIR] [--noise NSTDB_DIR] [--out PAGE.md]`
+//! (defaults `../shared/data/mitdb` and `../shared/data/nstdb`; the page docs/validation-short-dev.md is made with
 //! `--out docs/validation-short-dev.md`).
 //!
 //! The set: every MIT-BIH Arrhythmia record of MITDB_DIR with reference annotations, first lead,
@@ -8,7 +8,9 @@
 //! segments. A segment's label is its majority rhythm: `irregular` when the AFIB rhythm label
 //! covers at least half of it; `regular` when the normal rhythm (`N`) covers at least half of it
 //! and at most one reference beat is not a normal or bundle-branch beat (`N`, `L`, `R`, `e`,
-//! `j`); `other` otherwise (flutter, ectopy, bigeminy, paced rhythm, …). Beside it, synthetic
+//! `j`); `other` otherwise (flutter, ectopy, bigeminy, paced rhythm, …). Beside it, the noisy
+//! 30 s segments of the MIT-BIH Noise Stress Test records at 0 and −6 dB (`unreadable`, see
+//! [`noise_segments`]), and synthetic
 //! 30 s records with exact truth from the library's generator: sinus rhythm (`regular`), an
 //! irregular rhythm over the whole record (`irregular`), ventricular bigeminy and trigeminy and
 //! frequent isolated ectopic beats (`other`), 10 seeds each.
@@ -35,7 +37,6 @@ const COSEN_GRID: [f64; 2] = [-1.4, -1.0];
 const AGREEMENT_GRID: [f64; 4] = [0.8, 0.7, 0.6, 0.5];
 
 struct Segment {
-    name: String,
     truth: VerdictClass,
     record: Record,
 }
@@ -79,8 +80,7 @@ fn mitdb_segments(dir: &std::path::Path) -> anyhow::Result<Vec<Segment>> {
     heads.sort();
     let mut out = Vec::new();
     for hea in heads {
-        let loaded =
-            beatfold::io::read_record(&hea, &beatfold::io::ReadOptions::default())?.record;
+        let loaded = beatfold::io::read_record(&hea, &beatfold::io::ReadOptions::default())?.record;
         let fs = loaded.fs_hz;
         let x = resample(&loaded.leads[0].samples, fs, FS_OUT);
         let ann = &loaded.annotations;
@@ -112,7 +112,6 @@ fn mitdb_segments(dir: &std::path::Path) -> anyhow::Result<Vec<Segment>> {
             };
             let stem = hea.file_stem().and_then(|s| s.to_str()).unwrap_or("?");
             out.push(Segment {
-                name: format!("{stem}@{a:.0}"),
                 truth,
                 record: one_lead(
                     format!("{stem}@{a:.0}"),
@@ -120,6 +119,42 @@ fn mitdb_segments(dir: &std::path::Path) -> anyhow::Result<Vec<Segment>> {
                     x[k * seg_n..(k + 1) * seg_n].to_vec(),
                 ),
             });
+        }
+    }
+    Ok(out)
+}
+
+/// Noise-stress segments: the 30 s segments lying wholly inside the noisy 2-minute stretches
+/// (from 5 min, alternating with 2 clean minutes, as the database's description states) of the
+/// records at 0 dB and −6 dB, labelled `unreadable` (at or below 0 dB signal-to-noise ratio the
+/// noise is judged too strong to classify the rhythm: a choice of this set, `common practice`
+/// has no single threshold).
+fn noise_segments(dir: &std::path::Path) -> anyhow::Result<Vec<Segment>> {
+    let mut out = Vec::new();
+    for stem in ["118e00", "118e_6", "119e00", "119e_6"] {
+        let hea = dir.join(format!("{stem}.hea"));
+        if !hea.is_file() {
+            continue;
+        }
+        let loaded = beatfold::io::read_record(&hea, &beatfold::io::ReadOptions::default())?.record;
+        let x = resample(&loaded.leads[0].samples, loaded.fs_hz, FS_OUT);
+        let seg_n = (SEGMENT_S * FS_OUT) as usize;
+        let mut start = 300.0;
+        while start < loaded.duration_s() {
+            let end = (start + 120.0f64).min(loaded.duration_s());
+            let mut a = start;
+            while a + SEGMENT_S <= end {
+                let i0 = (a * FS_OUT) as usize;
+                if i0 + seg_n <= x.len() {
+                    let name = format!("{stem}@{a:.0}");
+                    out.push(Segment {
+                        truth: VerdictClass::Unreadable,
+                        record: one_lead(name, FS_OUT, x[i0..i0 + seg_n].to_vec()),
+                    });
+                }
+                a += SEGMENT_S;
+            }
+            start += 240.0;
         }
     }
     Ok(out)
@@ -171,7 +206,6 @@ fn synthetic_segments() -> anyhow::Result<Vec<Segment>> {
         for (name, truth, sp) in cases {
             let rec = synthesize(&sp)?;
             out.push(Segment {
-                name: format!("synthetic-{name}-{seed}"),
                 truth,
                 record: one_lead(
                     format!("synthetic-{name}-{seed}"),
@@ -202,10 +236,18 @@ fn score(segs: &[Segment], ev: &[VerdictEvidence], vp: &VerdictParams) -> LabelS
 fn main() -> anyhow::Result<()> {
     let args: Vec<String> = std::env::args().skip(1).collect();
     let mut dir = PathBuf::from("../shared/data/mitdb");
+    let mut noise_dir = PathBuf::from("../shared/data/nstdb");
     let mut out = None;
     let mut i = 0;
     while i < args.len() {
         match args[i].as_str() {
+            "--noise" => {
+                noise_dir = PathBuf::from(
+                    args.get(i + 1)
+                        .ok_or_else(|| anyhow::anyhow!("--noise needs a value"))?,
+                );
+                i += 2;
+            }
             "--out" => {
                 out = Some(PathBuf::from(
                     args.get(i + 1)
@@ -222,6 +264,9 @@ fn main() -> anyhow::Result<()> {
     let t0 = std::time::Instant::now();
     let mut segs = mitdb_segments(&dir)?;
     let n_mitdb = segs.len();
+    let noise = noise_segments(&noise_dir)?;
+    let n_noise = noise.len();
+    segs.extend(noise);
     segs.extend(synthetic_segments()?);
     let count = |c: VerdictClass| segs.iter().filter(|s| s.truth == c).count();
     let mut page = String::new();
@@ -229,17 +274,21 @@ fn main() -> anyhow::Result<()> {
     writeln!(w, "# Development set of the record verdict\n")?;
     writeln!(
         w,
-        "Made by `cargo run --release --example dev_short -- {} --out docs/validation-short-dev.md` \
+        "Made by `cargo run --release --example dev_short -- {} --noise {} --out docs/validation-short-dev.md` \
          (do not edit by hand; the set is described in the example's header). {} segments of 30 s \
-         at 300 Hz from the MIT-BIH Arrhythmia records of the folder (Moody & Mark 2001) and {} \
-         synthetic 30 s records: {} labelled irregular, {} regular, {} other. The short-record \
-         challenge sample is not used here. {}\n",
+         at 300 Hz from the MIT-BIH Arrhythmia records of the folder (Moody & Mark 2001), {} \
+         noisy 30 s segments of the MIT-BIH Noise Stress Test records at 0 and −6 dB (Moody, \
+         Muldrow & Mark 1984) and {} synthetic 30 s records: {} labelled irregular, {} regular, \
+         {} other, {} unreadable. The short-record challenge sample is not used here. {}\n",
         dir.display(),
+        noise_dir.display(),
         n_mitdb,
-        segs.len() - n_mitdb,
+        n_noise,
+        segs.len() - n_mitdb - n_noise,
         count(VerdictClass::Irregular),
         count(VerdictClass::Regular),
         count(VerdictClass::Other),
+        count(VerdictClass::Unreadable),
         beatfold::NOTICE_SHORT
     )?;
     writeln!(

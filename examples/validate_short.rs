@@ -70,9 +70,9 @@ fn main() -> anyhow::Result<()> {
          2017, Clifford et al. 2017; see the folder's SOURCE.md). Every parameter at its default \
          (docs/methods.md, \"Record verdict\"). The ectopy-aware parameters (`base_tolerance` \
          {}, `off_base_min` {}) and `min_agreement_plausible` ({}) were chosen on the development \
-         set of docs/validation-short-dev.md (MIT-BIH segments and synthetic records), the other \
-         thresholds come from the literature; none was chosen on this sample, which is scored \
-         once. {}\n",
+         set of docs/validation-short-dev.md (MIT-BIH segments, noise-stress segments and \
+         synthetic records), the other thresholds come from the literature; none was chosen on \
+         this sample (docs/methods.md, \"Record verdict\", says how often it was scored). {}\n",
         dir.display(),
         s.n,
         labels.file_name().and_then(|n| n.to_str()).unwrap_or("labels"),

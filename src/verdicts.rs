@@ -41,9 +41,8 @@ pub fn verdict_of_beats(
     // When the detectors disagree, the beats of the second detector are used if the primary's
     // are implausible and the second's are not (see `VerdictParams::min_agreement_plausible`).
     let second_rr = crate::beats::rr_intervals_s(&b.second, rec.fs_hz);
-    let use_second = b.agreement < p.verdict.min_agreement
-        && !plausible_rr(&b.rr_s)
-        && plausible_rr(&second_rr);
+    let use_second =
+        b.agreement < p.verdict.min_agreement && !plausible_rr(&b.rr_s) && plausible_rr(&second_rr);
     let (samples, rr_s) = if use_second {
         (&b.second, &second_rr)
     } else {
