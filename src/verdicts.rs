@@ -15,7 +15,9 @@ use crate::pipeline::{self, AnalyzeParams, BeatsResult};
 use crate::record::Record;
 use crate::rhythm::label_score::{LabelMap, LabelScore};
 use crate::rhythm::recurrence::RqaWindow;
-use crate::rhythm::verdict::{decide, evidence, Verdict, VerdictClass, VerdictEvidence};
+use crate::rhythm::verdict::{
+    decide, evidence, plausible_rr, Verdict, VerdictClass, VerdictEvidence,
+};
 use crate::signal::QualitySegment;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
@@ -36,12 +38,22 @@ pub fn verdict_of_beats(
         .map(|l| l.samples.as_slice())
         .unwrap_or(&[]);
     let ap = p.verdict.atrial(&p.atrial);
-    let pw = crate::rhythm::atrial::p_wave_index_with(&b.conditioned, &b.samples, rec.fs_hz, &ap)?;
+    // When the detectors disagree, the beats of the second detector are used if the primary's
+    // are implausible and the second's are not (see `VerdictParams::min_agreement_plausible`).
+    let second_rr = crate::beats::rr_intervals_s(&b.second, rec.fs_hz);
+    let use_second =
+        b.agreement < p.verdict.min_agreement && !plausible_rr(&b.rr_s) && plausible_rr(&second_rr);
+    let (samples, rr_s) = if use_second {
+        (&b.second, &second_rr)
+    } else {
+        (&b.samples, &b.rr_s)
+    };
+    let pw = crate::rhythm::atrial::p_wave_index_with(&b.conditioned, samples, rec.fs_hz, &ap)?;
     let e = evidence(
         raw,
         rec.fs_hz,
-        &b.samples,
-        &b.rr_s,
+        samples,
+        rr_s,
         &pw.index,
         pw.accepted,
         b.agreement,
