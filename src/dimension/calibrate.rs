@@ -11,7 +11,11 @@
 //!
 //! Rule (ours, from those sources): for an estimator with the suite's settings and m points, its
 //! reference curve g(δ) is the raw estimate on m points drawn uniformly from the unit cube
-//! [0, 1]^δ (seeded by m and δ only, so the same data always get the same correction), for δ on
+//! [0, 1]^δ (seeded by m and δ only, so the same data always get the same correction; TwoNN and
+//! the MLE read the neighbour distances of the first [`REFERENCE_ROWS`] of the m points, found
+//! among all m, and the correlation sum counts the pairs of at most ⌈[`REFERENCE_PAIRS`] /
+//! (m − 1)⌉ reference points, which keeps the density and the boundary of an m-point sample
+//! at a fraction of the cost when m is large; below 5000 points nothing is cut), for δ on
 //! the ladder 1, 2, …, 12, then ×1.12 (rounded up), ending at the ambient dimension D (a set in
 //! D coordinates cannot have a larger dimension). g is made non-decreasing (running maximum). A
 //! raw value r maps to the δ where g(δ) = r by linear interpolation between ladder steps; below
@@ -50,7 +54,26 @@ pub struct Correction {
 type CacheKey = (Method, usize, usize, String);
 
 /// Version of the on-disk reference values; bumped whenever an estimator's raw value changes.
-pub const CACHE_VERSION: u32 = 2;
+pub const CACHE_VERSION: u32 = 3;
+/// Points of a reference sample whose neighbour distances enter TwoNN and the MLE (their
+/// neighbours are searched among all m points, so the sample keeps the data's density).
+pub const REFERENCE_ROWS: usize = 5000;
+/// Pairs the correlation sum of a reference sample counts at least: its reference points are
+/// cut from `correlation_refs` to ⌈this / (m − 1)⌉ when that is fewer (every pair with a
+/// reference point stays an unbiased draw of the m-point sample's pairs).
+pub const REFERENCE_PAIRS: usize = 5_000_000;
+
+/// The settings the reference samples run with: the suite's, with the correlation sum's
+/// reference points cut as [`REFERENCE_PAIRS`] says.
+fn reference_params(p: &SuiteParams, m: usize) -> SuiteParams {
+    SuiteParams {
+        correlation_refs: p
+            .correlation_refs
+            .min(REFERENCE_PAIRS.div_ceil(m.saturating_sub(1).max(1)))
+            .max(2),
+        ..p.clone()
+    }
+}
 /// Base of the reference cubes' seeds (each cube's seed also mixes in m and δ).
 const REFERENCE_SEED: u64 = 0x00C0_FFEE;
 
@@ -180,10 +203,11 @@ fn reference_values(
     };
     if !missing.is_empty() {
         let pts = reference_cube(m, delta);
-        let table = Tables::build(&missing, p, &pts)?;
+        let table = Tables::build_rows(&missing, p, &pts, REFERENCE_ROWS)?;
+        let q = reference_params(p, m);
         let mut found = Vec::new();
         for &x in &missing {
-            let v = raw_estimate(x, &pts, table.as_ref(), p)
+            let v = raw_estimate(x, &pts, table.as_ref(), &q)
                 .ok()
                 .filter(|v| v.is_finite());
             found.push((x, v));
@@ -287,6 +311,16 @@ pub(crate) fn correct_estimates(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn reference_cuts_only_large_samples() {
+        let p = SuiteParams::default();
+        for m in [100, 2500, 5000] {
+            assert_eq!(reference_params(&p, m).correlation_refs, p.correlation_refs);
+        }
+        assert_eq!(reference_params(&p, 20_000).correlation_refs, 251);
+        assert!(reference_params(&p, 20_000).correlation_refs * 19_999 >= REFERENCE_PAIRS);
+    }
 
     #[test]
     fn ladder_and_inversion() {

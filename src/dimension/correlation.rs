@@ -55,20 +55,6 @@ pub fn correlation_counts(
         )));
     }
     let per = points.n - 1;
-    let rows: Vec<Vec<f64>> = refs
-        .par_iter()
-        .map(|&i| {
-            let xi = points.row(i);
-            let mut d: Vec<f64> = points
-                .rows()
-                .enumerate()
-                .filter(|&(j, _)| j != i)
-                .map(|(_, xj)| sqdist(xi, xj).sqrt())
-                .collect();
-            d.sort_unstable_by(f64::total_cmp);
-            d
-        })
-        .collect();
     let pairs = (refs.len() * per) as f64;
     let q_lo = (200.0 / pairs).max(1e-4);
     if q_lo > 0.05 {
@@ -79,13 +65,64 @@ pub fn correlation_counts(
         )));
     }
     let q_hi = (10.0 * q_lo).clamp(0.02, 0.5);
+    // Only distances up to the largest radius matter. Each row's own q_hi quantile is found by
+    // selection; the pooled q_hi quantile is at most the largest of them (M), so keeping every
+    // distance ≤ M keeps every radius and every count exact while only those are sorted.
+    let row_at = ((q_hi * per as f64) as usize).min(per - 1);
+    let fill = |buf: &mut Vec<f64>, i: usize| {
+        let xi = points.row(i);
+        buf.clear();
+        buf.extend(
+            points
+                .rows()
+                .enumerate()
+                .filter(|&(j, _)| j != i)
+                .map(|(_, xj)| sqdist(xi, xj).sqrt()),
+        );
+    };
+    // Two passes over the distances (computed twice rather than stored: n_ref × N values).
+    let cut = refs
+        .par_iter()
+        .map_init(
+            || Vec::with_capacity(per),
+            |buf, &i| {
+                fill(buf, i);
+                *buf.select_nth_unstable_by(row_at, f64::total_cmp).1
+            },
+        )
+        .reduce(|| f64::NEG_INFINITY, f64::max);
+    let rows: Vec<Vec<f64>> = refs
+        .par_iter()
+        .map_init(
+            || Vec::with_capacity(per),
+            |buf, &i| {
+                fill(buf, i);
+                buf.iter()
+                    .copied()
+                    .filter(|&v| v <= cut)
+                    .collect::<Vec<f64>>()
+            },
+        )
+        .collect();
+    let total = refs.len() * per;
     let mut all: Vec<f64> = rows.iter().flatten().copied().collect();
-    let mut radii = Vec::with_capacity(n_radii);
-    for j in 0..n_radii {
-        let q = q_lo * (q_hi / q_lo).powf(j as f64 / (n_radii - 1) as f64);
-        let pos = ((q * all.len() as f64) as usize).min(all.len() - 1);
-        let (_, v, _) = all.select_nth_unstable_by(pos, f64::total_cmp);
-        radii.push(*v);
+    // Positions among all pairs; every pair up to them is among the kept ones (see above).
+    // Largest first, so that each later selection works on the prefix the previous one left.
+    let pos: Vec<usize> = (0..n_radii)
+        .map(|j| {
+            let q = q_lo * (q_hi / q_lo).powf(j as f64 / (n_radii - 1) as f64);
+            ((q * total as f64) as usize)
+                .min(total - 1)
+                .min(all.len() - 1)
+        })
+        .collect();
+    let mut radii = vec![0.0; n_radii];
+    let mut end = all.len();
+    for j in (0..n_radii).rev() {
+        let p = pos[j].min(end - 1);
+        let (_, v, _) = all[..end].select_nth_unstable_by(p, f64::total_cmp);
+        radii[j] = *v;
+        end = p + 1;
     }
     radii.dedup();
     radii.retain(|&r| r > 0.0);
@@ -96,12 +133,23 @@ pub fn correlation_counts(
                 .to_string(),
         ));
     }
+    // Per row, how many kept distances lie below each radius: a histogram over the radii
+    // (bucket = number of radii at or below the distance), summed up.
+    let nr = radii.len();
     let counts = rows
-        .iter()
-        .flat_map(|row| {
-            radii
+        .par_iter()
+        .flat_map_iter(|row| {
+            let mut hist = vec![0u32; nr + 1];
+            for &d in row {
+                hist[radii.partition_point(|&r| r <= d)] += 1;
+            }
+            let mut acc = 0u32;
+            hist[..nr]
                 .iter()
-                .map(|&r| row.partition_point(|&d| d < r) as u32)
+                .map(|&h| {
+                    acc += h;
+                    acc
+                })
                 .collect::<Vec<_>>()
         })
         .collect();
@@ -167,5 +215,49 @@ mod tests {
         assert_eq!(curve.len(), c.radii.len() - 1);
         assert!(correlation_counts(&pts, &refs, 2).is_err());
         assert!(correlation_counts(&pts, &[1], 5).is_err());
+    }
+
+    #[test]
+    fn kept_distances_give_the_counts_of_all_distances() {
+        // Invented: a clumped set (dense blob plus sparse spread), where the rows' quantiles
+        // differ a lot; radii and counts must equal those from every distance, sorted.
+        let mut rng = ChaCha8Rng::seed_from_u64(9);
+        let mut data = Vec::new();
+        for i in 0..1500 {
+            let s = if i % 3 == 0 { 1.0 } else { 0.01 };
+            data.extend((0..3).map(|_| s * rng.gen::<f64>()));
+        }
+        let pts = Points::new(1500, 3, data).unwrap();
+        let refs: Vec<usize> = (0..300).collect();
+        let c = correlation_counts(&pts, &refs, 12).unwrap();
+        let rows: Vec<Vec<f64>> = refs
+            .iter()
+            .map(|&i| {
+                let mut d: Vec<f64> = (0..pts.n)
+                    .filter(|&j| j != i)
+                    .map(|j| sqdist(pts.row(i), pts.row(j)).sqrt())
+                    .collect();
+                d.sort_by(f64::total_cmp);
+                d
+            })
+            .collect();
+        let mut all: Vec<f64> = rows.iter().flatten().copied().collect();
+        all.sort_by(f64::total_cmp);
+        let total = all.len();
+        let q_lo = (200.0 / total as f64).max(1e-4);
+        let q_hi = (10.0 * q_lo).clamp(0.02, 0.5);
+        let mut radii: Vec<f64> = (0..12)
+            .map(|j| {
+                let q = q_lo * (q_hi / q_lo).powf(j as f64 / 11.0);
+                all[((q * total as f64) as usize).min(total - 1)]
+            })
+            .collect();
+        radii.dedup();
+        assert_eq!(c.radii, radii);
+        let counts: Vec<u32> = rows
+            .iter()
+            .flat_map(|r| radii.iter().map(|&x| r.partition_point(|&d| d < x) as u32))
+            .collect();
+        assert_eq!(c.counts, counts);
     }
 }

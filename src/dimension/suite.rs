@@ -485,6 +485,18 @@ impl Tables {
         p: &SuiteParams,
         sub: &Points,
     ) -> Result<Option<Tables>> {
+        Tables::build_rows(methods, p, sub, sub.n)
+    }
+
+    /// [`Tables::build`] with the narrow table for the first `rows` points only (their
+    /// neighbours among all points): the reference samples of the finite-sample correction need
+    /// the statistics of the neighbour distances, not a value for every point.
+    pub(crate) fn build_rows(
+        methods: &[Method],
+        p: &SuiteParams,
+        sub: &Points,
+        rows: usize,
+    ) -> Result<Option<Tables>> {
         let needs = methods.iter().any(|x| {
             matches!(
                 x,
@@ -502,7 +514,7 @@ impl Tables {
         }
         .min(m - 1);
         let wide_k = table_size(methods, p, m);
-        let (idx, dist) = knn_table(sub, k)?;
+        let (idx, dist) = knn_table_rows(sub, rows.clamp(1, m), k)?;
         let (wide_idx, wide_dist) = if wide_k > k {
             let rows = p.local_pca_centres.max(CURVE_ROWS).min(m);
             knn_table_rows(sub, rows, wide_k)?
