@@ -19,6 +19,7 @@
 #[path = "common/dump.rs"]
 mod dump;
 use beatfold::embed::{diffusion_map, knn, sparse, DiffusionParams, Pca};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -159,7 +160,7 @@ fn main() -> anyhow::Result<()> {
                 String::new()
             }
         ),
-        || diffusion_map(&pts, &p),
+        || diffusion_map(&pts, &Checked::new(p.clone())?),
     )?;
     let fit_s = t_fit.elapsed().as_secs_f64();
     if let Some(dir) = &dump {

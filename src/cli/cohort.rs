@@ -5,6 +5,7 @@ use anyhow::{bail, Result};
 use beatfold::cohort::{
     self, CohortLabels, CohortOptions, RecordOutputs, Shard, SharedParams, Status,
 };
+use beatfold::params::Checked;
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::NOTICE;
 use clap::{Args, Subcommand};
@@ -164,7 +165,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             eprintln!("[{done}/{total}] records done");
         }
     };
-    let s = cohort::run_with_progress(input, out, &opts, &progress)?;
+    let s = cohort::run_with_progress(input, out, &Checked::new(opts)?, &progress)?;
     if !quiet {
         println!(
             "{} of {} records in this run: {} analysed, {} already complete, {} failed",

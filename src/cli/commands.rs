@@ -83,7 +83,7 @@ pub fn run(cli: Cli) -> Result<()> {
                 colour_by: report::ColourBy::parse(&colour_by)?,
                 ..Default::default()
             };
-            ropts.validate()?;
+            let ropts = ropts.check()?;
             let (rec, params, info) = load(&input, &o)?;
             super::analyze::analyze_and_write(&rec, &info, &params, &out, json, &ropts, &o)
         }

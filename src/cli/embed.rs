@@ -4,6 +4,7 @@ use super::commands::{load, params_from, Out};
 use super::InputArgs;
 use anyhow::Result;
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::pipeline;
 use beatfold::NOTICE;
 use serde_json::json;
@@ -16,8 +17,12 @@ pub(super) fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::
     }
     let (rec, params, _) = load(input, o)?;
     let b = pipeline::detect_beats(&rec, &params)?;
-    let f =
-        beatfold::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &params.features)?;
+    let f = beatfold::features::beat_features(
+        &b.conditioned,
+        rec.fs_hz,
+        &b.samples,
+        &params.features(),
+    )?;
     Ok(f.points)
 }
 
@@ -51,7 +56,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
             (e, true)
         }
         None => {
-            p.check()?;
+            let p = Checked::new(p.clone()).map_err(|e| e.in_block("diffusion"))?;
             (beatfold::embed::diffusion_map(&pts, &p)?, false)
         }
     };

@@ -36,6 +36,7 @@ pub use table::{table_csv, Row, Status, COLUMNS};
 
 use crate::error::{Error, Result};
 use crate::io::{self, ReadOptions};
+use crate::params::Checked;
 use crate::pipeline::{self, AnalyzeParams, InputInfo};
 use crate::report::{self, ReportOptions};
 use crate::rhythm::label_score::{LabelMap, LabelScore};
@@ -264,6 +265,18 @@ impl CohortOptions {
     /// True when record `name` writes full outputs.
     pub fn is_full(&self, name: &str) -> bool {
         self.outputs == RecordOutputs::Full || self.full_for.iter().any(|n| n == name)
+    }
+}
+
+/// The checked blocks of checked cohort options, for the stages.
+impl Checked<CohortOptions> {
+    /// `params`, checked.
+    pub fn params(&self) -> Checked<AnalyzeParams> {
+        Checked::part_of_checked(self.params.clone())
+    }
+    /// `report`, checked.
+    pub fn report(&self) -> Checked<ReportOptions> {
+        Checked::part_of_checked(self.report.clone())
     }
 }
 
@@ -576,7 +589,12 @@ enum Outcome {
 
 /// Analyse one record into its folder; never returns an error for a bad record (an error row
 /// is written instead), only when even the error row cannot be written.
-fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> Result<Outcome> {
+fn process(
+    spec: &RecordSpec,
+    out: &Path,
+    base: &Path,
+    opts: &Checked<CohortOptions>,
+) -> Result<Outcome> {
     let dir = record_dir(out, &spec.name);
     std::fs::create_dir_all(&dir).map_err(|e| Error::io(&dir, e))?;
     let params_hash = params_sha256(spec, opts)?;
@@ -695,10 +713,10 @@ fn list_files(dir: &Path) -> Result<Vec<String>> {
     Ok(out)
 }
 
-fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Row> {
-    let mut p = opts.params.clone();
+fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &Checked<CohortOptions>) -> Result<Row> {
+    let mut p = opts.params();
     if spec.lead.is_some() {
-        p.lead = spec.lead.clone();
+        p = p.with_lead(spec.lead.clone());
     }
     let loaded = io::read_record(
         &spec.path,
@@ -717,13 +735,12 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
     let full = opts.is_full(&spec.name);
     if !full {
         // The table shows no dimension below its support: do not compute one.
-        p.dimension_min_points = p.dimension_min_points.max(opts.support.dimension_points);
+        p = p.with_dimension_min_points_at_least(opts.support.dimension_points);
     }
-    let p = crate::params::Check::check(p)?;
     let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
     compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
     if full {
-        report::write_all(&a, dir, &opts.report)?;
+        report::write_all(&a, dir, &opts.report())?;
     }
     let mut row = Row::from_analysis(&spec.name, &spec.group, &a, &opts.support);
     row.has_report = full;
@@ -751,7 +768,7 @@ fn common_base(specs: &[RecordSpec]) -> PathBuf {
 /// Errors: bad options, an unreadable record list, an output folder that cannot be written, a
 /// thread pool that cannot start. A record that cannot be read or analysed is not an error: it
 /// gets an error row.
-pub fn run(input: &Path, out: &Path, opts: &CohortOptions) -> Result<RunSummary> {
+pub fn run(input: &Path, out: &Path, opts: &Checked<CohortOptions>) -> Result<RunSummary> {
     run_with_progress(input, out, opts, &|_, _| {})
 }
 
@@ -759,10 +776,9 @@ pub fn run(input: &Path, out: &Path, opts: &CohortOptions) -> Result<RunSummary>
 pub fn run_with_progress(
     input: &Path,
     out: &Path,
-    opts: &CohortOptions,
+    opts: &Checked<CohortOptions>,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<RunSummary> {
-    opts.check()?;
     let mut specs = list_records(input)?;
     // A label file inside the cohort folder is not a recording.
     if let Some(src) = opts.labels.as_ref().and_then(|l| l.source.as_ref()) {
