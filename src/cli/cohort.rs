@@ -138,7 +138,8 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             .map(|n| n.get())
             .unwrap_or(1)
     });
-    let opts = CohortOptions {
+    // Every option is checked once, before any work.
+    let opts = Checked::new(CohortOptions {
         params,
         jobs,
         shard: a.shard.as_deref().map(Shard::parse).transpose()?,
@@ -156,7 +157,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             _ => None,
         },
         ..CohortOptions::default()
-    };
+    })?;
     if !quiet {
         println!("NOTICE: {NOTICE}");
     }
@@ -165,7 +166,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             eprintln!("[{done}/{total}] records done");
         }
     };
-    let s = cohort::run_with_progress(input, out, &Checked::new(opts)?, &progress)?;
+    let s = cohort::run_with_progress(input, out, &opts, &progress)?;
     if !quiet {
         println!(
             "{} of {} records in this run: {} analysed, {} already complete, {} failed",

@@ -182,17 +182,15 @@ pub struct CohortLabels {
 }
 
 impl CohortLabels {
-    /// Read a label file and check that every label is in the map (errors name the record
-    /// and the label).
+    /// Read a label file; [`CohortLabels::check`] (part of [`CohortOptions::check`]) says
+    /// whether every label is in the map (errors name the record and the label).
     pub fn read(path: &Path, map: &str) -> Result<CohortLabels> {
         let labels = crate::rhythm::label_score::read_labels(path)?;
-        let l = CohortLabels {
+        Ok(CohortLabels {
             labels,
             map: map.to_string(),
             source: Some(path.to_path_buf()),
-        };
-        l.check()?;
-        Ok(l)
+        })
     }
 
     /// Check the map and that every label is in it.
@@ -278,6 +276,14 @@ impl Checked<CohortOptions> {
     pub fn report(&self) -> Checked<ReportOptions> {
         Checked::part_of_checked(self.report.clone())
     }
+    /// `shared`, checked.
+    pub fn shared(&self) -> Checked<SharedParams> {
+        Checked::part_of_checked(self.shared.clone())
+    }
+    /// `labels`, checked.
+    pub fn labels(&self) -> Option<Checked<CohortLabels>> {
+        self.labels.clone().map(Checked::part_of_checked)
+    }
 }
 
 /// What [`run`] did.
@@ -317,13 +323,13 @@ pub struct Plan {
     pub format: String,
     /// Every record of the cohort, sorted.
     pub records: Vec<RecordSpec>,
-    /// Shared embedding settings.
-    pub shared: SharedParams,
+    /// Shared embedding settings (checked when the plan is read).
+    pub shared: Checked<SharedParams>,
     /// Folder the input paths are relative to, stripped from error messages in the table.
     pub base: PathBuf,
-    /// Record labels and their map, when given.
+    /// Record labels and their map, when given (checked when the plan is read).
     #[serde(default)]
-    pub labels: Option<CohortLabels>,
+    pub labels: Option<Checked<CohortLabels>>,
 }
 
 /// Value of [`Plan::format`].
@@ -794,9 +800,9 @@ pub fn run_with_progress(
     let plan = Plan {
         format: PLAN_FORMAT.to_string(),
         records: specs.clone(),
-        shared: opts.shared.clone(),
+        shared: opts.shared(),
         base: base.clone(),
-        labels: opts.labels.clone(),
+        labels: opts.labels(),
     };
     write_json(&out.join(PLAN_FILE), &plan)?;
     let pos = shard_positions(specs.len(), opts.shard);
@@ -849,7 +855,6 @@ pub fn read_plan(out: &Path) -> Result<Plan> {
             format!("`{}`, expected `{PLAN_FORMAT}`", plan.format),
         ));
     }
-    plan.shared.check()?;
     Ok(plan)
 }
 
@@ -861,9 +866,6 @@ pub fn read_plan(out: &Path) -> Result<Plan> {
 /// cannot be fitted (too few beats) is a note, not an error.
 pub fn merge(out: &Path) -> Result<MergeSummary> {
     let plan = read_plan(out)?;
-    if let Some(l) = &plan.labels {
-        l.check()?;
-    }
     let mut rows = Vec::with_capacity(plan.records.len());
     for spec in &plan.records {
         let dir = record_dir(out, &spec.name);
