@@ -81,7 +81,7 @@ pub fn separate_cmd(a: &SeparateArgs, quiet: bool) -> Result<()> {
         read: a.read.clone(),
     })?;
     let opts = ReadOptions {
-        fs_hz: a.read.fs_hz,
+        fs_hz: a.read.rate.fs_hz,
         annotations: a.read.reference.clone(),
         annotation_suffix: a.read.annotation_suffix.clone(),
         dataset: a.read.dataset.clone(),

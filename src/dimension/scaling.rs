@@ -534,8 +534,9 @@ mod tests {
                 ..p.clone()
             },
         ] {
+            // Out of range: no checked form, so no run.
             assert!(matches!(
-                kmeans_scaling(&pts, &crate::params::ck(bad.clone())),
+                crate::params::Check::check(bad.clone()),
                 Err(Error::Param { .. })
             ));
         }

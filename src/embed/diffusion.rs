@@ -1456,8 +1456,9 @@ mod tests {
                 ..p.clone()
             },
         ] {
+            // Out of range: no checked form, so no fit.
             assert!(matches!(
-                diffusion_map(&pts, &crate::params::ck(bad.clone())),
+                crate::params::Check::check(bad.clone()),
                 Err(Error::Param { .. })
             ));
         }

@@ -730,7 +730,7 @@ mod tests {
             window_end_ms: 400.0,
             ..AtrialParams::default()
         };
-        assert!(p_wave_index_with(&x, &[200], FS, &crate::params::ck(bad.clone())).is_err());
+        assert!(crate::params::Check::check(bad.clone()).is_err());
         let bad = AtrialParams {
             regular_tol: 0.0,
             ..AtrialParams::default()
