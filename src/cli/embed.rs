@@ -26,12 +26,17 @@ pub(super) fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::
     Ok(f.points)
 }
 
+/// Place the points into a saved model, or fit a new map with checked parameters.
+enum Job<'a> {
+    Place(&'a Path),
+    Fit(Checked<beatfold::embed::DiffusionParams>),
+}
+
 pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool) -> Result<()> {
     let o = Out {
         quiet: quiet || a.json,
     };
-    let pts = points_of(input, &o)?;
-    // Flag, then config file, then the library default.
+    // Flag, then config file, then the library default; checked once, before any work.
     let mut p = params_from(input)?.into_inner().diffusion;
     p.components = a.components.unwrap_or(p.components);
     p.alpha = a.alpha.unwrap_or(p.alpha);
@@ -42,8 +47,13 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         p.max_fit_points = m;
         p.landmark_check = p.landmark_check.max(1000);
     }
-    let (e, placed) = match &a.model {
-        Some(path) => {
+    let job = match &a.model {
+        Some(path) => Job::Place(path),
+        None => Job::Fit(Checked::new(p.clone()).map_err(|e| e.in_block("diffusion"))?),
+    };
+    let pts = points_of(input, &o)?;
+    let (e, placed) = match &job {
+        Job::Place(path) => {
             let model = beatfold::io::model::load_model(path)?;
             let coords = model.extend(&pts)?;
             let (pc, pk, pe) = beatfold::embed::pca_baseline(&pts, model.components())?;
@@ -55,10 +65,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
             e.pca_explained = pe;
             (e, true)
         }
-        None => {
-            let p = Checked::new(p.clone()).map_err(|e| e.in_block("diffusion"))?;
-            (beatfold::embed::diffusion_map(&pts, &p)?, false)
-        }
+        Job::Fit(p) => (beatfold::embed::diffusion_map(&pts, p)?, false),
     };
     if let Some(path) = out_path(&a.out) {
         io::write_atomic(
