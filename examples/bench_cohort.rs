@@ -13,6 +13,7 @@
 
 use beatfold::cohort::{self, CohortOptions, Shard};
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::Checked;
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 use std::path::{Path, PathBuf};
@@ -98,7 +99,7 @@ fn synth(dir: &Path, n: usize, seconds: f64, seed: u64) -> anyhow::Result<()> {
             seed.wrapping_add(i as u64),
         );
         sp.leads = 1;
-        let mut rec = synthesize(&sp)?;
+        let mut rec = synthesize(&Checked::new(sp.clone())?)?;
         rec.name = format!("S{i:05}");
         io::physionet::write_record(&rec, dir, 16, 1000.0)?;
     }
@@ -114,7 +115,7 @@ fn run(dir: &Path, out: &Path, jobs: usize, shards: usize) -> anyhow::Result<()>
     let t0 = Instant::now();
     let n;
     if shards <= 1 {
-        let s = cohort::run(dir, out, &opts)?;
+        let s = cohort::run(dir, out, &Checked::new(opts.clone())?)?;
         n = s.total;
         println!(
             "{} records: {} analysed, {} skipped, {} failed; whole run {:.2} s with {jobs} jobs",
@@ -134,7 +135,7 @@ fn run(dir: &Path, out: &Path, jobs: usize, shards: usize) -> anyhow::Result<()>
                 }),
                 ..opts.clone()
             };
-            total = cohort::run(dir, out, &o)?.total;
+            total = cohort::run(dir, out, &Checked::new(o.clone())?)?.total;
         }
         n = total;
         let t1 = Instant::now();

@@ -6,6 +6,7 @@
 //! conditioning alone, each detector alone, and `pipeline::detect_beats` (conditioning, both
 //! detectors, agreement, RR and labels; stages run concurrently on the available cores).
 
+use beatfold::params::Checked;
 use beatfold::pipeline::{self, AnalyzeParams};
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 
@@ -22,7 +23,7 @@ fn main() -> anyhow::Result<()> {
     let mut sp = SynthParams::for_scenario(Scenario::TelemetryNight, hours * 60.0, 250.0, 1);
     sp.leads = 1;
     let t0 = std::time::Instant::now();
-    let rec = synthesize(&sp)?;
+    let rec = synthesize(&Checked::new(sp.clone())?)?;
     println!(
         "synthesised {hours} h, 1 lead, 250 Hz: {} samples in {:.1} s; {} threads",
         rec.n_samples(),
@@ -32,27 +33,27 @@ fn main() -> anyhow::Result<()> {
     let x = &rec.leads[0].samples;
     let p = beatfold::params::Checked::<AnalyzeParams>::default();
     best_of_3("conditioning (band-pass, notch, baseline)", || {
-        beatfold::signal::condition(x, rec.fs_hz, &p.condition)
+        beatfold::signal::condition(x, rec.fs_hz, &Checked::new(p.condition.clone())?)
     })?;
     best_of_3("Elgendi et al. (2013) alone", || {
-        beatfold::beats::elgendi(x, rec.fs_hz, &p.elgendi)
+        beatfold::beats::elgendi(x, rec.fs_hz, &Checked::new(p.elgendi.clone())?)
     })?;
     best_of_3("Pan & Tompkins (1985) alone", || {
-        beatfold::beats::pan_tompkins(x, rec.fs_hz, &p.pan_tompkins)
+        beatfold::beats::pan_tompkins(x, rec.fs_hz, &Checked::new(p.pan_tompkins.clone())?)
     })?;
     let (c, el) = best_of_3(
         "conditioning + primary detection (Elgendi), side by side",
         || {
             rayon::join(
-                || beatfold::signal::condition(x, rec.fs_hz, &p.condition),
-                || beatfold::beats::elgendi(x, rec.fs_hz, &p.elgendi),
+                || beatfold::signal::condition(x, rec.fs_hz, &Checked::new(p.condition.clone())?),
+                || beatfold::beats::elgendi(x, rec.fs_hz, &Checked::new(p.elgendi.clone())?),
             )
         },
     );
     c?;
     el?;
-    let c = beatfold::signal::condition(x, rec.fs_hz, &p.condition)?;
-    let el = beatfold::beats::elgendi(x, rec.fs_hz, &p.elgendi)?;
+    let c = beatfold::signal::condition(x, rec.fs_hz, &Checked::new(p.condition.clone())?)?;
+    let el = beatfold::beats::elgendi(x, rec.fs_hz, &Checked::new(p.elgendi.clone())?)?;
     best_of_3("heuristic beat labels", || {
         beatfold::beats::label_beats(&c, rec.fs_hz, &el)
     });

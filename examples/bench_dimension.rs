@@ -18,6 +18,7 @@
 #[path = "common/dump.rs"]
 mod dump;
 use beatfold::dimension::{dimension_suite, kmeans_scaling, KmeansScalingParams, SuiteParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -71,7 +72,7 @@ fn main() {
         finite_sample_correction: true,
     };
     let t = Instant::now();
-    let c = kmeans_scaling(&pts, &kp).unwrap();
+    let c = kmeans_scaling(&pts, &Checked::new(kp.clone()).expect("valid parameters")).unwrap();
     let ladder_s = t.elapsed().as_secs_f64();
     println!(
         "k-means ladder k = 2..1024: {ladder_s:.2} s (target < 5 s); plateau d {:.2}",
@@ -94,7 +95,7 @@ fn main() {
         ..SuiteParams::default()
     };
     let t = Instant::now();
-    let s = dimension_suite(&pts, &sp).unwrap();
+    let s = dimension_suite(&pts, &Checked::new(sp.clone()).expect("valid parameters")).unwrap();
     let suite_s = t.elapsed().as_secs_f64();
     println!("all five estimates with 30 bootstrap resamples: {suite_s:.2} s (target < 10 s)");
     for e in &s.estimates {
@@ -117,7 +118,7 @@ fn main() {
             ..sp.clone()
         };
         let t = Instant::now();
-        let _ = dimension_suite(&pts, &p).unwrap();
+        let _ = dimension_suite(&pts, &Checked::new(p.clone()).expect("valid parameters")).unwrap();
         let secs = t.elapsed().as_secs_f64();
         println!("  {:<12} alone: {secs:.2} s", m.name());
         alone.push((m, secs));

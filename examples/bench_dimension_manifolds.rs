@@ -11,6 +11,7 @@
 //! off by more than 25 %. Nothing here is tuned: the suite's defaults are used as they are.
 
 use beatfold::dimension::{dimension_suite, Method, Status, SuiteParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use std::collections::BTreeMap;
 use std::time::Instant;
@@ -88,7 +89,8 @@ fn main() {
             ..SuiteParams::default()
         };
         let t = Instant::now();
-        let s = dimension_suite(&pts, &p).expect("suite");
+        let s = dimension_suite(&pts, &Checked::new(p.clone()).expect("valid parameters"))
+            .expect("suite");
         let secs = t.elapsed().as_secs_f64();
         let acc = table.entry((seed, noise.clone())).or_default();
         let mut line = format!(

@@ -22,6 +22,7 @@
 #[path = "common/dump.rs"]
 mod dump;
 use beatfold::dimension::{dimension_suite, subset_indices, Method, SuiteParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -84,7 +85,7 @@ fn main() {
         max_points: n,
         ..SuiteParams::default()
     };
-    let time = |p: &SuiteParams| {
+    let time = |p: &Checked<SuiteParams>| {
         let t = Instant::now();
         let s = dimension_suite(&pts, p).unwrap();
         (t.elapsed().as_secs_f64(), s)
@@ -101,11 +102,13 @@ fn main() {
             })
         })
     });
-    let (one, s) = time(&base);
-    let boot = SuiteParams {
+    let boot = Checked::new(SuiteParams {
         bootstrap: 30,
         ..base.clone()
-    };
+    })
+    .expect("valid parameters");
+    let base = Checked::new(base).expect("valid parameters");
+    let (one, s) = time(&base);
     let (boot30, sb) = time(&boot);
     let (one_warm, _) = time(&base);
     println!(

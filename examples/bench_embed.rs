@@ -22,6 +22,7 @@
 #[path = "common/dump.rs"]
 mod dump;
 use beatfold::embed::{diffusion_map_observed, knn, sparse, DiffusionParams, Pca};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -173,7 +174,7 @@ fn main() -> anyhow::Result<()> {
                 String::new()
             }
         ),
-        || diffusion_map_observed(&pts, &p, &mut on_phase),
+        || diffusion_map_observed(&pts, &Checked::new(p.clone())?, &mut on_phase),
     )?;
     let fit_s = t_fit.elapsed().as_secs_f64();
     for (name, wall, cpu) in &phases {

@@ -17,6 +17,7 @@
 #[path = "common/dump.rs"]
 mod dump;
 use beatfold::embed::{diffusion_map, DiffusionParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -79,7 +80,7 @@ fn main() -> anyhow::Result<()> {
     let mut last = None;
     for _ in 0..3 {
         let t0 = std::time::Instant::now();
-        let e = diffusion_map(&pts, &p)?;
+        let e = diffusion_map(&pts, &Checked::new(p.clone())?)?;
         times.push(t0.elapsed().as_secs_f64());
         last = Some(e);
     }

@@ -5,6 +5,7 @@
 //! folder, then times reading each back.
 
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::Checked;
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 use std::time::Instant;
 
@@ -16,7 +17,7 @@ fn main() -> anyhow::Result<()> {
         .unwrap_or(24.0);
     let mut sp = SynthParams::for_scenario(Scenario::Resting, hours * 60.0, 250.0, 3);
     sp.leads = 2;
-    let rec = synthesize(&sp)?;
+    let rec = synthesize(&Checked::new(sp.clone())?)?;
     let dir = tempfile_dir()?;
     let edf = dir.join("day.edf");
     io::edf::write_record(&rec, &edf)?;

@@ -5,6 +5,7 @@
 //! trajectory is a seeded noisy loop in 3 diffusion-like coordinates (one point per beat) and the
 //! RR series a seeded random walk; times are best of three.
 
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use beatfold::rhythm::recurrence::{rqa_timeline, RqaParams};
 use beatfold::rhythm::windowed::{windowed_variability, Span};
@@ -37,7 +38,7 @@ fn main() -> anyhow::Result<()> {
             "RQA timeline, {n} beats, window {} step {}",
             p.window, p.step
         ),
-        || rqa_timeline(&pts, &p),
+        || rqa_timeline(&pts, &Checked::new(p.clone())?),
     )?;
     println!(
         "{} windows; first DET {:.3}, LAM {:.3}; {} threads",

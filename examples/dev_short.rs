@@ -204,7 +204,7 @@ fn synthetic_segments() -> anyhow::Result<Vec<Segment>> {
             ),
         ];
         for (name, truth, sp) in cases {
-            let rec = synthesize(&sp)?;
+            let rec = synthesize(&sp.check()?)?;
             out.push(Segment {
                 truth,
                 record: one_lead(

@@ -6,6 +6,7 @@
 //! setting: the smallest R² over the seeds for ψ1, ψ2, ψ3 and the median.
 
 use beatfold::embed::{diffusion_map, Bandwidth, DiffusionParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -51,7 +52,7 @@ fn main() -> anyhow::Result<()> {
                 components: 3,
                 ..DiffusionParams::default()
             };
-            let e = diffusion_map(&pts, &p)?;
+            let e = diffusion_map(&pts, &Checked::new(p.clone())?)?;
             let mut row = [0.0; 3];
             for (j, v) in row.iter_mut().enumerate() {
                 let psi: Vec<f64> = e.coords.chunks_exact(3).map(|c| c[j]).collect();

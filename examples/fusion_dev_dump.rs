@@ -9,14 +9,15 @@
 //!   and `DIR/NAME_K.f32` (written by `scripts/fusion_dev/mknoise.py`) and writes `DIR/NAME.json`.
 
 use anyhow::{bail, Context};
-use beatfold::beats::{elgendi, pan_tompkins, DetectParams, ElgendiParams};
+use beatfold::beats::{elgendi, pan_tompkins};
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::Checked;
 use serde_json::{json, Value};
 use std::path::{Path, PathBuf};
 
 fn both(x: &[f64], fs: f64) -> anyhow::Result<Value> {
-    let pt = pan_tompkins(x, fs, &DetectParams::default())?.samples;
-    let el = elgendi(x, fs, &ElgendiParams::default())?;
+    let pt = pan_tompkins(x, fs, &Checked::default())?.samples;
+    let el = elgendi(x, fs, &Checked::default())?;
     Ok(json!({"pt": pt, "el": el}))
 }
 

@@ -22,6 +22,7 @@
 
 use beatfold::beats;
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::Checked;
 use beatfold::pipeline::{self, AnalyzeParams};
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -169,7 +170,7 @@ fn main() -> anyhow::Result<()> {
             &b.conditioned,
             &b.samples,
             rec.fs_hz,
-            &beatfold::rhythm::atrial::AtrialParams::default(),
+            &Checked::default(),
         )?;
         let atrial = pw.index;
         let sc = beatfold::rhythm::screen::screen_beats_atrial(
@@ -178,7 +179,7 @@ fn main() -> anyhow::Result<()> {
             &b.labels,
             &atrial,
             rec.fs_hz,
-            &params.screen,
+            &Checked::new(params.screen.clone())?,
         )?;
         // AF and flutter only: the open records carry no synthetic labels.
         let truth = beatfold::rhythm::screen::irregular_reference(&rec.annotations);
@@ -368,7 +369,14 @@ fn main() -> anyhow::Result<()> {
         let mut per = Vec::new();
         let mut per_missed = Vec::new();
         for (k, (smp, rr, lab, atrial, fs, truth, dur)) in kept_beats.iter().enumerate() {
-            let sc = beatfold::rhythm::screen::screen_beats_atrial(smp, rr, lab, atrial, *fs, sp)?;
+            let sc = beatfold::rhythm::screen::screen_beats_atrial(
+                smp,
+                rr,
+                lab,
+                atrial,
+                *fs,
+                &Checked::new(sp.clone())?,
+            )?;
             let found = sc.episode_bounds();
             let (rs, ds, _, _) = beatfold::rhythm::screen::duration_agreement(truth, &found, *dur);
             let ov: f64 = truth

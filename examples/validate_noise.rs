@@ -20,6 +20,7 @@ use beatfold::beats::readable::ReadableParams;
 use beatfold::beats::scoring::paired_flags;
 use beatfold::beats::{detect_leads, FuseMethod, FusionParams, VoteParams};
 use beatfold::io::{self, ReadOptions};
+use beatfold::params::Checked;
 use beatfold::pipeline::{self, AnalyzeParams};
 use beatfold::record::Record;
 use beatfold::record_score;
@@ -343,8 +344,8 @@ fn breakdown_of(
     let leads: Vec<&[f64]> = rec.leads.iter().map(|l| l.samples.as_slice()).collect();
     let fp_params = FusionParams {
         method: p.fuse_method,
-        pan_tompkins: &p.pan_tompkins,
-        elgendi: &p.elgendi,
+        pan_tompkins: &Checked::new(p.pan_tompkins.clone())?,
+        elgendi: &Checked::new(p.elgendi.clone())?,
         primary: p.primary_detector,
         match_window_s: p.score_window_s,
         window_s: p.agreement_window_s,

@@ -13,6 +13,7 @@
 //! the wall times of the phases are printed on stdout.
 
 use beatfold::io::ReadOptions;
+use beatfold::params::Checked;
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::separate::{self, BeatClass, SeparateParams, Separation};
 use std::fmt::Write as _;
@@ -82,7 +83,11 @@ fn landmark_study() -> anyhow::Result<()> {
             let mut sp = SynthParams::for_scenario(Scenario::Resting, 30.0, 250.0, 1000 + s);
             sp.ectopic_rate = 0.1;
             sp.name = format!("syn{s}");
-            Ok(separate::labelled_beats(&synthesize(&sp)?, &p, None)?)
+            Ok(separate::labelled_beats(
+                &synthesize(&Checked::new(sp.clone())?)?,
+                &p,
+                None,
+            )?)
         })
         .collect::<anyhow::Result<Vec<_>>>()?;
     let (fit, test) = recs.split_at(10);
@@ -107,7 +112,7 @@ fn landmark_study() -> anyhow::Result<()> {
             landmark_check: if l < f.n { 1000 } else { 0 },
             ..p.diffusion.clone()
         };
-        let e = embed::diffusion_map(&f, &dp)?;
+        let e = embed::diffusion_map(&f, &Checked::new(dp.clone())?)?;
         let m = e
             .model
             .as_ref()
@@ -158,7 +163,7 @@ fn main() -> anyhow::Result<()> {
     let t_load = t0.elapsed().as_secs_f64();
     let test = beats.split_off(separate::DS1.len());
     let t1 = Instant::now();
-    let inter = separate::inter_patient(&beats, &test, &p, &sp)?;
+    let inter = separate::inter_patient(&beats, &test, &p, &Checked::new(sp.clone())?)?;
     let t_inter = t1.elapsed().as_secs_f64();
     let n_beats: usize = beats.iter().chain(&test).map(|b| b.class.len()).sum();
     println!(
@@ -177,7 +182,7 @@ fn main() -> anyhow::Result<()> {
     }
     let t2 = Instant::now();
     let both: Vec<_> = beats.iter().chain(&test).cloned().collect();
-    let within = separate::within_record(&both, &p, &sp)?;
+    let within = separate::within_record(&both, &p, &Checked::new(sp.clone())?)?;
     println!(
         "within-record (44 records, 3 spaces): {:.1} s",
         t2.elapsed().as_secs_f64()

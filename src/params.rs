@@ -25,6 +25,21 @@ impl<T> Checked<T> {
     }
 }
 
+impl<T: Check> Checked<T> {
+    /// `t` checked (the same as `t.check()`).
+    pub fn new(t: T) -> Result<Checked<T>> {
+        t.check()
+    }
+
+    /// The checked form of a block that is part of an already checked block whose `validate`
+    /// covers it (e.g. `condition` of a checked `AnalyzeParams`): no second look, except a
+    /// debug assertion.
+    pub(crate) fn part_of_checked(t: T) -> Checked<T> {
+        debug_assert!(t.validate().is_ok());
+        Checked(t)
+    }
+}
+
 impl<T> Deref for Checked<T> {
     type Target = T;
     fn deref(&self) -> &T {
@@ -35,6 +50,25 @@ impl<T> Deref for Checked<T> {
 impl<T: serde::Serialize> serde::Serialize for Checked<T> {
     fn serialize<S: serde::Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
         self.0.serialize(s)
+    }
+}
+
+/// Reading a checked block checks it: a value out of range is a deserialisation error naming
+/// the key and the allowed range.
+impl<'de, T: serde::Deserialize<'de> + Check> serde::Deserialize<'de> for Checked<T> {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> std::result::Result<Self, D::Error> {
+        T::deserialize(d)?
+            .check()
+            .map_err(<D::Error as serde::de::Error>::custom)
+    }
+}
+
+/// Test parameters, checked (a panic names the problem).
+#[cfg(test)]
+pub(crate) fn ck<T: Check>(t: T) -> Checked<T> {
+    match t.check() {
+        Ok(c) => c,
+        Err(e) => panic!("test parameters out of range: {e}"),
     }
 }
 
@@ -75,6 +109,7 @@ check_by_inherent!(
     crate::signal::ConditionParams,
     crate::beats::DetectParams,
     crate::beats::ElgendiParams,
+    crate::beats::fusion::VoteParams,
     crate::beats::ec57::Ec57Rules,
     crate::beats::readable::ReadableParams,
     crate::features::FeatureParams,

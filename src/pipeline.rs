@@ -71,7 +71,7 @@ pub struct Analysis {
     /// was no recurrence quantification).
     pub recurrence_trajectory: crate::points::Points,
     /// The recurrence parameters used (threshold, window, step, line lengths).
-    pub recurrence_params: crate::rhythm::recurrence::RqaParams,
+    pub recurrence_params: crate::params::Checked<crate::rhythm::recurrence::RqaParams>,
     /// Median determinism of the recurrence windows (NaN without windows).
     pub recurrence_det_median: f64,
     /// The record's rhythm verdict (research label, never a diagnosis).
@@ -257,6 +257,79 @@ impl Check for AnalyzeParams {
     }
 }
 
+/// The checked sub-blocks of checked analysis parameters, for the stages (which take only the
+/// checked form). [`AnalyzeParams::validate`] checks each of them, so none is checked again.
+impl Checked<AnalyzeParams> {
+    /// `condition`, checked.
+    pub fn condition(&self) -> Checked<ConditionParams> {
+        Checked::part_of_checked(self.condition.clone())
+    }
+    /// `pan_tompkins`, checked.
+    pub fn pan_tompkins(&self) -> Checked<DetectParams> {
+        Checked::part_of_checked(self.pan_tompkins.clone())
+    }
+    /// `elgendi`, checked.
+    pub fn elgendi(&self) -> Checked<ElgendiParams> {
+        Checked::part_of_checked(self.elgendi.clone())
+    }
+    /// `features`, checked.
+    pub fn features(&self) -> Checked<FeatureParams> {
+        Checked::part_of_checked(self.features.clone())
+    }
+    /// `diffusion`, checked.
+    pub fn diffusion(&self) -> Checked<DiffusionParams> {
+        Checked::part_of_checked(self.diffusion.clone())
+    }
+    /// `dimension`, checked.
+    pub fn dimension(&self) -> Checked<KmeansScalingParams> {
+        Checked::part_of_checked(self.dimension.clone())
+    }
+    /// `screen`, checked.
+    pub fn screen(&self) -> Checked<rhythm::screen::ScreenParams> {
+        Checked::part_of_checked(self.screen.clone())
+    }
+    /// `atrial`, checked.
+    pub fn atrial(&self) -> Checked<rhythm::atrial::AtrialParams> {
+        Checked::part_of_checked(self.atrial.clone())
+    }
+    /// `recurrence`, checked.
+    pub fn recurrence(&self) -> Checked<rhythm::recurrence::RqaParams> {
+        Checked::part_of_checked(self.recurrence.clone())
+    }
+    /// `verdict`, checked.
+    pub fn verdict(&self) -> Checked<rhythm::verdict::VerdictParams> {
+        Checked::part_of_checked(self.verdict.clone())
+    }
+    /// The dimension suite of `analyze`: the library's [`dimension::SuiteParams`] with the
+    /// `dimension` block as its k-means part and its seed.
+    pub fn suite(&self) -> Checked<dimension::SuiteParams> {
+        Checked::part_of_checked(dimension::SuiteParams {
+            seed: self.dimension.seed,
+            kmeans: self.dimension.clone(),
+            ..dimension::SuiteParams::default()
+        })
+    }
+    /// The P-wave index parameters of the verdict (`atrial` with the verdict's template size;
+    /// both blocks allow the same sizes).
+    pub fn verdict_atrial(&self) -> Checked<rhythm::atrial::AtrialParams> {
+        Checked::part_of_checked(self.verdict.atrial(&self.atrial))
+    }
+    /// The same parameters with another lead (the lead has no range; [`prepare`] resolves it
+    /// against the record).
+    pub fn with_lead(self, lead: Option<String>) -> Self {
+        let mut t = self.into_inner();
+        t.lead = lead;
+        Checked::part_of_checked(t)
+    }
+    /// The same parameters with `dimension_min_points` raised to at least `n` (any count is
+    /// allowed).
+    pub fn with_dimension_min_points_at_least(self, n: usize) -> Self {
+        let mut t = self.into_inner();
+        t.dimension_min_points = t.dimension_min_points.max(n);
+        Checked::part_of_checked(t)
+    }
+}
+
 impl AnalyzeParams {
     /// Parse parameters from JSON text; on failure, the dotted config path of the offending key
     /// (e.g. `diffusion.components`, or `(top level)`) and the parser's error.
@@ -367,16 +440,16 @@ pub fn separate_groups_note(eigenvalues: &[f64]) -> Option<String> {
 pub fn screen_rhythm(
     b: &BeatsResult,
     fs_hz: f64,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
 ) -> Result<rhythm::screen::Screen> {
-    let atrial = rhythm::atrial::p_wave_index_with(&b.conditioned, &b.samples, fs_hz, &p.atrial)?;
+    let atrial = rhythm::atrial::p_wave_index_with(&b.conditioned, &b.samples, fs_hz, &p.atrial())?;
     rhythm::screen::screen_beats_atrial(
         &b.samples,
         &b.rr_s,
         &b.labels,
         &atrial.index,
         fs_hz,
-        &p.screen,
+        &p.screen(),
     )
 }
 
@@ -446,10 +519,11 @@ pub fn detect_beats_on(rec: &Record, li: usize, p: &Checked<AnalyzeParams>) -> R
                 .map(|(_, l)| l.samples.as_slice()),
         );
     }
+    let (pan_tompkins, elgendi) = (p.pan_tompkins(), p.elgendi());
     let fp = FusionParams {
         method: p.fuse_method,
-        pan_tompkins: &p.pan_tompkins,
-        elgendi: &p.elgendi,
+        pan_tompkins: &pan_tompkins,
+        elgendi: &elgendi,
         primary: p.primary_detector,
         match_window_s: p.score_window_s,
         window_s: p.agreement_window_s,
@@ -457,7 +531,7 @@ pub fn detect_beats_on(rec: &Record, li: usize, p: &Checked<AnalyzeParams>) -> R
     };
     // Conditioning and detection are independent: run them side by side.
     let (conditioned, det) = rayon::join(
-        || signal::condition(raw, rec.fs_hz, &p.condition),
+        || signal::condition(raw, rec.fs_hz, &p.condition()),
         || beats::detect_leads(&leads, rec.fs_hz, &fp),
     );
     let (conditioned, det) = (conditioned?, det?);
@@ -518,7 +592,8 @@ pub fn analyze(
     let b = detect_beats_on(rec, li, p)?;
     progress(2, STAGES[2]);
     let mut notes = signal::quality::quality_notes(&quality);
-    let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
+    let feats = match features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features())
+    {
         Ok(f) => f,
         Err(Error::Analysis(msg)) => {
             notes.push(format!("beat features: {msg}"));
@@ -539,14 +614,15 @@ pub fn analyze(
         // Small records: every pair enters the kernel (the dense form of Coifman & Lafon 2006);
         // a kNN graph of a few hundred beats splits into near-disconnected pieces.
         let e = if feats.points.n <= p.dense_kernel_max_beats && p.diffusion.neighbors > 0 {
-            let dense = DiffusionParams {
+            // A new block (the dense kernel for this record's beats): checked here.
+            let dense = Checked::new(DiffusionParams {
                 neighbors: 0,
                 max_fit_points: feats.points.n.clamp(p.diffusion.components + 2, 5000),
                 ..p.diffusion.clone()
-            };
+            })?;
             embed::diffusion_map(&feats.points, &dense)?
         } else {
-            embed::diffusion_map(&feats.points, &p.diffusion)?
+            embed::diffusion_map(&feats.points, &p.diffusion())?
         };
         match &e.diagnostics.note {
             Some(n) => notes.push(format!("diffusion map: {n}")),
@@ -554,12 +630,7 @@ pub fn analyze(
         }
         progress(4, STAGES[4]);
         if feats.points.n >= p.dimension_min_points {
-            let sp = dimension::SuiteParams {
-                seed: p.dimension.seed,
-                kmeans: p.dimension.clone(),
-                ..dimension::SuiteParams::default()
-            };
-            let suite = dimension::dimension_suite(&feats.points, &sp)?;
+            let suite = dimension::dimension_suite(&feats.points, &p.suite())?;
             notes.extend(suite.failures.iter().map(|f| format!("dimension: {f}")));
             let d = suite.kmeans.clone().unwrap_or_else(empty_curve);
             (e, d, Some(suite))
@@ -597,7 +668,10 @@ pub fn analyze(
             .flat_map(|r| r[..c].to_vec())
             .collect();
         let pts = crate::points::Points::new(embedding.n, c, traj)?;
-        (rhythm::recurrence::rqa_timeline(&pts, &p.recurrence)?, pts)
+        (
+            rhythm::recurrence::rqa_timeline(&pts, &p.recurrence())?,
+            pts,
+        )
     } else {
         (
             Vec::new(),
@@ -653,7 +727,7 @@ pub fn analyze(
         irregular_s,
         recurrence,
         recurrence_trajectory,
-        recurrence_params: p.recurrence.clone(),
+        recurrence_params: p.recurrence(),
         recurrence_det_median,
         verdict,
         verdict_evidence,

@@ -96,7 +96,7 @@ pub struct RhythmDurationScore {
 pub fn rhythm_duration(
     rec: &Record,
     b: &BeatsResult,
-    p: &AnalyzeParams,
+    p: &crate::params::Checked<AnalyzeParams>,
 ) -> Result<Option<RhythmDurationScore>> {
     if rec.annotations.rhythms.is_empty() {
         return Ok(None);

@@ -30,14 +30,14 @@ pub fn verdict_of_beats(
     b: &BeatsResult,
     quality: &[QualitySegment],
     screen_irregular_s: f64,
-    p: &AnalyzeParams,
+    p: &Checked<AnalyzeParams>,
 ) -> Result<(Verdict, VerdictEvidence)> {
     let raw = rec
         .leads
         .get(lead)
         .map(|l| l.samples.as_slice())
         .unwrap_or(&[]);
-    let ap = p.verdict.atrial(&p.atrial);
+    let ap = p.verdict_atrial();
     // When the detectors disagree, the beats of the second detector are used if the primary's
     // are implausible and the second's are not (see `VerdictParams::min_agreement_plausible`).
     let second_rr = crate::beats::rr_intervals_s(&b.second, rec.fs_hz);
@@ -137,13 +137,21 @@ pub fn geometry_index(windows: &[RqaWindow]) -> f64 {
 /// The beat-geometry index of a record computed on its own (features, dense diffusion map,
 /// recurrence of the first `p.recurrence_components` coordinates) for the comparison of
 /// docs/validation.md; NaN when the record has too few beats with complete windows.
-pub fn record_geometry_index(rec: &Record, b: &BeatsResult, p: &AnalyzeParams) -> Result<f64> {
-    let feats =
-        match crate::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &p.features) {
-            Ok(f) => f,
-            Err(Error::Analysis(_)) => return Ok(f64::NAN),
-            Err(e) => return Err(e),
-        };
+pub fn record_geometry_index(
+    rec: &Record,
+    b: &BeatsResult,
+    p: &Checked<AnalyzeParams>,
+) -> Result<f64> {
+    let feats = match crate::features::beat_features(
+        &b.conditioned,
+        rec.fs_hz,
+        &b.samples,
+        &p.features(),
+    ) {
+        Ok(f) => f,
+        Err(Error::Analysis(_)) => return Ok(f64::NAN),
+        Err(e) => return Err(e),
+    };
     if feats.points.n < 8 || feats.points.n < p.diffusion.components + 2 {
         return Ok(f64::NAN);
     }
@@ -152,7 +160,8 @@ pub fn record_geometry_index(rec: &Record, b: &BeatsResult, p: &AnalyzeParams) -
         max_fit_points: feats.points.n.clamp(p.diffusion.components + 2, 5000),
         ..p.diffusion.clone()
     };
-    let e = match crate::embed::diffusion_map(&feats.points, &dense) {
+    // A new block (the dense kernel for this record's beats): checked here.
+    let e = match crate::embed::diffusion_map(&feats.points, &Checked::new(dense)?) {
         Ok(e) => e,
         Err(Error::Analysis(_)) => return Ok(f64::NAN),
         Err(err) => return Err(err),
@@ -169,7 +178,7 @@ pub fn record_geometry_index(rec: &Record, b: &BeatsResult, p: &AnalyzeParams) -
     let pts = crate::points::Points::new(e.n, c, traj)?;
     Ok(geometry_index(&crate::rhythm::recurrence::rqa_timeline(
         &pts,
-        &p.recurrence,
+        &p.recurrence(),
     )?))
 }
 

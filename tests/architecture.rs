@@ -67,3 +67,130 @@ fn the_embedding_model_file_lives_in_io() {
     );
     assert!(!text.contains("read_text") && !text.contains("std::fs"));
 }
+
+/// The library code of `file` before its test module (test files give nothing).
+fn code_of(file: &Path) -> String {
+    if file.file_name().is_some_and(|n| n == "tests.rs") {
+        return String::new();
+    }
+    let text = std::fs::read_to_string(file).unwrap();
+    // Cut at the first `#[cfg(test)]` that opens an inline module (an out-of-line `mod tests;`
+    // may come before library code).
+    let mut end = text.len();
+    let mut from = 0;
+    while let Some(k) = text[from..].find("#[cfg(test)]") {
+        let at = from + k;
+        let next = text[at..].lines().nth(1).unwrap_or("");
+        if next.trim_end().ends_with('{') {
+            end = at;
+            break;
+        }
+        from = at + 1;
+    }
+    text[..end].to_string()
+}
+
+/// Parameters are checked once, by the caller: no stage (nor an orchestrating module that calls
+/// the stages) checks a parameter block it was given. `.check()` and `.validate()` appear only
+/// inside the `check`/`validate` functions that make up a block's own check (a block checking
+/// its sub-blocks). A block a stage builds itself (e.g. the dense kernel for a record's beats)
+/// is new and is checked by `Checked::new`, which this test allows.
+#[test]
+fn stages_do_not_check_their_parameters_again() {
+    let mut files = Vec::new();
+    for m in [
+        "signal",
+        "beats",
+        "features",
+        "embed",
+        "dimension",
+        "rhythm",
+        "synth",
+        "report",
+        "cohort",
+        "separate",
+    ] {
+        rust_files(&src().join(m), &mut files);
+    }
+    files.push(src().join("verdicts.rs"));
+    files.push(src().join("record_score.rs"));
+    let mut found = Vec::new();
+    for f in &files {
+        let code = code_of(f);
+        let mut current_fn = String::new();
+        for (i, line) in code.lines().enumerate() {
+            let t = line.trim_start();
+            if t.starts_with("//") {
+                continue;
+            }
+            if let Some(k) = t.find("fn ") {
+                let name: String = t[k + 3..]
+                    .chars()
+                    .take_while(|c| c.is_alphanumeric() || *c == '_')
+                    .collect();
+                if !name.is_empty() && (k == 0 || t[..k].ends_with(' ')) {
+                    current_fn = name;
+                }
+            }
+            let calls = [
+                ".check()",
+                ".validate()",
+                "Check::check(",
+                "Check::validate(",
+            ];
+            if calls.iter().any(|c| line.contains(c))
+                && current_fn != "check"
+                && current_fn != "validate"
+            {
+                found.push(format!("{}:{}: {}", f.display(), i + 1, t));
+            }
+        }
+    }
+    assert!(files.len() > 30);
+    assert!(
+        found.is_empty(),
+        "checks inside stages:\n{}",
+        found.join("\n")
+    );
+}
+
+/// Every stage entry point takes its parameters in the checked form only.
+#[test]
+fn stage_entry_points_take_checked_parameters() {
+    let entries = [
+        ("signal/condition.rs", "condition"),
+        ("signal/condition.rs", "new"),
+        ("features/window.rs", "beat_features"),
+        ("features/window.rs", "beat_features_scaled"),
+        ("rhythm/screen.rs", "screen"),
+        ("rhythm/screen.rs", "screen_beats"),
+        ("rhythm/screen.rs", "screen_beats_atrial"),
+        ("rhythm/atrial.rs", "p_wave_index_with"),
+        ("rhythm/recurrence.rs", "recurrence_matrix"),
+        ("rhythm/recurrence.rs", "rqa_timeline"),
+        ("beats/pan_tompkins.rs", "new"),
+        ("beats/pan_tompkins.rs", "pan_tompkins"),
+        ("beats/elgendi.rs", "elgendi"),
+        ("beats/fusion.rs", "detect_leads_with"),
+        ("embed/diffusion.rs", "fit"),
+        ("embed/diffusion.rs", "diffusion_map"),
+        ("embed/diffusion.rs", "landmark_error"),
+        ("dimension/suite.rs", "dimension_suite"),
+        ("dimension/scaling.rs", "kmeans_scaling"),
+        ("dimension/local_pca.rs", "local_pca_counts"),
+        ("synth/mod.rs", "synthesize"),
+        ("report/mod.rs", "write_all"),
+        ("cohort/mod.rs", "run"),
+        ("cohort/mod.rs", "run_with_progress"),
+        ("separate/protocol.rs", "within_record"),
+        ("separate/protocol.rs", "inter_patient"),
+    ];
+    for (file, name) in entries {
+        let code = code_of(&src().join(file));
+        let start = code
+            .find(&format!("pub fn {name}("))
+            .unwrap_or_else(|| panic!("{file}: no `pub fn {name}`"));
+        let sig = &code[start..start + code[start..].find('{').unwrap()];
+        assert!(sig.contains("Checked<"), "{file}: {name} takes {sig}");
+    }
+}

@@ -4,6 +4,7 @@
 
 use beatfold::cohort::{self, CohortOptions, RecordOutputs, Shard, Status};
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::report::ReportOptions;
 use beatfold::synth::{self, Scenario, SynthParams};
 use std::path::{Path, PathBuf};
@@ -13,7 +14,7 @@ fn make_cohort(dir: &Path) {
     for k in 1u64..=3 {
         let scen = Scenario::from_name("resting").unwrap();
         let p = SynthParams::for_scenario(scen, 1.0, 250.0, k);
-        let rec = synth::synthesize(&p).unwrap();
+        let rec = synth::synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
         let path = dir.join(format!("rec{k}.csv"));
         io::csv::write_record(&rec, &path).unwrap();
         io::annotations::write(
@@ -62,7 +63,7 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
         outputs: RecordOutputs::Full,
         ..CohortOptions::default()
     };
-    let s = cohort::run(&input, &out, &full_report).unwrap();
+    let s = cohort::run(&input, &out, &Checked::new(full_report.clone()).unwrap()).unwrap();
     assert_eq!((s.total, s.analysed, s.skipped, s.failed), (4, 3, 0, 1));
     let m = s.merged.unwrap();
     let names: Vec<&str> = m.rows.iter().map(|r| r.name.as_str()).collect();
@@ -106,7 +107,7 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
     // Re-run: the complete records are skipped (outputs untouched), the broken one retried.
     let h5 = out.join("records/rec1/results.h5");
     let before = std::fs::metadata(&h5).unwrap().modified().unwrap();
-    let s2 = cohort::run(&input, &out, &full_report).unwrap();
+    let s2 = cohort::run(&input, &out, &Checked::new(full_report.clone()).unwrap()).unwrap();
     assert_eq!((s2.analysed, s2.skipped, s2.failed), (0, 3, 1));
     assert_eq!(std::fs::metadata(&h5).unwrap().modified().unwrap(), before);
     assert_eq!(read(&out.join("cohort.csv")), csv.as_bytes());
@@ -116,10 +117,11 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
     let s3 = cohort::run(
         &input,
         &out,
-        &CohortOptions {
+        &Checked::new(CohortOptions {
             jobs: 1,
             ..full_report.clone()
-        },
+        })
+        .unwrap(),
     )
     .unwrap();
     assert_eq!((s3.analysed, s3.skipped, s3.failed), (1, 2, 1));
@@ -130,17 +132,22 @@ fn broken_record_is_an_error_row_and_rerun_skips_complete_records() {
 fn resume_after_interruption_gives_identical_outputs() {
     let (t, input) = setup();
     let full = t.path().join("full");
-    cohort::run(&input, &full, &opts(2, None)).unwrap();
+    cohort::run(&input, &full, &Checked::new(opts(2, None)).unwrap()).unwrap();
     // Simulated kill: shard 0/2 (broken, rec2) finished, shard 1/2 (rec1, rec3) died in the
     // middle of rec1 (a half-written temporary file and a damaged results file, no manifest),
     // nothing merged.
     let out = t.path().join("out");
-    cohort::run(&input, &out, &opts(1, Some(Shard::parse("0/2").unwrap()))).unwrap();
+    cohort::run(
+        &input,
+        &out,
+        &Checked::new(opts(1, Some(Shard::parse("0/2").unwrap()))).unwrap(),
+    )
+    .unwrap();
     let dir = out.join("records/rec1");
     std::fs::create_dir_all(&dir).unwrap();
     std::fs::write(dir.join(".results.h5.tmp-1-0"), b"partial").unwrap();
     std::fs::write(dir.join("results.h5"), b"partial").unwrap();
-    let s = cohort::run(&input, &out, &opts(2, None)).unwrap();
+    let s = cohort::run(&input, &out, &Checked::new(opts(2, None)).unwrap()).unwrap();
     // rec2 is complete and skipped; rec1 and rec3 are analysed; broken is retried and fails.
     assert_eq!((s.analysed, s.skipped, s.failed), (2, 1, 1), "{s:?}");
     assert_eq!(
@@ -173,9 +180,9 @@ fn resume_after_interruption_gives_identical_outputs() {
 fn shards_merge_to_the_single_run_and_threads_do_not_change_the_table() {
     let (t, input) = setup();
     let single = t.path().join("single");
-    cohort::run(&input, &single, &opts(1, None)).unwrap();
+    cohort::run(&input, &single, &Checked::new(opts(1, None)).unwrap()).unwrap();
     let two = t.path().join("two");
-    cohort::run(&input, &two, &opts(2, None)).unwrap();
+    cohort::run(&input, &two, &Checked::new(opts(2, None)).unwrap()).unwrap();
     assert_eq!(
         read(&single.join("cohort.csv")),
         read(&two.join("cohort.csv"))
@@ -185,7 +192,7 @@ fn shards_merge_to_the_single_run_and_threads_do_not_change_the_table() {
     let s0 = cohort::run(
         &input,
         &sharded,
-        &opts(1, Some(Shard::parse("0/2").unwrap())),
+        &Checked::new(opts(1, Some(Shard::parse("0/2").unwrap()))).unwrap(),
     )
     .unwrap();
     assert!(s0.merged.is_none());
@@ -201,7 +208,7 @@ fn shards_merge_to_the_single_run_and_threads_do_not_change_the_table() {
     let s1 = cohort::run(
         &input,
         &sharded,
-        &opts(2, Some(Shard::parse("1/2").unwrap())),
+        &Checked::new(opts(2, Some(Shard::parse("1/2").unwrap()))).unwrap(),
     )
     .unwrap();
     assert_eq!(s0.selected + s1.selected, 4);
@@ -234,7 +241,7 @@ fn shared_embedding_extends_each_record_through_its_own_fit_points() {
     let out = t.path().join("out");
     let mut o = opts(2, None);
     o.shared.per_record = 40;
-    let s = cohort::run(&input, &out, &o).unwrap();
+    let s = cohort::run(&input, &out, &Checked::new(o.clone()).unwrap()).unwrap();
     let sh = s.merged.unwrap().shared.expect("a shared embedding");
     assert_eq!(sh.records, 3);
     assert_eq!(sh.fit_points, 3 * 40, "equal share per record");

@@ -5,6 +5,7 @@
 
 use beatfold::cohort::{self, CohortLabels, CohortOptions, RecordOutputs, Shard, Status};
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::synth::{self, Scenario, SynthParams};
 use std::path::Path;
 
@@ -22,7 +23,7 @@ fn make(dir: &Path, n: usize) {
     for i in 0..n {
         let mut p = SynthParams::for_scenario(scen[i % 3], 0.5, 250.0, i as u64 + 1);
         p.leads = 1;
-        let rec = synth::synthesize(&p).unwrap();
+        let rec = synth::synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
         let path = dir.join(format!("s{i:03}.csv"));
         io::csv::write_record(&rec, &path).unwrap();
     }
@@ -70,7 +71,7 @@ fn a_few_hundred_short_records_stay_light_and_shards_match() {
         ..CohortOptions::default()
     };
     let out = t.path().join("out");
-    let s = cohort::run(&input, &out, &opts).unwrap();
+    let s = cohort::run(&input, &out, &Checked::new(opts.clone()).unwrap()).unwrap();
     // The unreadable file is an error row; every other record goes on.
     assert_eq!((s.total, s.failed), (n + 1, 1), "{s:?}");
     let m = s.merged.unwrap();
@@ -123,7 +124,7 @@ fn a_few_hundred_short_records_stay_light_and_shards_match() {
             shard: Some(Shard { index, count: 3 }),
             ..opts.clone()
         };
-        cohort::run(&input, &sharded, &o).unwrap();
+        cohort::run(&input, &sharded, &Checked::new(o.clone()).unwrap()).unwrap();
     }
     cohort::merge(&sharded).unwrap();
     for f in ["cohort.csv", "cohort.h5"] {
@@ -134,7 +135,7 @@ fn a_few_hundred_short_records_stay_light_and_shards_match() {
         full_for: Vec::new(),
         ..opts.clone()
     };
-    let s2 = cohort::run(&input, &out, &again).unwrap();
+    let s2 = cohort::run(&input, &out, &Checked::new(again.clone()).unwrap()).unwrap();
     assert_eq!((s2.analysed, s2.skipped), (1, n - 1), "{s2:?}");
     assert!(!out.join("records/s001/report.html").exists());
 }
@@ -149,11 +150,11 @@ fn a_thirty_beat_record_has_no_dimension_and_says_why() {
         let mut p = SynthParams::for_scenario(Scenario::Resting, minutes, 250.0, 5);
         p.leads = 1;
         p.mean_hr_bpm = hr;
-        let rec = synth::synthesize(&p).unwrap();
+        let rec = synth::synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
         io::csv::write_record(&rec, &input.join(format!("{name}.csv"))).unwrap();
     }
     let out = t.path().join("out");
-    let m = cohort::run(&input, &out, &CohortOptions::default())
+    let m = cohort::run(&input, &out, &Checked::default())
         .unwrap()
         .merged
         .unwrap();

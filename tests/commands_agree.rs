@@ -75,13 +75,20 @@ fn a_rate_below_the_nyquist_limit_fails_the_same_way_in_every_command() {
     }
     let p = tmp.path().join("slow.csv");
     std::fs::write(&p, csv).unwrap();
+    // Reference beats for `score`.
+    std::fs::write(
+        tmp.path().join("slow.annotations.csv"),
+        "kind,sample,time_s,end_s,label\nbeat,50,1.0,,N\nbeat,100,2.0,,N\n",
+    )
+    .unwrap();
     let f = p.to_str().unwrap();
-    let runs: [&[&str]; 5] = [
+    let runs: [&[&str]; 6] = [
         &["analyze", f, "--fs", "50", "--out", "x"],
         &["beats", f, "--fs", "50"],
         &["rhythm", f, "--fs", "50"],
         &["embed", f, "--fs", "50"],
         &["dimension", f, "--fs", "50"],
+        &["score", f, "--fs", "50"],
     ];
     for args in runs {
         let o = beatfold(args, tmp.path());
@@ -89,6 +96,26 @@ fn a_rate_below_the_nyquist_limit_fails_the_same_way_in_every_command() {
         assert_eq!(o.status.code(), Some(1), "{args:?}: {err}");
         assert!(
             err.contains("50 Hz") && err.contains("Nyquist"),
+            "{args:?}: {err}"
+        );
+    }
+    // A bad parameter is refused before any work (exit 2, naming its config path), even on a
+    // file the analysis would refuse.
+    for (args, key) in [
+        (
+            &["embed", f, "--fs", "50", "--components", "0"][..],
+            "diffusion.components",
+        ),
+        (
+            &["dimension", f, "--fs", "50", "--bootstrap", "20000"][..],
+            "bootstrap",
+        ),
+    ] {
+        let o = beatfold(args, tmp.path());
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {err}");
+        assert!(
+            err.contains(key) && !err.contains("Nyquist"),
             "{args:?}: {err}"
         );
     }

@@ -2,7 +2,8 @@
 //! of McSharry et al. 2003 with noise, ectopic beats and irregular episodes), scored with the
 //! beat-by-beat 150 ms matching window of ANSI/AAMI EC57.
 
-use beatfold::beats::{pan_tompkins, score, DetectParams, Score};
+use beatfold::beats::{pan_tompkins, score, Score};
+use beatfold::params::Checked;
 use beatfold::pipeline::detect_beats;
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 
@@ -10,12 +11,12 @@ fn run(scenario: Scenario, hr: f64, seed: u64, minutes: f64) -> (Score, Score) {
     let mut p = SynthParams::for_scenario(scenario, minutes, 250.0, seed);
     p.mean_hr_bpm = hr;
     p.hr_std_bpm = p.hr_std_bpm.min(0.1 * hr);
-    let rec = synthesize(&p).unwrap();
+    let rec = synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
     // The pipeline's beats (primary detector, Elgendi et al. 2013) and the second detector
     // (Pan & Tompkins 1985) on its own.
     let b = detect_beats(&rec, &beatfold::params::Checked::default()).unwrap();
-    let pt = pan_tompkins(&rec.leads[0].samples, rec.fs_hz, &DetectParams::default()).unwrap();
+    let pt = pan_tompkins(&rec.leads[0].samples, rec.fs_hz, &Checked::default()).unwrap();
     (
         score(&reference, &b.samples, rec.fs_hz, 0.150),
         score(&reference, &pt.samples, rec.fs_hz, 0.150),
@@ -65,7 +66,7 @@ fn both_detectors_meet_99_percent_from_30_to_220_bpm_with_noise_and_ectopy() {
 fn irregular_episode_and_ectopic_beats_are_detected() {
     // telemetry-night carries a paroxysmal irregular episode and premature beats.
     let p = SynthParams::for_scenario(Scenario::TelemetryNight, 6.0, 250.0, 21);
-    let rec = synthesize(&p).unwrap();
+    let rec = synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
     let b = detect_beats(&rec, &beatfold::params::Checked::default()).unwrap();
     let reference: Vec<usize> = rec.annotations.beats.iter().map(|b| b.sample).collect();
     let s = score(&reference, &b.samples, rec.fs_hz, 0.150);

@@ -2,6 +2,7 @@
 //! datasets in `results.h5` (its `created_utc` and `elapsed_s` attributes aside) across two runs
 //! and across rayon pools of 1 and 2 threads.
 
+use beatfold::params::Checked;
 use beatfold::pipeline::{analyze, InputInfo};
 use beatfold::record::Record;
 use beatfold::report::{self, ReportOptions};
@@ -11,7 +12,7 @@ use std::path::Path;
 /// Two minutes of the telemetry-night scenario (irregular episode, ectopic beats, motion).
 fn record() -> Record {
     let p = SynthParams::for_scenario(Scenario::TelemetryNight, 2.0, 250.0, 11);
-    synthesize(&p).expect("synthetic record")
+    synthesize(&Checked::new(p.clone()).unwrap()).expect("synthetic record")
 }
 
 /// Analyse in a pool of `threads` and write summary.json and results.h5 into `dir`.
@@ -34,7 +35,7 @@ fn run_in_pool(rec: &Record, threads: usize, dir: &Path) {
             interactive: false,
             ..ReportOptions::default()
         };
-        report::write_all(&a, dir, &opts).expect("report");
+        report::write_all(&a, dir, &Checked::new(opts.clone()).unwrap()).expect("report");
     });
 }
 

@@ -2,6 +2,7 @@
 //! known dimension (sources beside each check; docs/references.md §dimension).
 
 use beatfold::dimension::{dimension_suite, Method, Status, SuiteParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -59,7 +60,11 @@ fn corrected_estimates_on_cubes_and_spheres() {
     // likelihood estimate of a Pareto exponent, relative SE 1/√N ≈ 2.6 % (Facco et al. 2017);
     // the correction divides by the slope of the reference curve (≈ 0.7 at d = 8), so ±3 SE
     // becomes ±11 %; we allow ±12 %. The cube is another draw of the reference family itself.
-    let s = dimension_suite(&cube(1500, 8, 12, 1), &params(neighbour_methods(), 0)).unwrap();
+    let s = dimension_suite(
+        &cube(1500, 8, 12, 1),
+        &Checked::new(params(neighbour_methods(), 0)).unwrap(),
+    )
+    .unwrap();
     for m in [Method::Twonn, Method::Mle] {
         let e = s.get(m).unwrap();
         assert!(e.d < 7.6, "{m:?} raw {} should read low at d = 8", e.d);
@@ -73,7 +78,11 @@ fn corrected_estimates_on_cubes_and_spheres() {
     // The 8-sphere has no boundary, so it reads closer to 8 than the cube before correction; the
     // cube-based correction may overshoot by up to the cube's own shortfall (raw cube ≈ 7, i.e.
     // 14 %), and never leaves the corrected value below the raw one.
-    let s = dimension_suite(&sphere(1500, 8, 12, 2), &params(neighbour_methods(), 0)).unwrap();
+    let s = dimension_suite(
+        &sphere(1500, 8, 12, 2),
+        &Checked::new(params(neighbour_methods(), 0)).unwrap(),
+    )
+    .unwrap();
     for m in [Method::Twonn, Method::Mle] {
         let e = s.get(m).unwrap();
         assert!(e.corrected_d >= e.d, "{m:?}");
@@ -85,7 +94,11 @@ fn corrected_estimates_on_cubes_and_spheres() {
         );
     }
     // A 3-cube needs almost no correction (references near d = 3 read ≈ 3 at this N).
-    let s = dimension_suite(&cube(1500, 3, 5, 3), &params(neighbour_methods(), 10)).unwrap();
+    let s = dimension_suite(
+        &cube(1500, 3, 5, 3),
+        &Checked::new(params(neighbour_methods(), 10)).unwrap(),
+    )
+    .unwrap();
     let c = s.consensus.as_ref().unwrap();
     assert!((c.d / 3.0 - 1.0).abs() < 0.1, "{c:?}");
     assert_eq!(c.status, Status::Resolved, "{}", c.reason);
@@ -108,7 +121,11 @@ fn line_and_blob_is_unresolved() {
         data.extend((0..6).map(|j| if j < 5 { normal.sample(&mut rng) } else { 0.0 }));
     }
     let pts = Points::new(1600, 6, data).unwrap();
-    let s = dimension_suite(&pts, &params(neighbour_methods(), 10)).unwrap();
+    let s = dimension_suite(
+        &pts,
+        &Checked::new(params(neighbour_methods(), 10)).unwrap(),
+    )
+    .unwrap();
     let c = s.consensus.as_ref().unwrap();
     eprintln!("{c:?}");
     assert_eq!(c.status, Status::Unresolved, "{}", c.sentence());
@@ -137,7 +154,11 @@ fn noisy_circle_reads_one_at_coarse_scales() {
         })
         .collect();
     let pts = Points::new(2000, 6, data).unwrap();
-    let s = dimension_suite(&pts, &params(neighbour_methods(), 10)).unwrap();
+    let s = dimension_suite(
+        &pts,
+        &Checked::new(params(neighbour_methods(), 10)).unwrap(),
+    )
+    .unwrap();
     let c = s.consensus.as_ref().unwrap();
     eprintln!("{}", c.sentence());
     let [lo, _hi] = c.scale_range.expect("a plateau");
@@ -152,7 +173,8 @@ fn noisy_circle_reads_one_at_coarse_scales() {
 fn bad_input_gets_clear_errors() {
     // Fewer points than the suite needs.
     let few = cube(15, 2, 2, 1);
-    let err = dimension_suite(&few, &params(neighbour_methods(), 0)).unwrap_err();
+    let err =
+        dimension_suite(&few, &Checked::new(params(neighbour_methods(), 0)).unwrap()).unwrap_err();
     assert!(err.to_string().contains("at least 20 points"), "{err}");
     // Non-finite coordinates are refused where the points are made, naming point and coordinate.
     let err = Points::new(2, 2, vec![0.0, f64::NAN, 1.0, 1.0]).unwrap_err();
@@ -162,13 +184,17 @@ fn bad_input_gets_clear_errors() {
     let mut data = base.data.clone();
     data.extend_from_slice(&base.data);
     let dup = Points::new(600, 3, data).unwrap();
-    let s = dimension_suite(&dup, &params(neighbour_methods(), 5)).unwrap();
+    let s = dimension_suite(&dup, &Checked::new(params(neighbour_methods(), 5)).unwrap()).unwrap();
     for e in &s.estimates {
         assert!(e.d.is_finite() && e.corrected_d.is_finite(), "{e:?}");
     }
     assert!(s.consensus.unwrap().d.is_finite());
     // All points identical: estimators that cannot work are listed, the suite does not panic.
     let same = Points::new(50, 2, vec![0.25; 100]).unwrap();
-    let s = dimension_suite(&same, &params(neighbour_methods(), 5)).unwrap();
+    let s = dimension_suite(
+        &same,
+        &Checked::new(params(neighbour_methods(), 5)).unwrap(),
+    )
+    .unwrap();
     assert!(!s.failures.is_empty());
 }

@@ -3,6 +3,7 @@
 use beatfold::dimension::{
     dimension_suite, kmeans_scaling, KmeansScalingParams, Method, SuiteParams,
 };
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -88,7 +89,7 @@ fn params(seed: u64) -> SuiteParams {
 
 /// Runs the three estimators and returns (kmeans, twonn, mle).
 fn estimates(name: &str, pts: &Points, seed: u64) -> [f64; 3] {
-    let s = dimension_suite(pts, &params(seed)).unwrap();
+    let s = dimension_suite(pts, &Checked::new(params(seed)).unwrap()).unwrap();
     assert!(s.failures.is_empty(), "{name}: {:?}", s.failures);
     let out = [Method::Kmeans, Method::Twonn, Method::Mle].map(|m| {
         let e = s.get(m).unwrap();
@@ -205,7 +206,7 @@ fn noisy_circle_in_twenty_dimensions() {
         },
         ..SuiteParams::default()
     };
-    let s = dimension_suite(&pts, &p).unwrap();
+    let s = dimension_suite(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     let c = s.kmeans.as_ref().unwrap();
     let curve: Vec<String> = c
         .curve
@@ -248,7 +249,7 @@ fn uniform_segment_distortion_is_optimal() {
         train_per_centre: None,
         finite_sample_correction: true,
     };
-    let c = kmeans_scaling(&pts, &p).unwrap();
+    let c = kmeans_scaling(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     for (k, d) in c.ks.iter().zip(&c.distortion) {
         let opt = 1.0 / (12.0 * (*k as f64).powi(2));
         eprintln!("k {k}: held-out D / (1/12k²) = {:.5}", d / opt);

@@ -2,6 +2,7 @@
 //! scripts/make_dimension_fixture.py, versions recorded in the fixture).
 
 use beatfold::dimension::{dimension_suite, mle, twonn, Method, SuiteParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 
 fn fixture() -> serde_json::Value {
@@ -68,7 +69,7 @@ fn twonn_and_mle_match_scikit_dimension() {
             bootstrap: 10,
             ..SuiteParams::default()
         };
-        let s = dimension_suite(&pts, &p).unwrap();
+        let s = dimension_suite(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
         let st = s.get(Method::Twonn).unwrap();
         let sm = s.get(Method::Mle).unwrap();
         // Source: as above (same definitions, within the 5 % of the issue).

@@ -3,6 +3,7 @@
 //! unrolled by one automatic ε, and a kernel graph that falls apart.
 
 use beatfold::embed::{diffusion_map, Bandwidth, DiffusionParams, Embedding};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -87,9 +88,9 @@ fn default_map_is_density_free_on_a_segment_and_an_arc() {
     let x = density_segment(3000, 1);
     let seg = Points::new(x.len(), 1, x.clone()).unwrap();
     let p = DiffusionParams::default();
-    let e = diffusion_map(&seg, &p).unwrap();
+    let e = diffusion_map(&seg, &Checked::new(p.clone()).unwrap()).unwrap();
     let r_seg = neumann_r2(&e, &x);
-    let e_arc = diffusion_map(&arc(&x), &p).unwrap();
+    let e_arc = diffusion_map(&arc(&x), &Checked::new(p.clone()).unwrap()).unwrap();
     let r_arc = neumann_r2(&e_arc, &x);
     eprintln!(
         "segment R2 {r_seg:?} (eps {}, {:?}); arc R2 {r_arc:?} (eps {}, {:?})",
@@ -134,7 +135,7 @@ fn one_automatic_epsilon_unrolls_the_swiss_roll_dense_and_sparse() {
             components: 2,
             ..DiffusionParams::default()
         };
-        let e = diffusion_map(&pts, &p).unwrap();
+        let e = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
         let rho = spearman(&col(&e, 0), &th);
         eprintln!(
             "neighbors {neighbors}: eps {} spearman {rho} {:?}",
@@ -168,7 +169,7 @@ fn two_separate_clusters_are_two_components_with_a_note() {
             neighbors,
             ..DiffusionParams::default()
         };
-        let e = diffusion_map(&pts, &p).unwrap();
+        let e = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
         let dg = &e.diagnostics;
         eprintln!("{neighbors}: {:?} {:?}", e.eigenvalues, dg);
         // A Markov chain's eigenvalue 1 has the multiplicity of its closed classes (common
@@ -199,7 +200,9 @@ fn constant_input_is_a_clear_error() {
             components: 2,
             ..DiffusionParams::default()
         };
-        let err = diffusion_map(&pts, &p).unwrap_err().to_string();
+        let err = diffusion_map(&pts, &Checked::new(p.clone()).unwrap())
+            .unwrap_err()
+            .to_string();
         assert!(err.contains("coincide"), "{err}");
     }
 }
@@ -217,7 +220,7 @@ fn circle_spectrum_with_the_default_kernel_is_the_laplacian_one() {
         components: 6,
         ..DiffusionParams::default()
     };
-    let e = diffusion_map(&pts, &p).unwrap();
+    let e = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     let l = &e.eigenvalues;
     // Source: Coifman & Lafon (2006), docs/references.md §5: with α = 1 the generator is the
     // Laplace–Beltrami operator, whose spectrum on the unit circle is m² (cos mθ, sin mθ, each

@@ -3,6 +3,7 @@
 //! scripts/make_embed_fixture.py (versions recorded in the fixture).
 
 use beatfold::embed::{fit, principal_angles, Bandwidth, DiffusionParams};
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use serde_json::Value;
 
@@ -34,7 +35,7 @@ fn matches_dense_reference_and_scikit_learn() {
             neighbors: f["neighbors"].as_u64().unwrap() as usize,
             ..DiffusionParams::default()
         };
-        let model = fit(&pts, &p).unwrap();
+        let model = fit(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
         let want = floats(&f[key]["eigenvalues"]);
         eprintln!("alpha {alpha}: {:?} vs {want:?}", model.eigenvalues);
         // Source: dense numpy.linalg.eigh of the same S (scripts/make_embed_fixture.py): the

@@ -6,6 +6,7 @@ use beatfold::embed::{
     aligned_relative_error, diffusion_map, fit, model_io, principal_angles, Bandwidth,
     DiffusionParams,
 };
+use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -75,7 +76,7 @@ fn circle_spectrum_pairs_and_eigenfunctions() {
     let (th, pts) = circle(2000, 21);
     // k = 40 neighbours reach an arc of about 40·π/2000 ≈ 0.063; with ε = 4e-4 the kernel there
     // is exp(−0.063²/4e-4) ≈ 5e-5, so the truncation to the kNN graph is negligible.
-    let emb = diffusion_map(&pts, &sparse(4e-4, 40, 6)).unwrap();
+    let emb = diffusion_map(&pts, &Checked::new(sparse(4e-4, 40, 6)).unwrap()).unwrap();
     let e = &emb.eigenvalues;
     eprintln!("circle eigenvalues {e:?} residual {}", emb.residual);
     // Source: Coifman & Lafon (2006): with α = 1 the generator is the Laplace–Beltrami operator;
@@ -115,7 +116,7 @@ fn swiss_roll_first_coordinate_follows_the_roll() {
         components: 2,
         ..DiffusionParams::default()
     };
-    let emb = diffusion_map(&pts, &p).unwrap();
+    let emb = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     let rho = spearman(&col(&emb.coords, 2, 0), &th);
     eprintln!("swiss roll {:?} spearman {rho}", emb.eigenvalues);
     // Source: Coifman & Lafon (2006); the Swiss roll is the common-practice benchmark: the
@@ -135,10 +136,10 @@ fn nystrom_held_out_half_matches_full_fit() {
     // where exp(−0.31²/0.01) ≈ 5e-5. The kernel (√ε = 0.1) then spans about 16 spacings of
     // the 1000-point half.
     let p = sparse(0.01, 200, 2);
-    let full = diffusion_map(&pts, &p).unwrap();
+    let full = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     let half: Vec<usize> = (0..1000).collect();
     let rest: Vec<usize> = (1000..2000).collect();
-    let model = fit(&pts.select(&half), &p).unwrap();
+    let model = fit(&pts.select(&half), &Checked::new(p.clone()).unwrap()).unwrap();
     let ext = model.extend(&pts.select(&rest)).unwrap();
     let own = model.coords_of_fit();
     // The circle's (ψ1, ψ2) pair is degenerate, so fits may differ by a rotation within it:
@@ -170,7 +171,7 @@ fn landmark_mode_reports_error_and_places_every_point() {
         landmark_check: 300,
         ..sparse(0.01, 200, 2)
     };
-    let emb = diffusion_map(&pts, &p).unwrap();
+    let emb = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     assert_eq!((emb.n, emb.fit_points), (3000, 1500));
     let err = emb.landmark_error.unwrap();
     eprintln!("landmark error {err}");
@@ -202,7 +203,7 @@ fn pca_reduction_and_saved_model_round_trip() {
         components: 3,
         ..DiffusionParams::default()
     };
-    let emb = diffusion_map(&pts, &p).unwrap();
+    let emb = diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
     let model = emb.model.as_ref().unwrap();
     assert!(matches!(&model.reduction, Some((_, k)) if *k <= 3));
     let dir = tempfile::tempdir().unwrap();
@@ -234,7 +235,7 @@ fn small_graphs_are_solved_densely_with_the_same_spectrum() {
             .collect();
         let pts = Points { n, dim: 2, data };
         let eps = (2.0 * PI / n as f64).powi(2) * 4.0;
-        let emb = diffusion_map(&pts, &sparse(eps, 12, 4)).unwrap();
+        let emb = diffusion_map(&pts, &Checked::new(sparse(eps, 12, 4)).unwrap()).unwrap();
         assert!(emb.coords.iter().all(|v| v.is_finite()));
         let e = &emb.eigenvalues;
         let base = ((1.0 - e[0]) + (1.0 - e[1])) / 2.0;
@@ -261,7 +262,7 @@ fn same_embedding_for_one_and_two_threads() {
             .num_threads(threads)
             .build()
             .unwrap()
-            .install(|| diffusion_map(&pts, &p).unwrap())
+            .install(|| diffusion_map(&pts, &Checked::new(p.clone()).unwrap()).unwrap())
     };
     let (a, b) = (run(1), run(2));
     assert_eq!(a.eigenvalues, b.eigenvalues);

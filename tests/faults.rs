@@ -4,6 +4,7 @@
 //! an `Analysis` whose quality flags and notes say what happened, never a panic; and the whole
 //! report is written for each (docs/robustness.md has the table).
 
+use beatfold::params::Checked;
 use beatfold::pipeline::{analyze, Analysis, InputInfo};
 use beatfold::record::{Annotations, Lead, Record};
 use beatfold::report::{self, ReportOptions};
@@ -15,7 +16,7 @@ const FS: f64 = 250.0;
 fn base() -> Record {
     let mut p = SynthParams::for_scenario(Scenario::Resting, 1.0, FS, 5);
     p.leads = 1;
-    synthesize(&p).expect("synthetic record")
+    synthesize(&Checked::new(p.clone()).unwrap()).expect("synthetic record")
 }
 
 fn record(samples: Vec<f64>, fs_hz: f64) -> Record {
@@ -46,7 +47,7 @@ fn run(rec: &Record) -> Analysis {
         png: false,
         ..ReportOptions::default()
     };
-    report::write_all(&a, dir.path(), &opts)
+    report::write_all(&a, dir.path(), &Checked::new(opts.clone()).unwrap())
         .unwrap_or_else(|e| panic!("report failed on a degenerate analysis: {e}"));
     assert!(dir.path().join("summary.json").exists());
     assert!(dir.path().join("report.html").exists());
@@ -214,7 +215,7 @@ fn tiny_records_are_refused_or_flagged_never_panic() {
                     png: false,
                     ..ReportOptions::default()
                 };
-                report::write_all(&a, dir.path(), &opts).unwrap();
+                report::write_all(&a, dir.path(), &Checked::new(opts.clone()).unwrap()).unwrap();
             }
             Err(e) => assert!(!e.to_string().is_empty()),
         }
@@ -386,7 +387,7 @@ fn a_failed_write_leaves_the_old_file_and_no_temporary() {
         png: false,
         ..ReportOptions::default()
     };
-    assert!(report::write_all(&a, dir.path(), &opts).is_err());
+    assert!(report::write_all(&a, dir.path(), &Checked::new(opts.clone()).unwrap()).is_err());
     let text = std::fs::read_to_string(&old).unwrap();
     assert!(
         serde_json::from_str::<serde_json::Value>(&text).is_ok(),

@@ -6,6 +6,7 @@
 
 use beatfold::embed::{self, model_io, DiffusionParams};
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::points::Points;
 use proptest::prelude::*;
@@ -76,7 +77,7 @@ fn model_bytes() -> &'static [u8] {
         };
         // A small graph: 8 neighbours, the bandwidth rank capped to match as the CLI does.
         p.overlay_kernel(None, Some(8));
-        let m = embed::fit(&cloud(60), &p).unwrap();
+        let m = embed::fit(&cloud(60), &Checked::new(p.clone()).unwrap()).unwrap();
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("model.h5");
         model_io::save_model(&m, &path).unwrap();

@@ -3,6 +3,7 @@
 
 mod report_fake;
 
+use beatfold::params::Checked;
 use beatfold::report::{write_all, ColourBy, Figure, ReportOptions};
 use beatfold::rhythm::recurrence::{recurrence_matrix, RqaParams, Threshold};
 use report_fake::{fake, label, FS_HZ, PERIOD};
@@ -11,7 +12,7 @@ use report_fake::{fake, label, FS_HZ, PERIOD};
 fn svgs(a: &beatfold::pipeline::Analysis, opts: ReportOptions) -> Vec<(Figure, String)> {
     let tmp = tempfile::tempdir().unwrap();
     let opts = ReportOptions { png: false, ..opts };
-    let w = write_all(a, tmp.path(), &opts).unwrap();
+    let w = write_all(a, tmp.path(), &Checked::new(opts.clone()).unwrap()).unwrap();
     // Only the chosen figures are written (plus summary, results file and page).
     assert_eq!(w.files.len(), opts.select.len() + 3);
     opts.select
@@ -115,7 +116,7 @@ fn recurrence_matrix_of_a_periodic_trajectory() {
         threshold: Threshold::Distance(0.05),
         ..Default::default()
     };
-    let (m, eps) = recurrence_matrix(&p, 5, 45, &params).unwrap();
+    let (m, eps) = recurrence_matrix(&p, 5, 45, &Checked::new(params.clone()).unwrap()).unwrap();
     assert_eq!(eps, 0.05);
     assert_eq!(m.len(), 40 * 40);
     for i in 0..40 {
@@ -131,7 +132,7 @@ fn recurrence_matrix_of_a_periodic_trajectory() {
     // position, so 5·C(8,2) = 140 of the 780 pairs (18 %) are at distance 0 and the 10 %
     // quantile of the distances is 0: exactly the pairs at multiples of the period recur.
     let p5 = circle(40, 5);
-    let (m, eps) = recurrence_matrix(&p5, 0, 40, &RqaParams::default()).unwrap();
+    let (m, eps) = recurrence_matrix(&p5, 0, 40, &Checked::default()).unwrap();
     assert!(eps.abs() < 1e-12, "{eps}");
     let off: usize = (0..40)
         .flat_map(|i| (0..40).map(move |j| (i, j)))
@@ -139,8 +140,8 @@ fn recurrence_matrix_of_a_periodic_trajectory() {
         .count();
     assert_eq!(off, 40 * 7);
     let params = RqaParams::default();
-    assert!(recurrence_matrix(&p, 10, 61, &params).is_err());
-    assert!(recurrence_matrix(&p, 10, 10, &params).is_err());
+    assert!(recurrence_matrix(&p, 10, 61, &Checked::new(params.clone()).unwrap()).is_err());
+    assert!(recurrence_matrix(&p, 10, 10, &Checked::new(params.clone()).unwrap()).is_err());
 }
 
 #[test]

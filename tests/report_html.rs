@@ -3,6 +3,7 @@
 
 mod report_fake;
 
+use beatfold::params::Checked;
 use beatfold::report::{write_all, ReportOptions};
 use report_fake::{fake, label, FS_HZ};
 use std::path::Path;
@@ -10,7 +11,12 @@ use std::path::Path;
 const HOSTILE: &str = "<script>alert(1)</script>";
 
 fn page(a: &beatfold::pipeline::Analysis, dir: &Path, opts: ReportOptions) -> String {
-    write_all(a, dir, &ReportOptions { png: false, ..opts }).unwrap();
+    write_all(
+        a,
+        dir,
+        &Checked::new(ReportOptions { png: false, ..opts }).unwrap(),
+    )
+    .unwrap();
     std::fs::read_to_string(dir.join("report.html")).unwrap()
 }
 

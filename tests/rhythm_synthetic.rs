@@ -1,9 +1,10 @@
 //! The irregular-rhythm research screen on synthetic recordings whose irregular episodes are
 //! known exactly (telemetry-night scenario: one paroxysmal episode in the middle third).
 
+use beatfold::params::Checked;
 use beatfold::pipeline::{analyze, AnalyzeParams, InputInfo};
 use beatfold::record::RHYTHM_IRREGULAR;
-use beatfold::rhythm::atrial::{p_wave_index_with, smoothed_index, AtrialParams};
+use beatfold::rhythm::atrial::{p_wave_index_with, smoothed_index};
 use beatfold::rhythm::screen::duration_agreement;
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 
@@ -18,7 +19,7 @@ fn screen_covers_the_synthetic_episode() {
     // 1.000, 0.999, 0.999 and Sp 0.992, 0.985, 0.978, 0.992, 0.997, 0.995.
     for seed in [1u64, 2, 3, 4, 5, 6] {
         let p = SynthParams::for_scenario(Scenario::TelemetryNight, 30.0, 250.0, seed);
-        let rec = synthesize(&p).unwrap();
+        let rec = synthesize(&Checked::new(p.clone()).unwrap()).unwrap();
         let a = analyze(
             &rec,
             &InputInfo::default(),
@@ -51,7 +52,7 @@ fn screen_covers_the_synthetic_episode() {
             &a.conditioned,
             &a.beat_samples,
             a.fs_hz,
-            &AtrialParams::default(),
+            &Checked::default(),
         )
         .unwrap();
         assert!(pw.accepted, "seed {seed}: no P-wave template");
@@ -153,7 +154,7 @@ fn short_synthetic_records_get_their_verdict() {
     use beatfold::rhythm::verdict::VerdictClass;
     let p = beatfold::params::Checked::<AnalyzeParams>::default();
     let verdict = |sp: SynthParams| {
-        let rec = synthesize(&sp).unwrap();
+        let rec = synthesize(&Checked::new(sp.clone()).unwrap()).unwrap();
         beatfold::verdicts::record_verdict(&rec, &p).unwrap().0
     };
     for seed in [1u64, 2, 3] {
@@ -204,7 +205,7 @@ fn trigeminy_is_not_irregular() {
             ectopic_every: 3,
             ..SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, seed)
         };
-        let rec = synthesize(&sp).unwrap();
+        let rec = synthesize(&Checked::new(sp.clone()).unwrap()).unwrap();
         let v = beatfold::verdicts::record_verdict(&rec, &p).unwrap().0;
         assert_ne!(
             v.class,
@@ -233,9 +234,11 @@ fn bad_records_get_an_unreadable_verdict_not_a_panic() {
         start_time: None,
         annotations: Annotations::default(),
     };
-    let short = synthesize(&SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, 1))
-        .unwrap()
-        .leads[0]
+    let short = synthesize(
+        &Checked::new(SynthParams::for_scenario(Scenario::Resting, 0.5, 300.0, 1)).unwrap(),
+    )
+    .unwrap()
+    .leads[0]
         .samples[..2400]
         .to_vec();
     for (name, samples, words) in [

@@ -3,6 +3,7 @@
 //! truth by construction, not a claim about real patients.
 
 use beatfold::io::beat_table;
+use beatfold::params::Checked;
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::record::Record;
 use beatfold::separate::{
@@ -19,7 +20,7 @@ fn record(seed: u64, minutes: f64, ectopic: f64) -> Record {
     let mut p = SynthParams::for_scenario(Scenario::Resting, minutes, 250.0, seed);
     p.ectopic_rate = ectopic;
     p.name = format!("syn{seed}");
-    synthesize(&p).expect("synthetic record")
+    synthesize(&Checked::new(p.clone()).unwrap()).expect("synthetic record")
 }
 
 fn class_score(r: &Separation, space: &str, c: BeatClass) -> (f64, f64, usize) {
@@ -41,9 +42,9 @@ fn builtin_features_separate_v_from_n_within_and_across_records() {
         assert_eq!(r.counts.missed_reference, 0, "{}", r.record);
         assert!(r.class.contains(&BeatClass::V));
     }
-    let w = within_record(&recs, &p, &sp).unwrap();
+    let w = within_record(&recs, &p, &Checked::new(sp.clone()).unwrap()).unwrap();
     let (fit, test) = recs.split_at(2);
-    let x = inter_patient(fit, test, &p, &sp).unwrap();
+    let x = inter_patient(fit, test, &p, &Checked::new(sp.clone()).unwrap()).unwrap();
     for (r, what) in [(&w, "within"), (&x, "inter")] {
         for space in ["diffusion", "pca", "features"] {
             let (f1, auc, n) = class_score(r, space, BeatClass::V);
@@ -94,7 +95,7 @@ fn random_features_score_at_chance_and_table_gaps_are_counted() {
     assert_eq!(lb.counts.table_rows_unmatched, 2);
     assert_eq!(lb.counts.table_lines_unmatched.len(), 2);
     assert_eq!(lb.class.len(), plain.class.len() - skip.len());
-    let r = within_record(&[lb], &p, &SeparateParams::default()).unwrap();
+    let r = within_record(&[lb], &p, &Checked::default()).unwrap();
     let (_, auc, n) = class_score(&r, "table-features", BeatClass::V);
     // Chance: the ROC area of a score independent of the class is 0.5 with SD
     // √((n₁+n₀+1)/(12 n₁ n₀)) (Hanley & McNeil 1982), about 0.03 for ~50 V among ~400 beats;
@@ -118,25 +119,20 @@ fn bad_input_gets_clear_errors() {
         "{e}"
     );
     let one = labelled_beats(&record(32, 2.0, 0.0), &p, None).unwrap();
-    let e = within_record(std::slice::from_ref(&one), &p, &SeparateParams::default())
+    let e = within_record(std::slice::from_ref(&one), &p, &Checked::default())
         .unwrap_err()
         .to_string();
     assert!(e.contains("at least two classes"), "{e}");
     let two = labelled_beats(&record(33, 2.0, 0.1), &p, None).unwrap();
-    let e = inter_patient(
-        &[one],
-        std::slice::from_ref(&two),
-        &p,
-        &SeparateParams::default(),
-    )
-    .unwrap_err()
-    .to_string();
+    let e = inter_patient(&[one], std::slice::from_ref(&two), &p, &Checked::default())
+        .unwrap_err()
+        .to_string();
     assert!(e.contains("fit beats") && e.contains("two classes"), "{e}");
     let e = inter_patient(
         std::slice::from_ref(&two),
         std::slice::from_ref(&two),
         &p,
-        &SeparateParams::default(),
+        &Checked::default(),
     )
     .unwrap_err()
     .to_string();

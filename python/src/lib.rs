@@ -392,7 +392,7 @@ fn diffusion_fit<'py>(
         .transpose()
         .map_err(|m| bad_value(format!("epsilon: {m}")))?;
     p.overlay_kernel(bandwidth, k);
-    p.validate().map_err(to_py)?;
+    let p = p.check().map_err(to_py)?;
     let pts = points_of(x, "X")?;
     let e = py.detach(|| diffusion_map(&pts, &p)).map_err(to_py)?;
     let summary = json!({"n": e.n, "components": e.components, "epsilon": e.epsilon,
@@ -434,8 +434,9 @@ fn intrinsic_dimension(
         max_points: count("max_points", max_points)?,
         kmeans,
         ..SuiteParams::default()
-    };
-    p.validate().map_err(to_py)?;
+    }
+    .check()
+    .map_err(to_py)?;
     let pts = points_of(x, "X")?;
     let s = py.detach(|| dimension_suite(&pts, &p)).map_err(to_py)?;
     json_text(&json_views::dimension_json(&s, json!({"from": "points"})))
@@ -490,7 +491,7 @@ fn rhythm(
             .collect(),
     };
     let window = window.unwrap_or(json_views::RHYTHM_WINDOW);
-    let screen_params = AnalyzeParams::default().screen;
+    let screen_params = beatfold::params::Checked::default();
     let (mut j, sc) = py
         .detach(|| -> beatfold::Result<_> {
             let j = json_views::rr_rhythm_json(&rr, &t_end, &labels, window, step)?;
@@ -573,7 +574,7 @@ fn analyze(
                 warnings: loaded.warnings.clone(),
             };
             let a = pipeline::analyze(&loaded.record, &info, &params, &mut |_, _| {})?;
-            report::write_all(&a, Path::new(&out_dir), &report::ReportOptions::default())?;
+            report::write_all(&a, Path::new(&out_dir), &beatfold::params::Checked::default())?;
             Ok(report::summary_json(&a))
         })
         .map_err(to_py)?;

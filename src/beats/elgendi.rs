@@ -19,6 +19,7 @@ use serde::{Deserialize, Serialize};
 
 use super::pan_tompkins::farthest_from_median;
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::signal::{fill_non_finite, Sos};
 
 /// Parameters of [`elgendi`]; defaults as published (from memory).
@@ -91,8 +92,7 @@ impl ElgendiParams {
 
 /// Detect R peaks with the method of Elgendi et al. (2013). Non-finite samples are bridged by
 /// linear interpolation; a lead without a finite sample is an error.
-pub fn elgendi(x: &[f64], fs_hz: f64, p: &ElgendiParams) -> Result<Vec<usize>> {
-    p.check()?;
+pub fn elgendi(x: &[f64], fs_hz: f64, p: &Checked<ElgendiParams>) -> Result<Vec<usize>> {
     let band = Sos::checked_bandpass(p.filter_order, p.band_hz, fs_hz)?;
     let n = x.len();
     if n == 0 {
@@ -232,14 +232,14 @@ fn close_block(
 mod tests {
     use super::*;
     use crate::beats::testsig::synth;
-    use crate::beats::{agreement, pan_tompkins, score, DetectParams};
+    use crate::beats::{agreement, pan_tompkins, score};
 
     #[test]
     fn detects_synthetic_beats() {
         for (k, bpm) in [40.0, 60.0, 120.0, 180.0].into_iter().enumerate() {
             let fs = 250.0;
             let (x, r) = synth(bpm, 150, fs, 0.05, 300 + k as u64);
-            let d = elgendi(&x, fs, &ElgendiParams::default()).unwrap();
+            let d = elgendi(&x, fs, &crate::params::Checked::default()).unwrap();
             let s = score(&r, &d, fs, 0.150);
             eprintln!(
                 "elgendi {bpm} bpm: TP {} FP {} FN {} Se {:.4} +P {:.4}",
@@ -251,7 +251,7 @@ mod tests {
             // the peak-level test removes them.
             assert!(s.se >= 0.99 && s.ppv >= 0.99, "{bpm} bpm: {s:?}");
             // Two independent detectors agree on clean pulses (Li, Mark & Clifford 2008 bSQI).
-            let pt = pan_tompkins(&x, fs, &DetectParams::default()).unwrap();
+            let pt = pan_tompkins(&x, fs, &crate::params::Checked::default()).unwrap();
             let a = agreement(&pt.samples, &d, fs, 0.150);
             assert!(a >= 0.98, "{bpm} bpm agreement {a}");
         }
@@ -260,10 +260,14 @@ mod tests {
     #[test]
     fn edge_cases_and_params() {
         let p = ElgendiParams::default();
-        assert!(elgendi(&[], 250.0, &p).unwrap().is_empty());
-        assert!(elgendi(&[0.0; 3000], 250.0, &p).unwrap().is_empty());
-        assert!(elgendi(&[f64::NAN; 30], 250.0, &p).is_err());
-        assert!(elgendi(&[0.0; 30], 30.0, &p).is_err());
+        assert!(elgendi(&[], 250.0, &crate::params::ck(p.clone()))
+            .unwrap()
+            .is_empty());
+        assert!(elgendi(&[0.0; 3000], 250.0, &crate::params::ck(p.clone()))
+            .unwrap()
+            .is_empty());
+        assert!(elgendi(&[f64::NAN; 30], 250.0, &crate::params::ck(p.clone())).is_err());
+        assert!(elgendi(&[0.0; 30], 30.0, &crate::params::ck(p.clone())).is_err());
         let bad = ElgendiParams {
             beat_window_s: 0.05,
             ..ElgendiParams::default()

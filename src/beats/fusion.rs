@@ -34,6 +34,7 @@ use serde::{Deserialize, Serialize};
 
 use super::{agreement_windows, elgendi, pan_tompkins, DetectParams, ElgendiParams};
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::signal::fill_non_finite;
 use crate::signal::resample::{decimate, detection_factor};
 
@@ -85,9 +86,9 @@ pub struct FusionParams<'a> {
     /// How several leads are combined.
     pub method: FuseMethod,
     /// Pan & Tompkins parameters.
-    pub pan_tompkins: &'a DetectParams,
+    pub pan_tompkins: &'a Checked<DetectParams>,
     /// Elgendi parameters.
-    pub elgendi: &'a ElgendiParams,
+    pub elgendi: &'a Checked<ElgendiParams>,
     /// Primary detector.
     pub primary: DetectorChoice,
     /// Beat matching window for the agreement, seconds (EC57: 0.150).
@@ -177,7 +178,7 @@ fn refine_full_rate(x: &[f64], low: &[usize], q: usize, fs_hz: f64) -> Vec<usize
 /// on it. With several, the first lead is the preferred one and each window's beats come from
 /// the best-agreeing lead (see the module notes).
 pub fn detect_leads(leads: &[&[f64]], fs_hz: f64, p: &FusionParams) -> Result<LeadDetection> {
-    detect_leads_with(leads, fs_hz, p, &VoteParams::default())
+    detect_leads_with(leads, fs_hz, p, &Checked::default())
 }
 
 /// [`detect_leads`] with the vote fusion's parameters given.
@@ -185,9 +186,8 @@ pub fn detect_leads_with(
     leads: &[&[f64]],
     fs_hz: f64,
     p: &FusionParams,
-    vote: &VoteParams,
+    vote: &Checked<VoteParams>,
 ) -> Result<LeadDetection> {
-    vote.check()?;
     let Some(first) = leads.first() else {
         return Err(Error::Analysis("no lead to detect beats on".into()));
     };
@@ -487,7 +487,10 @@ mod tests {
     use super::*;
     use crate::beats::testsig::synth;
 
-    fn params<'a>(pt: &'a DetectParams, el: &'a ElgendiParams) -> FusionParams<'a> {
+    fn params<'a>(
+        pt: &'a Checked<DetectParams>,
+        el: &'a Checked<ElgendiParams>,
+    ) -> FusionParams<'a> {
         FusionParams {
             method: FuseMethod::Choose,
             pan_tompkins: pt,
@@ -515,7 +518,7 @@ mod tests {
         for v in noisy.iter_mut().skip(half) {
             *v += normal.sample(&mut rng);
         }
-        let (pt, el) = (DetectParams::default(), ElgendiParams::default());
+        let (pt, el) = (Checked::default(), Checked::default());
         let p = params(&pt, &el);
         let single = detect_leads(&[&noisy], fs, &p).unwrap();
         let fused = detect_leads(&[&noisy, &clean], fs, &p).unwrap();
@@ -536,7 +539,7 @@ mod tests {
         // The same pulse train at 1000 Hz (decimated by 4 for detection) and at 250 Hz (native):
         // every beat found at both rates, and the 1000 Hz beats are placed at least as close to
         // the true R peaks (in seconds) as the native 250 Hz ones, give or take one 250 Hz sample.
-        let (pt, el) = (DetectParams::default(), ElgendiParams::default());
+        let (pt, el) = (Checked::default(), Checked::default());
         let p = params(&pt, &el);
         let worst_s = |fs: f64| {
             let (x, truth) = synth(75.0, 80, fs, 0.0, 12);
@@ -618,7 +621,7 @@ mod tests {
                 }
             }
         }
-        let (pt, el) = (DetectParams::default(), ElgendiParams::default());
+        let (pt, el) = (Checked::default(), Checked::default());
         let p = FusionParams {
             method: FuseMethod::Vote,
             ..params(&pt, &el)
@@ -635,7 +638,7 @@ mod tests {
 
     #[test]
     fn refuses_bad_margin_and_unequal_leads() {
-        let (pt, el) = (DetectParams::default(), ElgendiParams::default());
+        let (pt, el) = (Checked::default(), Checked::default());
         let mut p = params(&pt, &el);
         let a = vec![0.0; 100];
         let b = vec![0.0; 99];

@@ -37,6 +37,7 @@ use std::borrow::Cow;
 use serde::{Deserialize, Serialize};
 
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::signal::{fill_non_finite, Sos};
 
 /// Parameters of [`pan_tompkins`]; the defaults are those of Pan & Tompkins (1985).
@@ -237,14 +238,13 @@ fn deriv(bp: &[f64], i: usize) -> f64 {
 }
 
 impl PanTompkins {
-    /// Check `p` against `fs_hz` and design the band-pass.
-    pub fn new(fs_hz: f64, p: &DetectParams) -> Result<PanTompkins> {
-        p.check()?;
+    /// Design the band-pass of checked parameters `p` for `fs_hz` (the rate is checked here).
+    pub fn new(fs_hz: f64, p: &Checked<DetectParams>) -> Result<PanTompkins> {
         let band = Sos::checked_bandpass(p.filter_order, p.band_hz, fs_hz)?;
         let samples = |s: f64| (s * fs_hz).round().max(0.0) as usize;
         Ok(PanTompkins {
             fs_hz,
-            p: p.clone(),
+            p: (**p).clone(),
             band,
             half_int: samples(0.5 * p.integration_window_s),
             refractory: samples(p.refractory_s).max(1),
@@ -533,7 +533,7 @@ struct State {
 
 /// Detect R peaks with a [`PanTompkins`] detector designed for `fs_hz` (to process many leads at
 /// one rate, build the detector once with [`PanTompkins::new`]).
-pub fn pan_tompkins(x: &[f64], fs_hz: f64, p: &DetectParams) -> Result<Detection> {
+pub fn pan_tompkins(x: &[f64], fs_hz: f64, p: &Checked<DetectParams>) -> Result<Detection> {
     PanTompkins::new(fs_hz, p)?.detect(x)
 }
 
@@ -548,7 +548,7 @@ mod tests {
         for (k, bpm) in [40.0, 60.0, 120.0, 180.0].into_iter().enumerate() {
             for fs in [250.0, 360.0] {
                 let (x, r) = synth(bpm, 150, fs, 0.05, 100 + k as u64);
-                let d = pan_tompkins(&x, fs, &DetectParams::default()).unwrap();
+                let d = pan_tompkins(&x, fs, &crate::params::Checked::default()).unwrap();
                 let s = score(&r, &d.samples, fs, 0.150);
                 eprintln!(
                     "{bpm} bpm, {fs} Hz: TP {} FP {} FN {} Se {:.4} +P {:.4}",
@@ -586,7 +586,7 @@ mod tests {
                 })
                 .collect();
             let r: Vec<usize> = (1..30).map(|b| b * 250).collect();
-            let d = pan_tompkins(&x, fs, &DetectParams::default()).unwrap();
+            let d = pan_tompkins(&x, fs, &crate::params::Checked::default()).unwrap();
             // Source: Pan & Tompkins (1985): 200 ms refractory period, one detection per pair.
             assert_eq!(d.samples.len(), 29, "gap {gap_s}: {:?}", d.samples);
             let s = score(&r, &d.samples, fs, 0.150);
@@ -608,7 +608,7 @@ mod tests {
             })
             .collect();
         let r: Vec<usize> = (1..40).map(|b| b * 250).collect();
-        let d = pan_tompkins(&x, fs, &DetectParams::default()).unwrap();
+        let d = pan_tompkins(&x, fs, &crate::params::Checked::default()).unwrap();
         let s = score(&r, &d.samples, fs, 0.150);
         // Source: Pan & Tompkins (1985) T-wave test (within 360 ms, slope < half the QRS's).
         assert_eq!((s.tp, s.fp, s.fn_), (39, 0, 0), "{d:?}");
@@ -619,7 +619,7 @@ mod tests {
             t_wave_window_s: 0.0,
             ..DetectParams::default()
         };
-        let d0 = pan_tompkins(&x, fs, &p).unwrap();
+        let d0 = pan_tompkins(&x, fs, &crate::params::ck(p.clone())).unwrap();
         assert!(score(&r, &d0.samples, fs, 0.150).fp > 10, "{d0:?}");
     }
 
@@ -638,7 +638,7 @@ mod tests {
             })
             .collect();
         let r: Vec<usize> = (1..40).map(|b| b * 250).collect();
-        let d = pan_tompkins(&x, fs, &DetectParams::default()).unwrap();
+        let d = pan_tompkins(&x, fs, &crate::params::Checked::default()).unwrap();
         let s = score(&r, &d.samples, fs, 0.150);
         assert_eq!((s.tp, s.fp, s.fn_), (39, 0, 0), "{d:?}");
         assert!(d.searchback_count >= 1);
@@ -646,14 +646,14 @@ mod tests {
 
     #[test]
     fn edge_cases_and_params() {
-        assert!(pan_tompkins(&[], 250.0, &DetectParams::default())
+        assert!(pan_tompkins(&[], 250.0, &crate::params::Checked::default())
             .unwrap()
             .samples
             .is_empty());
-        assert!(pan_tompkins(&[f64::NAN; 10], 250.0, &DetectParams::default()).is_err());
-        let flat = pan_tompkins(&[0.0; 5000], 250.0, &DetectParams::default()).unwrap();
+        assert!(pan_tompkins(&[f64::NAN; 10], 250.0, &crate::params::Checked::default()).is_err());
+        let flat = pan_tompkins(&[0.0; 5000], 250.0, &crate::params::Checked::default()).unwrap();
         assert!(flat.samples.is_empty());
-        assert!(pan_tompkins(&[0.0; 100], 20.0, &DetectParams::default()).is_err());
+        assert!(pan_tompkins(&[0.0; 100], 20.0, &crate::params::Checked::default()).is_err());
         let bad = DetectParams {
             refractory_s: -1.0,
             ..DetectParams::default()
@@ -667,7 +667,7 @@ mod tests {
         // NaN samples are bridged.
         let (mut x, r) = synth(60.0, 30, 250.0, 0.02, 5);
         x[3000] = f64::NAN;
-        let d = pan_tompkins(&x, 250.0, &DetectParams::default()).unwrap();
+        let d = pan_tompkins(&x, 250.0, &crate::params::Checked::default()).unwrap();
         assert!(score(&r, &d.samples, 250.0, 0.15).se >= 0.96);
     }
 
@@ -677,7 +677,7 @@ mod tests {
     fn detect_speed() {
         let fs = 250.0;
         let (x, r) = synth(70.0, 24 * 60 * 70, fs, 0.05, 9);
-        let det = PanTompkins::new(fs, &DetectParams::default()).unwrap();
+        let det = PanTompkins::new(fs, &crate::params::Checked::default()).unwrap();
         let t0 = std::time::Instant::now();
         let d = det.detect(&x).unwrap();
         let el = t0.elapsed().as_secs_f64();

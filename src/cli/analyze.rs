@@ -4,6 +4,7 @@ use super::commands::{load, progress_bar, Out};
 use super::InputArgs;
 use anyhow::{Context, Result};
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
 use beatfold::record::Record;
 use beatfold::{report, synth};
@@ -17,10 +18,10 @@ const DEMO_ANN: &str = include_str!("../../demo-data/telemetry-night.annotations
 pub(super) fn analyze_and_write(
     rec: &Record,
     info: &InputInfo,
-    params: &beatfold::params::Checked<AnalyzeParams>,
+    params: &Checked<AnalyzeParams>,
     out: &Path,
     json: bool,
-    ropts: &report::ReportOptions,
+    ropts: &Checked<report::ReportOptions>,
     o: &Out,
 ) -> Result<()> {
     let pb = progress_bar(o.quiet);
@@ -151,7 +152,7 @@ pub(super) fn demo(
         Some(seed) => {
             let scen = synth::Scenario::from_name("telemetry-night")?;
             let p = synth::SynthParams::for_scenario(scen, minutes, 250.0, seed);
-            let rec = synth::synthesize(&p)?;
+            let rec = synth::synthesize(&Checked::new(p)?)?;
             io::csv::write_record(&rec, &rec_path)?;
             io::annotations::write(
                 &rec.annotations,
@@ -169,15 +170,7 @@ pub(super) fn demo(
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
-    analyze_and_write(
-        &rec,
-        &info,
-        &params,
-        out,
-        json,
-        &report::ReportOptions::default(),
-        &o,
-    )?;
+    analyze_and_write(&rec, &info, &params, out, json, &Checked::default(), &o)?;
     o.line(format!(
         "demo finished in {:.2} s",
         t0.elapsed().as_secs_f64()

@@ -58,12 +58,48 @@ pub struct InputArgs {
     pub read: ReadArgs,
 }
 
-/// Reading options, defined once for every command that reads recordings.
+/// The sampling rate of recordings that do not carry one (every command that reads
+/// recordings, the cohort included).
 #[derive(Debug, Args, Clone, Default)]
-pub struct ReadArgs {
+pub struct RateArg {
     /// Sampling rate in Hz for files without a time column or rate comment (no default).
     #[arg(long = "fs", value_name = "HZ")]
     pub fs_hz: Option<f64>,
+}
+
+/// The analysis parameter file (every command that analyses recordings, the cohort included).
+#[derive(Debug, Args, Clone, Default)]
+pub struct ConfigArg {
+    /// JSON file of analysis parameters (missing keys take defaults, unknown keys are refused;
+    /// flags given on the command line win over it; see docs/methods.md).
+    #[arg(long, value_name = "FILE")]
+    pub config: Option<PathBuf>,
+}
+
+/// Record labels for scoring record verdicts (`score` and `cohort`).
+#[derive(Debug, Args, Clone, Default)]
+pub struct LabelArgs {
+    /// Label file, one `record,label` line a record (research labels, never a diagnosis);
+    /// record verdicts are scored against it.
+    #[arg(long, value_name = "FILE")]
+    pub labels: Option<PathBuf>,
+    /// With --labels: which class each label stands for, `LABEL=class,…` (classes regular,
+    /// irregular, other, unreadable).
+    #[arg(
+        long,
+        value_name = "MAP",
+        default_value = "A=irregular,N=regular,O=other,~=unreadable",
+        requires = "labels"
+    )]
+    pub label_map: String,
+}
+
+/// Reading options, defined once for every command that reads recordings.
+#[derive(Debug, Args, Clone, Default)]
+pub struct ReadArgs {
+    /// The sampling rate of files without one.
+    #[command(flatten)]
+    pub rate: RateArg,
     /// Lead to analyse, by name or zero-based index (default: the first lead).
     #[arg(long, value_name = "NAME|INDEX")]
     pub lead: Option<String>,
@@ -75,9 +111,9 @@ pub struct ReadArgs {
     /// as the reference, e.g. `qrs` (default `atr`).
     #[arg(long, value_name = "SUFFIX", conflicts_with = "reference")]
     pub annotation_suffix: Option<String>,
-    /// JSON file of analysis parameters (missing keys take defaults; see docs/methods.md).
-    #[arg(long, value_name = "FILE")]
-    pub config: Option<PathBuf>,
+    /// The analysis parameter file.
+    #[command(flatten)]
+    pub config: ConfigArg,
     /// For HDF5 input: the dataset holding the signal, e.g. /ecg (default: the only dataset).
     #[arg(long, value_name = "PATH")]
     pub dataset: Option<String>,

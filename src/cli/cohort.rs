@@ -1,11 +1,12 @@
 //! `beatfold cohort`: flags and glue over [`beatfold::cohort`] (a run, one shard of a run, or the
 //! merge of shard outputs). No analysis happens here.
 
+use super::{ConfigArg, LabelArgs, RateArg};
 use anyhow::{bail, Result};
 use beatfold::cohort::{
     self, CohortLabels, CohortOptions, RecordOutputs, Shard, SharedParams, Status,
 };
-use beatfold::pipeline::AnalyzeParams;
+use beatfold::params::Checked;
 use beatfold::NOTICE;
 use clap::{Args, Subcommand};
 use std::path::{Path, PathBuf};
@@ -30,12 +31,12 @@ pub struct CohortArgs {
     /// i mod N = I) and do not merge.
     #[arg(long, value_name = "I/N")]
     pub shard: Option<String>,
-    /// JSON file of analysis parameters applied to every record (see docs/methods.md).
-    #[arg(long, value_name = "FILE")]
-    pub config: Option<PathBuf>,
-    /// Sampling rate in Hz for files without one (no default).
-    #[arg(long = "fs", value_name = "HZ")]
-    pub fs_hz: Option<f64>,
+    /// The analysis parameters of every record.
+    #[command(flatten)]
+    pub config: ConfigArg,
+    /// The sampling rate of files without one.
+    #[command(flatten)]
+    pub rate: RateArg,
     /// Seed of the shared embedding's beat sample and fit (default 0).
     #[arg(long)]
     pub seed: Option<u64>,
@@ -52,12 +53,9 @@ pub struct CohortArgs {
     /// File of record names (one a line, `#` comments) that write full outputs.
     #[arg(long, value_name = "FILE")]
     pub full_for: Option<PathBuf>,
-    /// Label file, one `record,label` line a record; the cohort page scores verdicts against it.
-    #[arg(long, value_name = "FILE", requires = "label_map")]
-    pub labels: Option<PathBuf>,
-    /// Label map for --labels, `LABEL=class,…` (classes regular, irregular, other, unreadable).
-    #[arg(long, value_name = "MAP", requires = "labels")]
-    pub label_map: Option<String>,
+    /// Labels the cohort page scores record verdicts against.
+    #[command(flatten)]
+    pub labels: LabelArgs,
 }
 
 /// Record names from a `--full-for` file: one a line; blank lines and `#` comments skipped.
@@ -128,20 +126,18 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
     let Some(out) = &a.out else {
         bail!("cohort: --out DIR is required");
     };
-    let params = match &a.config {
-        Some(c) => AnalyzeParams::from_json_file(c)?,
-        None => AnalyzeParams::default(),
-    };
+    let params = super::commands::config_params(&a.config)?;
     let jobs = a.jobs.unwrap_or_else(|| {
         std::thread::available_parallelism()
             .map(|n| n.get())
             .unwrap_or(1)
     });
-    let opts = CohortOptions {
+    // Every option is checked once, before any work.
+    let opts = Checked::new(CohortOptions {
         params,
         jobs,
         shard: a.shard.as_deref().map(Shard::parse).transpose()?,
-        fs_hz: a.fs_hz,
+        fs_hz: a.rate.fs_hz,
         shared: shared_params(a),
         outputs: RecordOutputs::parse(&a.record_outputs)?,
         full_for: a
@@ -150,12 +146,12 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             .map(read_names)
             .transpose()?
             .unwrap_or_default(),
-        labels: match (&a.labels, &a.label_map) {
-            (Some(f), Some(m)) => Some(CohortLabels::read(f, m)?),
-            _ => None,
+        labels: match &a.labels.labels {
+            Some(f) => Some(CohortLabels::read(f, &a.labels.label_map)?),
+            None => None,
         },
         ..CohortOptions::default()
-    };
+    })?;
     if !quiet {
         println!("NOTICE: {NOTICE}");
     }

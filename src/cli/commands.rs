@@ -3,7 +3,7 @@
 //! happens in the command line.
 
 use super::{Cli, Command, InputArgs};
-use anyhow::Result;
+use anyhow::{bail, Result};
 use beatfold::io::{self, ReadOptions};
 use beatfold::params::{Check, Checked};
 use beatfold::pipeline::{self, AnalyzeParams, InputInfo};
@@ -83,7 +83,7 @@ pub fn run(cli: Cli) -> Result<()> {
                 colour_by: report::ColourBy::parse(&colour_by)?,
                 ..Default::default()
             };
-            ropts.validate()?;
+            let ropts = ropts.check()?;
             let (rec, params, info) = load(&input, &o)?;
             super::analyze::analyze_and_write(&rec, &info, &params, &out, json, &ropts, &o)
         }
@@ -97,10 +97,16 @@ pub fn run(cli: Cli) -> Result<()> {
             leave_out,
             json,
             labels,
-            label_map,
-        } => match labels {
+        } => match &labels.labels {
             Some(l) => {
-                super::label_score::run(&inputs, &l, &label_map, &params_of(&read)?, json, quiet)
+                if read.reference.is_some()
+                    || read.annotation_suffix.is_some()
+                    || read.rate.fs_hz.is_some()
+                {
+                    bail!("--labels scores record verdicts against a label file; --reference, --annotation-suffix and --fs do not apply with it");
+                }
+                let p = params_of(&read)?;
+                super::label_score::run(&inputs, l, &labels.label_map, &p, json, quiet)
             }
             None => {
                 let rules = beatfold::beats::ec57::Ec57Rules {
@@ -182,14 +188,20 @@ pub(super) fn params_from(input: &InputArgs) -> Result<Checked<AnalyzeParams>> {
 
 /// [`params_from`] for the reading options alone (commands that read many recordings).
 pub(super) fn params_of(read: &super::ReadArgs) -> Result<Checked<AnalyzeParams>> {
-    let mut p = match &read.config {
-        Some(c) => AnalyzeParams::from_json_file(c)?,
-        None => AnalyzeParams::default(),
-    };
+    let mut p = config_params(&read.config)?;
     if read.lead.is_some() {
         p.lead = read.lead.clone();
     }
     Ok(p.check()?)
+}
+
+/// The parameters of the config file (`--config`), or the library defaults without one; the
+/// caller lays its flags over them and checks the result once.
+pub(super) fn config_params(c: &super::ConfigArg) -> Result<AnalyzeParams> {
+    Ok(match &c.config {
+        Some(c) => AnalyzeParams::from_json_file(c)?,
+        None => AnalyzeParams::default(),
+    })
 }
 
 pub(super) fn load(
@@ -200,7 +212,7 @@ pub(super) fn load(
     let loaded = io::read_record(
         &input.input,
         &ReadOptions {
-            fs_hz: input.read.fs_hz,
+            fs_hz: input.read.rate.fs_hz,
             annotations: input.read.reference.clone(),
             annotation_suffix: input.read.annotation_suffix.clone(),
             dataset: input.read.dataset.clone(),

@@ -99,7 +99,6 @@ pub(super) fn dimension_cmd(
         Some(m) => Method::parse_list(m)?,
         None => defaults.methods.clone(),
     };
-    let (pts, source) = dimension_points(input, opts, &o)?;
     let mut kp = params_from(input)?.into_inner().dimension;
     kp.seed = opts.seed.unwrap_or(kp.seed);
     let p = SuiteParams {
@@ -111,6 +110,8 @@ pub(super) fn dimension_cmd(
         ..defaults
     }
     .check()?;
+    // Parameters checked before any work.
+    let (pts, source) = dimension_points(input, opts, &o)?;
     let s = dimension_suite(&pts, &p)?;
     let mut written = Vec::new();
     if let Some(stem) = &opts.figure {

@@ -4,6 +4,7 @@ use super::commands::{load, params_from, Out};
 use super::InputArgs;
 use anyhow::Result;
 use beatfold::io;
+use beatfold::params::Checked;
 use beatfold::pipeline;
 use beatfold::NOTICE;
 use serde_json::json;
@@ -16,17 +17,26 @@ pub(super) fn points_of(input: &InputArgs, o: &Out) -> Result<beatfold::points::
     }
     let (rec, params, _) = load(input, o)?;
     let b = pipeline::detect_beats(&rec, &params)?;
-    let f =
-        beatfold::features::beat_features(&b.conditioned, rec.fs_hz, &b.samples, &params.features)?;
+    let f = beatfold::features::beat_features(
+        &b.conditioned,
+        rec.fs_hz,
+        &b.samples,
+        &params.features(),
+    )?;
     Ok(f.points)
+}
+
+/// Place the points into a saved model, or fit a new map with checked parameters.
+enum Job<'a> {
+    Place(&'a Path),
+    Fit(Checked<beatfold::embed::DiffusionParams>),
 }
 
 pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool) -> Result<()> {
     let o = Out {
         quiet: quiet || a.json,
     };
-    let pts = points_of(input, &o)?;
-    // Flag, then config file, then the library default.
+    // Flag, then config file, then the library default; checked once, before any work.
     let mut p = params_from(input)?.into_inner().diffusion;
     p.components = a.components.unwrap_or(p.components);
     p.alpha = a.alpha.unwrap_or(p.alpha);
@@ -37,8 +47,13 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
         p.max_fit_points = m;
         p.landmark_check = p.landmark_check.max(1000);
     }
-    let (e, placed) = match &a.model {
-        Some(path) => {
+    let job = match &a.model {
+        Some(path) => Job::Place(path),
+        None => Job::Fit(Checked::new(p.clone()).map_err(|e| e.in_block("diffusion"))?),
+    };
+    let pts = points_of(input, &o)?;
+    let (e, placed) = match &job {
+        Job::Place(path) => {
             let model = beatfold::io::model::load_model(path)?;
             let coords = model.extend(&pts)?;
             let (pc, pk, pe) = beatfold::embed::pca_baseline(&pts, model.components())?;
@@ -50,10 +65,7 @@ pub(super) fn embed_cmd(input: &InputArgs, a: &super::EmbedOptions, quiet: bool)
             e.pca_explained = pe;
             (e, true)
         }
-        None => {
-            p.check()?;
-            (beatfold::embed::diffusion_map(&pts, &p)?, false)
-        }
+        Job::Fit(p) => (beatfold::embed::diffusion_map(&pts, p)?, false),
     };
     if let Some(path) = out_path(&a.out) {
         io::write_atomic(

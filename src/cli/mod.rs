@@ -14,7 +14,7 @@ mod rhythm;
 pub mod separate;
 mod synth;
 
-pub use args::{EmbedOptions, InputArgs, ReadArgs};
+pub use args::{ConfigArg, EmbedOptions, InputArgs, LabelArgs, RateArg, ReadArgs};
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 
@@ -131,18 +131,9 @@ pub enum Command {
         /// Print results as JSON on stdout.
         #[arg(long)]
         json: bool,
-        /// Score record verdicts instead of beats: a `record,label` file for the records of the
-        /// one folder given (research labels, never a diagnosis).
-        #[arg(long, value_name = "CSV", conflicts_with_all = ["reference", "annotation_suffix", "fs_hz"])]
-        labels: Option<std::path::PathBuf>,
-        /// With --labels: which class each label stands for.
-        #[arg(
-            long,
-            value_name = "MAP",
-            default_value = "A=irregular,N=regular,O=other,~=unreadable",
-            requires = "labels"
-        )]
-        label_map: String,
+        /// With --labels: score record verdicts of the one folder given instead of beats.
+        #[command(flatten)]
+        labels: LabelArgs,
     },
     /// Diffusion-map embedding of a recording's beats or of a numeric CSV point cloud.
     Embed {

@@ -5,6 +5,7 @@ use super::commands::params_from;
 use super::{InputArgs, ReadArgs};
 use anyhow::{bail, Result};
 use beatfold::io::{beat_table, ReadOptions};
+use beatfold::params::Checked;
 use beatfold::separate::{self, BeatClass, SeparateParams, Separation, Space, TableMode};
 use beatfold::NOTICE;
 use clap::Args;
@@ -49,7 +50,7 @@ pub struct SeparateArgs {
     pub json: bool,
 }
 
-fn separate_params(a: &SeparateArgs) -> Result<SeparateParams> {
+fn separate_params(a: &SeparateArgs) -> Result<Checked<SeparateParams>> {
     let d = SeparateParams::default();
     let p = SeparateParams {
         vote_neighbors: a.vote_k.unwrap_or(d.vote_neighbors),
@@ -65,8 +66,7 @@ fn separate_params(a: &SeparateArgs) -> Result<SeparateParams> {
         },
         ..d
     };
-    p.check()?;
-    Ok(p)
+    Ok(Checked::new(p)?)
 }
 
 /// Run the command.
@@ -81,7 +81,7 @@ pub fn separate_cmd(a: &SeparateArgs, quiet: bool) -> Result<()> {
         read: a.read.clone(),
     })?;
     let opts = ReadOptions {
-        fs_hz: a.read.fs_hz,
+        fs_hz: a.read.rate.fs_hz,
         annotations: a.read.reference.clone(),
         annotation_suffix: a.read.annotation_suffix.clone(),
         dataset: a.read.dataset.clone(),

@@ -2,6 +2,7 @@
 
 use super::commands::Out;
 use anyhow::{bail, Result};
+use beatfold::params::Checked;
 use beatfold::{io, synth};
 use std::path::Path;
 
@@ -23,8 +24,7 @@ pub(super) fn synth_cmd(
     if let Some(hr) = mean_hr_bpm {
         p.mean_hr_bpm = hr;
     }
-    p.check()?;
-    let rec = synth::synthesize(&p)?;
+    let rec = synth::synthesize(&Checked::new(p)?)?;
     let ext = out
         .extension()
         .and_then(|e| e.to_str())

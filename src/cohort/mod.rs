@@ -36,6 +36,7 @@ pub use table::{table_csv, Row, Status, COLUMNS};
 
 use crate::error::{Error, Result};
 use crate::io::{self, ReadOptions};
+use crate::params::Checked;
 use crate::pipeline::{self, AnalyzeParams, InputInfo};
 use crate::report::{self, ReportOptions};
 use crate::rhythm::label_score::{LabelMap, LabelScore};
@@ -181,17 +182,15 @@ pub struct CohortLabels {
 }
 
 impl CohortLabels {
-    /// Read a label file and check that every label is in the map (errors name the record
-    /// and the label).
+    /// Read a label file; [`CohortLabels::check`] (part of [`CohortOptions::check`]) says
+    /// whether every label is in the map (errors name the record and the label).
     pub fn read(path: &Path, map: &str) -> Result<CohortLabels> {
         let labels = crate::rhythm::label_score::read_labels(path)?;
-        let l = CohortLabels {
+        Ok(CohortLabels {
             labels,
             map: map.to_string(),
             source: Some(path.to_path_buf()),
-        };
-        l.check()?;
-        Ok(l)
+        })
     }
 
     /// Check the map and that every label is in it.
@@ -267,6 +266,26 @@ impl CohortOptions {
     }
 }
 
+/// The checked blocks of checked cohort options, for the stages.
+impl Checked<CohortOptions> {
+    /// `params`, checked.
+    pub fn params(&self) -> Checked<AnalyzeParams> {
+        Checked::part_of_checked(self.params.clone())
+    }
+    /// `report`, checked.
+    pub fn report(&self) -> Checked<ReportOptions> {
+        Checked::part_of_checked(self.report.clone())
+    }
+    /// `shared`, checked.
+    pub fn shared(&self) -> Checked<SharedParams> {
+        Checked::part_of_checked(self.shared.clone())
+    }
+    /// `labels`, checked.
+    pub fn labels(&self) -> Option<Checked<CohortLabels>> {
+        self.labels.clone().map(Checked::part_of_checked)
+    }
+}
+
 /// What [`run`] did.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct RunSummary {
@@ -304,13 +323,13 @@ pub struct Plan {
     pub format: String,
     /// Every record of the cohort, sorted.
     pub records: Vec<RecordSpec>,
-    /// Shared embedding settings.
-    pub shared: SharedParams,
+    /// Shared embedding settings (checked when the plan is read).
+    pub shared: Checked<SharedParams>,
     /// Folder the input paths are relative to, stripped from error messages in the table.
     pub base: PathBuf,
-    /// Record labels and their map, when given.
+    /// Record labels and their map, when given (checked when the plan is read).
     #[serde(default)]
-    pub labels: Option<CohortLabels>,
+    pub labels: Option<Checked<CohortLabels>>,
 }
 
 /// Value of [`Plan::format`].
@@ -576,7 +595,12 @@ enum Outcome {
 
 /// Analyse one record into its folder; never returns an error for a bad record (an error row
 /// is written instead), only when even the error row cannot be written.
-fn process(spec: &RecordSpec, out: &Path, base: &Path, opts: &CohortOptions) -> Result<Outcome> {
+fn process(
+    spec: &RecordSpec,
+    out: &Path,
+    base: &Path,
+    opts: &Checked<CohortOptions>,
+) -> Result<Outcome> {
     let dir = record_dir(out, &spec.name);
     std::fs::create_dir_all(&dir).map_err(|e| Error::io(&dir, e))?;
     let params_hash = params_sha256(spec, opts)?;
@@ -695,10 +719,10 @@ fn list_files(dir: &Path) -> Result<Vec<String>> {
     Ok(out)
 }
 
-fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Row> {
-    let mut p = opts.params.clone();
+fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &Checked<CohortOptions>) -> Result<Row> {
+    let mut p = opts.params();
     if spec.lead.is_some() {
-        p.lead = spec.lead.clone();
+        p = p.with_lead(spec.lead.clone());
     }
     let loaded = io::read_record(
         &spec.path,
@@ -717,13 +741,12 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
     let full = opts.is_full(&spec.name);
     if !full {
         // The table shows no dimension below its support: do not compute one.
-        p.dimension_min_points = p.dimension_min_points.max(opts.support.dimension_points);
+        p = p.with_dimension_min_points_at_least(opts.support.dimension_points);
     }
-    let p = crate::params::Check::check(p)?;
     let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
     compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
     if full {
-        report::write_all(&a, dir, &opts.report)?;
+        report::write_all(&a, dir, &opts.report())?;
     }
     let mut row = Row::from_analysis(&spec.name, &spec.group, &a, &opts.support);
     row.has_report = full;
@@ -751,7 +774,7 @@ fn common_base(specs: &[RecordSpec]) -> PathBuf {
 /// Errors: bad options, an unreadable record list, an output folder that cannot be written, a
 /// thread pool that cannot start. A record that cannot be read or analysed is not an error: it
 /// gets an error row.
-pub fn run(input: &Path, out: &Path, opts: &CohortOptions) -> Result<RunSummary> {
+pub fn run(input: &Path, out: &Path, opts: &Checked<CohortOptions>) -> Result<RunSummary> {
     run_with_progress(input, out, opts, &|_, _| {})
 }
 
@@ -759,10 +782,9 @@ pub fn run(input: &Path, out: &Path, opts: &CohortOptions) -> Result<RunSummary>
 pub fn run_with_progress(
     input: &Path,
     out: &Path,
-    opts: &CohortOptions,
+    opts: &Checked<CohortOptions>,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<RunSummary> {
-    opts.check()?;
     let mut specs = list_records(input)?;
     // A label file inside the cohort folder is not a recording.
     if let Some(src) = opts.labels.as_ref().and_then(|l| l.source.as_ref()) {
@@ -778,9 +800,9 @@ pub fn run_with_progress(
     let plan = Plan {
         format: PLAN_FORMAT.to_string(),
         records: specs.clone(),
-        shared: opts.shared.clone(),
+        shared: opts.shared(),
         base: base.clone(),
-        labels: opts.labels.clone(),
+        labels: opts.labels(),
     };
     write_json(&out.join(PLAN_FILE), &plan)?;
     let pos = shard_positions(specs.len(), opts.shard);
@@ -833,7 +855,6 @@ pub fn read_plan(out: &Path) -> Result<Plan> {
             format!("`{}`, expected `{PLAN_FORMAT}`", plan.format),
         ));
     }
-    plan.shared.check()?;
     Ok(plan)
 }
 
@@ -845,9 +866,6 @@ pub fn read_plan(out: &Path) -> Result<Plan> {
 /// cannot be fitted (too few beats) is a note, not an error.
 pub fn merge(out: &Path) -> Result<MergeSummary> {
     let plan = read_plan(out)?;
-    if let Some(l) = &plan.labels {
-        l.check()?;
-    }
     let mut rows = Vec::with_capacity(plan.records.len());
     for spec in &plan.records {
         let dir = record_dir(out, &spec.name);

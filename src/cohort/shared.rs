@@ -240,7 +240,8 @@ pub(crate) fn build(out: &Path, plan: &Plan, rows: &[Row]) -> Result<SharedEmbed
         embed::MAX_SPARSE_FIT_POINTS
     };
     dp.max_fit_points = fit_pts.n.clamp(dp.components + 2, cap);
-    let model = embed::fit(&fit_pts, &dp)?;
+    // A new block (the sample's seed and size): checked here.
+    let model = embed::fit(&fit_pts, &crate::params::Checked::new(dp)?)?;
     let c = model.components();
     // Fit coordinates of each sample member (landmark order → sample order).
     let lm_coords = model.coords_of_fit();

@@ -16,6 +16,7 @@
 //! non-zero eigenvalues).
 
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use faer::{Mat, Side};
 use rayon::prelude::*;
@@ -27,6 +28,12 @@ pub enum PcaRule {
     EigenRatio(f64),
     /// Leading components up to this share of the total variance (0 < share ≤ 1).
     VarianceShare(f64),
+}
+
+impl crate::params::Check for PcaRule {
+    fn validate(&self) -> Result<()> {
+        self.check().map(|_| ())
+    }
 }
 
 impl PcaRule {
@@ -97,9 +104,9 @@ pub fn local_pca_counts(
     table_dist: &[f64],
     table_k: usize,
     ks: &[usize],
-    rule: PcaRule,
+    rule: &Checked<PcaRule>,
 ) -> Result<(Vec<f64>, Vec<f64>)> {
-    let rule = rule.check()?;
+    let rule = **rule;
     if ks.is_empty() || ks.iter().any(|&k| k == 0 || k > table_k) {
         return Err(Error::param(
             "local_pca_ks",
@@ -161,6 +168,7 @@ pub fn local_pca_counts(
 mod tests {
     use super::*;
     use crate::dimension::knn::knn_table;
+    use crate::params::{ck, Check};
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;
 
@@ -180,7 +188,7 @@ mod tests {
         let centres: Vec<usize> = (0..50).collect();
         let share = PcaRule::VarianceShare(0.95);
         let (counts, radii) =
-            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[3, 10, 20], share).unwrap();
+            local_pca_counts(&pts, &centres, &idx, &dist, 20, &[3, 10, 20], &ck(share)).unwrap();
         assert_eq!(counts.len(), 150);
         // Never more than the two directions that exist; with 10 or more neighbours the two
         // spreads are comparable, so both are needed (a 4-point neighbourhood may be thin).
@@ -190,19 +198,10 @@ mod tests {
             "{counts:?}"
         );
         assert!(radii[0] < radii[1] && radii[1] < radii[2]);
-        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], share).is_err());
-        let zero = PcaRule::VarianceShare(0.0);
-        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[5], zero).is_err());
-        assert!(local_pca_counts(
-            &pts,
-            &centres,
-            &idx,
-            &dist,
-            20,
-            &[5],
-            PcaRule::EigenRatio(1.0)
-        )
-        .is_err());
+        assert!(local_pca_counts(&pts, &centres, &idx, &dist, 20, &[21], &ck(share)).is_err());
+        // Rules out of range have no checked form.
+        assert!(Check::check(PcaRule::VarianceShare(0.0)).is_err());
+        assert!(Check::check(PcaRule::EigenRatio(1.0)).is_err());
         // Fukunaga & Olsen (1971) on the same plane: two eigenvalues of equal expected size, both
         // far above 0.1 of the largest once the neighbourhood holds 10 or more points.
         let (fo, _) = local_pca_counts(
@@ -212,7 +211,7 @@ mod tests {
             &dist,
             20,
             &[10, 20],
-            PcaRule::EigenRatio(0.1),
+            &ck(PcaRule::EigenRatio(0.1)),
         )
         .unwrap();
         assert!(fo.iter().all(|&c| c == 2.0), "{fo:?}");
@@ -243,7 +242,8 @@ mod tests {
         let (idx, dist) = knn_table(&pts, 80).unwrap();
         let centres: Vec<usize> = (0..100).collect();
         let mean = |rule| {
-            let (c, _) = local_pca_counts(&pts, &centres, &idx, &dist, 80, &[80], rule).unwrap();
+            let (c, _) =
+                local_pca_counts(&pts, &centres, &idx, &dist, 80, &[80], &ck(rule)).unwrap();
             c.iter().sum::<f64>() / c.len() as f64
         };
         let fo = mean(PcaRule::EigenRatio(0.1));

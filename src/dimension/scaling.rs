@@ -32,6 +32,7 @@
 use super::kmeans::{kmeans, point_cells};
 use super::{ScalePoint, ScalingCurve};
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
@@ -157,17 +158,17 @@ fn plateau_start(ks: &[usize], onset: usize, plateau: f64) -> usize {
 ///
 /// Errors: bad parameters; too few points for the split (at least 8 training and 1 held-out
 /// point); fewer than two usable k (k ≤ training points / 4 and D(k) > 0).
-pub fn kmeans_scaling(points: &Points, p: &KmeansScalingParams) -> Result<ScalingCurve> {
+pub fn kmeans_scaling(points: &Points, p: &Checked<KmeansScalingParams>) -> Result<ScalingCurve> {
     kmeans_scaling_errors(points, p).map(|(c, _)| c)
 }
 
 /// [`kmeans_scaling`] and, per usable k, the squared error of every held-out point (the
-/// summands of D(k)), for resampling.
+/// summands of D(k)), for resampling. `p` is part of checked parameters (e.g. a checked
+/// [`super::SuiteParams`]), so it is not checked again.
 pub(crate) fn kmeans_scaling_errors(
     points: &Points,
     p: &KmeansScalingParams,
 ) -> Result<(ScalingCurve, Vec<Vec<f64>>)> {
-    p.check()?;
     let n_used = points.n.min(p.max_points.max(16));
     let n_hold = (n_used as f64 * p.holdout_fraction).round() as usize;
     let n_train = n_used.saturating_sub(n_hold);
@@ -365,7 +366,7 @@ mod tests {
                 finite_sample_correction: corr,
                 ..KmeansScalingParams::default()
             };
-            kmeans_scaling(&pts, &p).unwrap()
+            kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap()
         };
         let (on, off) = (run(true), run(false));
         // Mean local d of the two finest pairs (k = 64→128→256).
@@ -398,7 +399,7 @@ mod tests {
             train_per_centre: None,
             finite_sample_correction: true,
         };
-        let c = kmeans_scaling(&pts, &p).unwrap();
+        let c = kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap();
         // Held-out D is a mean of n_hold = 1800 squared errors; for the optimal quantizer the
         // error is uniform on a cell of width h, so e² has mean h²/12 and SD h²·√(1/80 − 1/144)
         // = 0.894 × mean: relative standard error 0.894/√1800 = 2.1 %. Allow 3 SE (6.3 %) plus
@@ -437,7 +438,7 @@ mod tests {
             ("circle", circle(4000, 33), 1.0),
         ] {
             let pts = embed(&rows, 10, 40);
-            let c = kmeans_scaling(&pts, &p).unwrap();
+            let c = kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap();
             let local: Vec<String> = c
                 .curve
                 .iter()
@@ -475,7 +476,7 @@ mod tests {
             seed: 8,
             ..KmeansScalingParams::default()
         };
-        let c = kmeans_scaling(&pts, &p).unwrap();
+        let c = kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap();
         let local: Vec<String> = c
             .curve
             .iter()
@@ -508,8 +509,8 @@ mod tests {
             ..KmeansScalingParams::default()
         };
         assert_eq!(
-            kmeans_scaling(&pts, &p).unwrap(),
-            kmeans_scaling(&pts, &p).unwrap()
+            kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap(),
+            kmeans_scaling(&pts, &crate::params::ck(p.clone())).unwrap()
         );
         for bad in [
             KmeansScalingParams {
@@ -533,12 +534,16 @@ mod tests {
                 ..p.clone()
             },
         ] {
+            // Out of range: no checked form, so no run.
             assert!(matches!(
-                kmeans_scaling(&pts, &bad),
+                crate::params::Check::check(bad.clone()),
                 Err(Error::Param { .. })
             ));
         }
         let tiny = embed(&cube(10, 2, 3), 4, 1);
-        assert!(matches!(kmeans_scaling(&tiny, &p), Err(Error::Analysis(_))));
+        assert!(matches!(
+            kmeans_scaling(&tiny, &crate::params::ck(p.clone())),
+            Err(Error::Analysis(_))
+        ));
     }
 }

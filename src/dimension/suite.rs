@@ -53,6 +53,7 @@ use super::nn_estimators::{mle_inverse, twonn_fit};
 use super::scaling::{curve_from_distortion, kmeans_scaling_errors};
 use super::{KmeansScalingParams, ScalePoint, ScalingCurve};
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use rand::seq::SliceRandom;
 use rand::SeedableRng;
@@ -380,8 +381,7 @@ pub fn subset_indices(n: usize, max_points: usize, seed: u64) -> Vec<usize> {
 /// Errors: bad parameters; fewer than 20 points or points without coordinates. An estimator
 /// that cannot work on these points (for example too few distinct points) is listed in
 /// `failures` instead of failing the suite.
-pub fn dimension_suite(points: &Points, p: &SuiteParams) -> Result<DimensionSuite> {
-    p.check()?;
+pub fn dimension_suite(points: &Points, p: &Checked<SuiteParams>) -> Result<DimensionSuite> {
     if points.n < 20 || points.dim == 0 {
         return Err(Error::Analysis(format!(
             "the dimension suite needs at least 20 points with coordinates, got {} × {}",
@@ -794,7 +794,15 @@ fn run_local_pca(
         )));
     }
     let centres: Vec<usize> = (0..p.local_pca_centres.min(idx.len() / table_k)).collect();
-    let (counts, radii) = local_pca_counts(sub, &centres, idx, dist, table_k, &ks, rule)?;
+    let (counts, radii) = local_pca_counts(
+        sub,
+        &centres,
+        idx,
+        dist,
+        table_k,
+        &ks,
+        &Checked::part_of_checked(rule),
+    )?;
     let nk = ks.len();
     let curve_of = |which: &[usize]| -> Vec<f64> {
         (0..nk)

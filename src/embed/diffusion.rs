@@ -39,6 +39,7 @@ use super::pca::Pca;
 use super::sparse::{finish, kernel_graph, normalise_scaled, submatrix, top_eigen_sparse, Solver};
 use super::Embedding;
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::solvers::Solve;
@@ -579,7 +580,7 @@ fn reduce<'a>(
 ///
 /// Errors: bad parameters; fewer than `components + 2` points; a bandwidth that cannot be found;
 /// the eigensolver failing to converge.
-pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
+pub fn fit(points: &Points, p: &Checked<DiffusionParams>) -> Result<DiffusionModel> {
     fit_observed(points, p, &mut |_| {})
 }
 
@@ -588,10 +589,9 @@ pub fn fit(points: &Points, p: &DiffusionParams) -> Result<DiffusionModel> {
 /// the dense kernel one `dense fit`), so a caller can time the phases with its own clocks.
 pub fn fit_observed(
     points: &Points,
-    p: &DiffusionParams,
+    p: &Checked<DiffusionParams>,
     on_phase: &mut dyn FnMut(&'static str),
 ) -> Result<DiffusionModel> {
-    p.check()?;
     let c = p.components;
     if points.n < c + 2 || points.dim == 0 {
         return Err(Error::Analysis(format!(
@@ -1023,7 +1023,7 @@ impl DiffusionModel {
 /// [`landmark_error`]). Row i of the result belongs to row i of `points`. The result also holds
 /// the PCA baseline (scores on the first `components` principal axes and their variance
 /// shares) and the fitted model.
-pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> {
+pub fn diffusion_map(points: &Points, p: &Checked<DiffusionParams>) -> Result<Embedding> {
     diffusion_map_observed(points, p, &mut |_| {})
 }
 
@@ -1031,7 +1031,7 @@ pub fn diffusion_map(points: &Points, p: &DiffusionParams) -> Result<Embedding> 
 /// then `nystrom`, `landmark check` and `pca baseline`).
 pub fn diffusion_map_observed(
     points: &Points,
-    p: &DiffusionParams,
+    p: &Checked<DiffusionParams>,
     on_phase: &mut dyn FnMut(&'static str),
 ) -> Result<Embedding> {
     let model = fit_observed(points, p, on_phase)?;
@@ -1089,7 +1089,11 @@ pub fn pca_baseline(points: &Points, c: usize) -> Result<(Vec<f64>, usize, Vec<f
 /// (relative error, 0 = identical).
 ///
 /// Errors: the model has no landmarks outside the input, or the refit fails.
-pub fn landmark_error(points: &Points, model: &DiffusionModel, p: &DiffusionParams) -> Result<f64> {
+pub fn landmark_error(
+    points: &Points,
+    model: &DiffusionModel,
+    p: &Checked<DiffusionParams>,
+) -> Result<f64> {
     let mut is_landmark = vec![false; points.n];
     for &i in &model.landmark_index {
         if let Some(v) = is_landmark.get_mut(i) {
@@ -1113,11 +1117,12 @@ pub fn landmark_error(points: &Points, model: &DiffusionModel, p: &DiffusionPara
     let ext = model.extend(&held)?;
     let mut all = model.landmark_index.clone();
     all.extend_from_slice(&pick);
-    let q = DiffusionParams {
+    // A new block (the refit's landmark count), so checked here.
+    let q = Checked::new(DiffusionParams {
         max_fit_points: all.len().max(p.components + 2),
         landmark_check: 0,
-        ..p.clone()
-    };
+        ..(**p).clone()
+    })?;
     let refit = fit(&points.select(&all), &q)?;
     let c = model.components();
     let m = model.landmark_index.len();
@@ -1310,7 +1315,7 @@ mod tests {
         // each k ≥ 1 twice (cos kθ, sin kθ). ε = 0.1: 0.97467051, 0.90253295.
         // Tolerance: §5 gives ±0.003 for N = 2000 random points; the sampling error scales like
         // N^{-1/2}, so ±0.003·√(2000/1500) ≈ ±0.0035 for N = 1500; we allow ±0.005.
-        let emb = diffusion_map(&pts, &params(0.1, 4)).unwrap();
+        let emb = diffusion_map(&pts, &crate::params::ck(params(0.1, 4))).unwrap();
         eprintln!("circle eps 0.1 eigenvalues {:?}", emb.eigenvalues);
         let want = [0.97467051, 0.97467051, 0.90253295, 0.90253295];
         for (got, w) in emb.eigenvalues.iter().zip(want) {
@@ -1325,7 +1330,7 @@ mod tests {
         assert!(rc > 0.98 && rs > 0.98);
 
         // Source: docs/references.md §5 [C]: ε = 1: λ = 0.69777466 (twice), 0.30222534 (twice).
-        let emb = diffusion_map(&pts, &params(1.0, 4)).unwrap();
+        let emb = diffusion_map(&pts, &crate::params::ck(params(1.0, 4))).unwrap();
         eprintln!("circle eps 1 eigenvalues {:?}", emb.eigenvalues);
         // With this wide kernel the random angles split each degenerate pair at first order
         // by about λ·|ĉ₂|, ĉ₂ the empirical second Fourier coefficient of the angles
@@ -1344,7 +1349,7 @@ mod tests {
     #[test]
     fn swiss_roll_first_coordinate_follows_the_roll() {
         let (th, pts) = swiss_roll(1500, 5);
-        let emb = diffusion_map(&pts, &params(SWISS_EPS, 2)).unwrap();
+        let emb = diffusion_map(&pts, &crate::params::ck(params(SWISS_EPS, 2))).unwrap();
         let rho = spearman(&col(&emb.coords, 2, 0), &th);
         eprintln!(
             "swiss roll eigenvalues {:?} spearman {rho}",
@@ -1363,10 +1368,10 @@ mod tests {
     #[test]
     fn nystrom_matches_full_fit() {
         let (_, pts) = circle(1500, 11);
-        let full = diffusion_map(&pts, &params(0.1, 2)).unwrap();
+        let full = diffusion_map(&pts, &crate::params::ck(params(0.1, 2))).unwrap();
         let fit_idx: Vec<usize> = (0..750).collect();
         let new_idx: Vec<usize> = (750..1500).collect();
-        let model = fit(&pts.select(&fit_idx), &params(0.1, 2)).unwrap();
+        let model = fit(&pts.select(&fit_idx), &crate::params::ck(params(0.1, 2))).unwrap();
         // A landmark extended is its own fitted coordinate (P ψ = λ ψ on the fit set).
         let again = model.extend(&model.landmarks).unwrap();
         let own = model.coords_of_fit();
@@ -1421,7 +1426,7 @@ mod tests {
         let (th, _) = circle(1500, 11);
         let mut p = params(0.1, 2);
         p.max_fit_points = 600;
-        let emb = diffusion_map(&pts, &p).unwrap();
+        let emb = diffusion_map(&pts, &crate::params::ck(p.clone())).unwrap();
         assert_eq!(emb.n, 1500);
         let cos: Vec<f64> = th.iter().map(|t| t.cos()).collect();
         let rc = r2(&cos, &col(&emb.coords, 2, 0), &col(&emb.coords, 2, 1));
@@ -1453,8 +1458,8 @@ mod tests {
             seed: 3,
             ..DiffusionParams::default()
         };
-        let a = diffusion_map(&pts, &p).unwrap();
-        let b = diffusion_map(&pts, &p).unwrap();
+        let a = diffusion_map(&pts, &crate::params::ck(p.clone())).unwrap();
+        let b = diffusion_map(&pts, &crate::params::ck(p.clone())).unwrap();
         assert_eq!(a, b);
         assert!(a.epsilon > 0.0 && a.eigenvalues.windows(2).all(|w| w[0] >= w[1]));
         for bad in [
@@ -1500,14 +1505,18 @@ mod tests {
                 ..p.clone()
             },
         ] {
+            // Out of range: no checked form, so no fit.
             assert!(matches!(
-                diffusion_map(&pts, &bad),
+                crate::params::Check::check(bad.clone()),
                 Err(Error::Param { .. })
             ));
         }
         let few = Points::new(4, 3, vec![0.5; 12]).unwrap();
-        assert!(matches!(diffusion_map(&few, &p), Err(Error::Analysis(_))));
-        let model = fit(&pts, &p).unwrap();
+        assert!(matches!(
+            diffusion_map(&few, &crate::params::ck(p.clone())),
+            Err(Error::Analysis(_))
+        ));
+        let model = fit(&pts, &crate::params::ck(p.clone())).unwrap();
         let wrong = Points::new(1, 2, vec![0.0, 0.0]).unwrap();
         assert!(model.extend(&wrong).is_err());
     }
@@ -1522,7 +1531,7 @@ mod tests {
         let mut data = circ.data.clone();
         data.extend_from_slice(&[1.6, 0.0]);
         let pts = Points::new(401, 2, data).unwrap();
-        let global = diffusion_map(&pts, &params(0.01, 2)).unwrap();
+        let global = diffusion_map(&pts, &crate::params::ck(params(0.01, 2))).unwrap();
         assert!(
             global.eigenvalues[0] > 1.0 - 1e-9,
             "{:?}",
@@ -1530,10 +1539,10 @@ mod tests {
         );
         let local = diffusion_map(
             &pts,
-            &DiffusionParams {
+            &crate::params::ck(DiffusionParams {
                 components: 2,
                 ..DiffusionParams::default()
-            },
+            }),
         )
         .unwrap();
         assert!(local.eigenvalues[0] < 1.0 - 1e-4, "{:?}", local.eigenvalues);

@@ -12,6 +12,7 @@
 
 use super::Features;
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use serde::{Deserialize, Serialize};
 
@@ -96,7 +97,7 @@ pub fn beat_features(
     x: &[f64],
     fs_hz: f64,
     peaks: &[usize],
-    p: &FeatureParams,
+    p: &Checked<FeatureParams>,
 ) -> Result<Features> {
     beat_features_scaled(x, fs_hz, peaks, p).map(|(f, _)| f)
 }
@@ -107,9 +108,8 @@ pub fn beat_features_scaled(
     x: &[f64],
     fs_hz: f64,
     peaks: &[usize],
-    p: &FeatureParams,
+    p: &Checked<FeatureParams>,
 ) -> Result<(Features, f64)> {
-    p.check()?;
     if !(fs_hz.is_finite() && fs_hz > 0.0) {
         return Err(Error::param(
             "fs_hz",
@@ -254,7 +254,7 @@ mod tests {
         let fs = 1000.0;
         let peaks = [100, 900, 1700, 2500, 3300, 3900];
         let x = record(4000, &peaks);
-        let p = FeatureParams::default();
+        let p = Checked::default();
         let (f, scale) = beat_features_scaled(&x, fs, &peaks, &p).unwrap();
         // window 0.25 + 0.45 s at 100 Hz -> 70 columns, plus 2 RR columns.
         assert_eq!(f.points.dim, 72);
@@ -287,12 +287,13 @@ mod tests {
         let fs = 100.0;
         let peaks = [30, 130, 250];
         let x = record(400, &peaks);
-        let p = FeatureParams {
+        let p = Checked::new(FeatureParams {
             pre_s: 0.2,
             post_s: 0.2,
             decimate_to_hz: 200.0, // above fs: every sample kept
             rr_weight: 1.0,
-        };
+        })
+        .unwrap();
         let (f, scale) = beat_features_scaled(&x, fs, &peaks, &p).unwrap();
         assert_eq!(f.points.dim, 41 + 2);
         assert_eq!(f.beat_index, vec![0, 1, 2]);
@@ -307,7 +308,7 @@ mod tests {
     #[test]
     fn errors() {
         let x = vec![0.0; 1000];
-        let p = FeatureParams::default();
+        let p: Checked<FeatureParams> = Checked::default();
         assert!(matches!(
             beat_features(&x, 0.0, &[300, 600], &p),
             Err(Error::Param { .. })
@@ -320,20 +321,20 @@ mod tests {
         for bad in [
             FeatureParams {
                 pre_s: -0.1,
-                ..p.clone()
+                ..(*p).clone()
             },
             FeatureParams {
                 pre_s: 0.0,
                 post_s: 0.0,
-                ..p.clone()
+                ..(*p).clone()
             },
             FeatureParams {
                 decimate_to_hz: 0.0,
-                ..p.clone()
+                ..(*p).clone()
             },
             FeatureParams {
                 rr_weight: f64::NAN,
-                ..p.clone()
+                ..(*p).clone()
             },
         ] {
             assert!(matches!(bad.check(), Err(Error::Param { .. })));

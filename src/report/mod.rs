@@ -30,6 +30,7 @@ mod summary;
 mod tests;
 
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::pipeline::Analysis;
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -133,8 +134,7 @@ pub struct Written {
 ///
 /// Degenerate analyses (no beats, constant or non-finite values) still give every file; figures
 /// that cannot be drawn say why instead.
-pub fn write_all(a: &Analysis, out_dir: &Path, opts: &ReportOptions) -> Result<Written> {
-    opts.check()?;
+pub fn write_all(a: &Analysis, out_dir: &Path, opts: &Checked<ReportOptions>) -> Result<Written> {
     let view = opts.view();
     fs::create_dir_all(out_dir).map_err(|e| Error::io(out_dir, e))?;
     let mut files = Vec::new();

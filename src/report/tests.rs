@@ -297,7 +297,7 @@ fn write_all_creates_every_promised_file() {
     let tmp = tempfile::tempdir().unwrap();
     let out = tmp.path().join("out");
     let a = sample_analysis();
-    let w = write_all(&a, &out, &ReportOptions::default()).unwrap();
+    let w = write_all(&a, &out, &crate::params::Checked::default()).unwrap();
     assert_eq!(w.dir, out);
     let expected = expected_files(&out);
     assert_eq!(w.files.len(), expected.len());
@@ -323,7 +323,7 @@ fn options_turn_outputs_off() {
         svg: true,
         ..Default::default()
     };
-    let w = write_all(&a, tmp.path(), &opts).unwrap();
+    let w = write_all(&a, tmp.path(), &crate::params::ck(opts.clone())).unwrap();
     assert_eq!(w.files.len(), FIGS.len() + 3);
     assert!(!tmp.path().join("figures/trace.png").exists());
     let opts = ReportOptions {
@@ -331,7 +331,7 @@ fn options_turn_outputs_off() {
         ..Default::default()
     };
     let tmp2 = tempfile::tempdir().unwrap();
-    let w = write_all(&a, tmp2.path(), &opts).unwrap();
+    let w = write_all(&a, tmp2.path(), &crate::params::ck(opts.clone())).unwrap();
     assert_eq!(w.files.len(), 3);
     let page = std::fs::read_to_string(tmp2.path().join("report.html")).unwrap();
     assert!(!page.contains("class=\"bf-figure\""));
@@ -499,8 +499,8 @@ fn two_runs_give_identical_summary_html_and_svg() {
         png: false,
         ..Default::default()
     };
-    write_all(&a, t1.path(), &opts).unwrap();
-    write_all(&a, t2.path(), &opts).unwrap();
+    write_all(&a, t1.path(), &crate::params::ck(opts.clone())).unwrap();
+    write_all(&a, t2.path(), &crate::params::ck(opts.clone())).unwrap();
     for f in [
         "summary.json",
         "report.html",
@@ -622,10 +622,10 @@ fn html_escapes_user_text() {
     write_all(
         &a,
         tmp.path(),
-        &ReportOptions {
+        &crate::params::ck(ReportOptions {
             png: false,
             ..Default::default()
-        },
+        }),
     )
     .unwrap();
     let page = std::fs::read_to_string(tmp.path().join("report.html")).unwrap();
@@ -678,7 +678,7 @@ fn write_atomic_replaces_or_leaves_intact() {
 fn degenerate_analysis_still_writes_everything() {
     let a = degenerate_analysis();
     let tmp = tempfile::tempdir().unwrap();
-    let w = write_all(&a, tmp.path(), &ReportOptions::default()).unwrap();
+    let w = write_all(&a, tmp.path(), &crate::params::Checked::default()).unwrap();
     for p in expected_files(tmp.path()) {
         assert!(w.files.contains(&p));
         assert!(std::fs::metadata(&p).unwrap().len() > 0, "{}", p.display());

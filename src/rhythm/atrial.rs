@@ -52,6 +52,7 @@
 //! fibrillatory waves and the index is low and varies from beat to beat.
 
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use serde::{Deserialize, Serialize};
 
 /// Parameters of [`p_wave_index_with`]; the defaults are argued in the module documentation.
@@ -302,7 +303,7 @@ fn match_index(seg: &[f64], tpl: &[f64]) -> f64 {
 /// P-wave presence index per beat with default [`AtrialParams`]: `conditioned` samples at
 /// `fs_hz`, `samples` the R-peak indices in increasing order. Only the index is returned.
 pub fn p_wave_index(conditioned: &[f64], samples: &[usize], fs_hz: f64) -> Result<Vec<f64>> {
-    Ok(p_wave_index_with(conditioned, samples, fs_hz, &AtrialParams::default())?.index)
+    Ok(p_wave_index_with(conditioned, samples, fs_hz, &Checked::default())?.index)
 }
 
 /// P-wave presence index per beat (see the module documentation), with the template and its
@@ -311,9 +312,8 @@ pub fn p_wave_index_with(
     conditioned: &[f64],
     samples: &[usize],
     fs_hz: f64,
-    p: &AtrialParams,
+    p: &Checked<AtrialParams>,
 ) -> Result<PWaveIndex> {
-    p.check()?;
     if !(fs_hz.is_finite() && fs_hz > 0.0) {
         return Err(Error::param(
             "fs_hz",
@@ -570,7 +570,7 @@ mod tests {
             })
             .collect();
         let (x, r) = lead(&rr, &[true; 350], 0.02, 12);
-        let pw = p_wave_index_with(&x, &r, FS, &AtrialParams::default()).unwrap();
+        let pw = p_wave_index_with(&x, &r, FS, &crate::params::Checked::default()).unwrap();
         assert!(pw.accepted, "agreement {}", pw.agreement);
         let irr: Vec<f64> = pw.index[151..349].to_vec();
         let mut sorted: Vec<f64> = irr.iter().copied().filter(|v| v.is_finite()).collect();
@@ -624,8 +624,8 @@ mod tests {
             onset_slope_share: 0.0,
             ..AtrialParams::default()
         };
-        let peak = p_wave_index_with(&af, &fid, FS, &on_peak).unwrap();
-        let onset = p_wave_index_with(&af, &fid, FS, &AtrialParams::default()).unwrap();
+        let peak = p_wave_index_with(&af, &fid, FS, &crate::params::ck(on_peak.clone())).unwrap();
+        let onset = p_wave_index_with(&af, &fid, FS, &crate::params::Checked::default()).unwrap();
         let med = |p: &PWaveIndex| crate::stats::median(p.index.iter().copied());
         eprintln!(
             "no P: anchored on the fiducial accepted {} agreement {:.2}; on the onset accepted {} agreement {:.2}",
@@ -642,7 +642,7 @@ mod tests {
             med(&onset)
         );
         let (sinus, fid) = late_fiducial_lead(&rr, true, 6);
-        let pw = p_wave_index_with(&sinus, &fid, FS, &AtrialParams::default()).unwrap();
+        let pw = p_wave_index_with(&sinus, &fid, FS, &crate::params::Checked::default()).unwrap();
         assert!(pw.accepted, "agreement {:.2}", pw.agreement);
         assert!(med(&pw) > 0.8, "median {:.2}", med(&pw));
     }
@@ -673,7 +673,7 @@ mod tests {
             let t_af = r[150] as f64 / FS - 0.5;
             let len_s = x.len() as f64 / FS;
             fibrillation(&mut x, t_af, len_s, 0.1, 40 + seed);
-            let pw = p_wave_index_with(&x, &r, FS, &AtrialParams::default()).unwrap();
+            let pw = p_wave_index_with(&x, &r, FS, &crate::params::Checked::default()).unwrap();
             assert!(pw.accepted, "seed {seed}: agreement {}", pw.agreement);
             let af: Vec<f64> = pw.index[152..350].to_vec();
             let finite: Vec<f64> = af.iter().copied().filter(|v| v.is_finite()).collect();
@@ -700,7 +700,7 @@ mod tests {
         let (mut x, r) = lead(&rr, &[false; 300], 0.01, 6);
         let len_s = x.len() as f64 / FS;
         fibrillation(&mut x, 0.0, len_s, 0.1, 7);
-        let pw = p_wave_index_with(&x, &r, FS, &AtrialParams::default()).unwrap();
+        let pw = p_wave_index_with(&x, &r, FS, &crate::params::Checked::default()).unwrap();
         eprintln!(
             "all AF: {} template beats, agreement {:.3}",
             pw.template_beats, pw.agreement
@@ -730,7 +730,7 @@ mod tests {
             window_end_ms: 400.0,
             ..AtrialParams::default()
         };
-        assert!(p_wave_index_with(&x, &[200], FS, &bad).is_err());
+        assert!(crate::params::Check::check(bad.clone()).is_err());
         let bad = AtrialParams {
             regular_tol: 0.0,
             ..AtrialParams::default()

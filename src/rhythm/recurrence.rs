@@ -11,6 +11,7 @@
 //! (vertical) do not count as lines.
 
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::points::Points;
 use serde::{Deserialize, Serialize};
 
@@ -280,9 +281,8 @@ pub fn recurrence_matrix(
     p: &Points,
     start: usize,
     end: usize,
-    params: &RqaParams,
+    params: &Checked<RqaParams>,
 ) -> Result<(Vec<bool>, f64)> {
-    params.check()?;
     if start >= end || end > p.n {
         return Err(Error::param(
             "recurrence window",
@@ -309,9 +309,8 @@ pub struct RqaWindow {
 /// Recurrence measures in sliding windows of `params.window` points, stepping `params.step`
 /// (memory O(window²), windows processed in parallel). A trajectory shorter than one window
 /// gives a single window over all points.
-pub fn rqa_timeline(p: &Points, params: &RqaParams) -> Result<Vec<RqaWindow>> {
+pub fn rqa_timeline(p: &Points, params: &Checked<RqaParams>) -> Result<Vec<RqaWindow>> {
     use rayon::prelude::*;
-    params.check()?;
     if p.n < 8 {
         return Err(Error::Analysis(format!(
             "{} points are too few for recurrence quantification (at least 8)",
@@ -407,13 +406,13 @@ mod tests {
             .map(|i| vec![(i as f64 * 0.3).sin(), (i as f64 * 0.3).cos()])
             .collect();
         let p = Points::from_rows(&pts).unwrap();
-        let t = rqa_timeline(&p, &RqaParams::default()).unwrap();
+        let t = rqa_timeline(&p, &crate::params::Checked::default()).unwrap();
         assert_eq!(t.len(), (1000 - 256) / 64 + 1);
         assert_eq!(t[1].start, 64);
         assert!(t.iter().all(|w| w.rqa.det > 0.9));
         assert!(rqa_timeline(
             &Points::from_rows(&[vec![0.0]]).unwrap(),
-            &RqaParams::default()
+            &crate::params::Checked::default()
         )
         .is_err());
     }

@@ -31,6 +31,7 @@
 
 use super::entropy::{shannon_entropy, turning_point_ratio};
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use serde::{Deserialize, Serialize};
 
 /// Parameters of the screen.
@@ -332,14 +333,18 @@ fn window_stats(rr: &[f64], trim: usize) -> (f64, f64, f64) {
 
 /// Run the screen on RR intervals `rr_s` whose end times are `t_end_s` (seconds; the time of
 /// the beat closing each interval).
-pub fn screen(rr_s: &[f64], t_end_s: &[f64], p: &ScreenParams) -> Result<Screen> {
+pub fn screen(rr_s: &[f64], t_end_s: &[f64], p: &Checked<ScreenParams>) -> Result<Screen> {
     screen_inner(rr_s, t_end_s, &[], p)
 }
 
 /// [`screen`] with a P-wave presence index per interval (`atrial`, that of the beat closing
 /// the interval; empty for none).
-fn screen_inner(rr_s: &[f64], t_end_s: &[f64], atrial: &[f64], p: &ScreenParams) -> Result<Screen> {
-    p.check()?;
+fn screen_inner(
+    rr_s: &[f64],
+    t_end_s: &[f64],
+    atrial: &[f64],
+    p: &Checked<ScreenParams>,
+) -> Result<Screen> {
     if rr_s.len() != t_end_s.len() || !(atrial.is_empty() || atrial.len() == rr_s.len()) {
         return Err(Error::Analysis(
             "RR intervals, their times and their P-wave index differ in length".into(),
@@ -666,7 +671,7 @@ pub fn screen_beats(
     rr_s: &[f64],
     labels: &[char],
     fs_hz: f64,
-    p: &ScreenParams,
+    p: &Checked<ScreenParams>,
 ) -> Result<Screen> {
     screen_beats_atrial(samples, rr_s, labels, &[], fs_hz, p)
 }
@@ -685,7 +690,7 @@ pub fn screen_beats_atrial(
     labels: &[char],
     atrial: &[f64],
     fs_hz: f64,
-    p: &ScreenParams,
+    p: &Checked<ScreenParams>,
 ) -> Result<Screen> {
     if !(atrial.is_empty() || atrial.len() == samples.len()) {
         return Err(Error::Analysis(format!(
@@ -807,7 +812,7 @@ mod tests {
 
     fn check_seed(seed: u64) {
         let (rr, t) = series(seed);
-        let s = screen(&rr, &t, &ScreenParams::default()).unwrap();
+        let s = screen(&rr, &t, &crate::params::Checked::default()).unwrap();
         assert_eq!(s.episodes.len(), 1, "{:?}", s.episodes);
         let truth = [(t[399], t[799])];
         let det: Vec<(f64, f64)> = s.episodes.iter().map(|e| (e.start_s, e.end_s)).collect();
@@ -828,9 +833,9 @@ mod tests {
 
     #[test]
     fn short_series_give_no_windows() {
-        let s = screen(&[0.8; 50], &[1.0; 50], &ScreenParams::default()).unwrap();
+        let s = screen(&[0.8; 50], &[1.0; 50], &crate::params::Checked::default()).unwrap();
         assert!(s.windows.is_empty() && s.episodes.is_empty());
-        assert!(screen(&[0.8; 5], &[1.0; 4], &ScreenParams::default()).is_err());
+        assert!(screen(&[0.8; 5], &[1.0; 4], &crate::params::Checked::default()).is_err());
     }
 }
 
@@ -859,7 +864,7 @@ mod edge_tests {
             acc += r;
             t.push(acc);
         }
-        let sc = screen(&rr, &t, &ScreenParams::default()).unwrap();
+        let sc = screen(&rr, &t, &crate::params::Checked::default()).unwrap();
         assert_eq!(sc.episodes.len(), 1, "{:?}", sc.episodes);
         let first = sc.irregular.iter().position(|&v| v).unwrap();
         let last = sc.irregular.iter().rposition(|&v| v).unwrap();
@@ -870,7 +875,7 @@ mod edge_tests {
             edge_beats: 0,
             ..ScreenParams::default()
         };
-        let sc0 = screen(&rr, &t, &loose).unwrap();
+        let sc0 = screen(&rr, &t, &crate::params::ck(loose.clone())).unwrap();
         let f0 = sc0.irregular.iter().position(|&v| v).unwrap();
         assert!(f0 < first, "unrefined start {f0}, refined {first}");
     }
@@ -924,7 +929,7 @@ mod split_tests {
                 .collect();
             let rr = sandwich(seed, &middle);
             let t = times(&rr);
-            let sc = screen(&rr, &t, &ScreenParams::default()).unwrap();
+            let sc = screen(&rr, &t, &crate::params::Checked::default()).unwrap();
             assert_eq!(sc.episodes.len(), 2, "seed {seed}: {:?}", sc.episodes);
             let last_first = (0..460).rev().find(|&k| sc.irregular[k]).unwrap();
             let first_second = (400..rr.len()).find(|&k| sc.irregular[k]).unwrap();
@@ -942,7 +947,7 @@ mod split_tests {
                 split_regular_s: 0.0,
                 ..ScreenParams::default()
             };
-            let sc0 = screen(&rr, &t, &off).unwrap();
+            let sc0 = screen(&rr, &t, &crate::params::ck(off.clone())).unwrap();
             assert_eq!(sc0.episodes.len(), 1, "seed {seed}: {:?}", sc0.episodes);
         }
     }
@@ -972,7 +977,7 @@ mod split_tests {
             assert!(local_nrmssd(&middle) > 0.3);
             let rr = sandwich(seed, &middle);
             let t = times(&rr);
-            let sc = screen(&rr, &t, &ScreenParams::default()).unwrap();
+            let sc = screen(&rr, &t, &crate::params::Checked::default()).unwrap();
             let flagged = sc.irregular[400..500].iter().filter(|&&v| v).count();
             eprintln!("two levels seed {seed}: {flagged} flagged");
             assert!(flagged <= 40, "seed {seed}: {flagged} of 100 flagged");
@@ -984,9 +989,9 @@ mod split_tests {
                 split_regular_s: 0.0,
                 ..no_edges.clone()
             };
-            let sc1 = screen(&rr, &t, &no_edges).unwrap();
+            let sc1 = screen(&rr, &t, &crate::params::ck(no_edges.clone())).unwrap();
             let flagged1 = sc1.irregular[400..500].iter().filter(|&&v| v).count();
-            let sc0 = screen(&rr, &t, &off).unwrap();
+            let sc0 = screen(&rr, &t, &crate::params::ck(off.clone())).unwrap();
             let flagged0 = sc0.irregular[400..500].iter().filter(|&&v| v).count();
             eprintln!("two levels seed {seed}: {flagged1} / {flagged0} flagged with / without split (edges off)");
             total += flagged1;
@@ -1006,7 +1011,7 @@ mod split_tests {
             let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(300 + seed);
             let rr: Vec<f64> = (0..1000).map(|_| rng.gen_range(0.4..1.0)).collect();
             let t = times(&rr);
-            let sc = screen(&rr, &t, &ScreenParams::default()).unwrap();
+            let sc = screen(&rr, &t, &crate::params::Checked::default()).unwrap();
             assert_eq!(sc.episodes.len(), 1, "seed {seed}: {:?}", sc.episodes);
             let covered = sc.episodes[0].end_s - sc.episodes[0].start_s;
             eprintln!("irregular seed {seed}: {:.4}", covered / t[999]);
@@ -1097,7 +1102,9 @@ mod atrial_tests {
             let labels = vec!['N'; s.len()];
             let atrial = p_wave_index(&x, &s, FS).unwrap();
             let p = ScreenParams::default();
-            let sc = screen_beats_atrial(&s, &rr, &labels, &atrial, FS, &p).unwrap();
+            let sc =
+                screen_beats_atrial(&s, &rr, &labels, &atrial, FS, &crate::params::ck(p.clone()))
+                    .unwrap();
             let share = |v: &[bool]| v.iter().filter(|&&b| b).count() as f64 / v.len() as f64;
             let in_p = share(&sc.irregular[449..549]);
             let in_af = share(&[&sc.irregular[150..449], &sc.irregular[550..849]].concat());
@@ -1105,9 +1112,17 @@ mod atrial_tests {
                 atrial_veto: false,
                 ..p.clone()
             };
-            let sc0 = screen_beats_atrial(&s, &rr, &labels, &atrial, FS, &off).unwrap();
+            let sc0 = screen_beats_atrial(
+                &s,
+                &rr,
+                &labels,
+                &atrial,
+                FS,
+                &crate::params::ck(off.clone()),
+            )
+            .unwrap();
             let in_p0 = share(&sc0.irregular[449..549]);
-            let plain = screen_beats(&s, &rr, &labels, FS, &p).unwrap();
+            let plain = screen_beats(&s, &rr, &labels, FS, &crate::params::ck(p.clone())).unwrap();
             eprintln!(
                 "veto seed {seed}: P stretch {in_p:.2} flagged (off {in_p0:.2}), AF {in_af:.3}, {} episodes",
                 sc.episodes.len()
@@ -1142,9 +1157,23 @@ mod atrial_tests {
         let s = [0usize, 200, 400];
         let rr = [0.8, 0.8];
         let p = ScreenParams::default();
-        assert!(screen_beats_atrial(&s, &rr, &[], &[0.5; 2], FS, &p).is_err());
+        assert!(
+            screen_beats_atrial(&s, &rr, &[], &[0.5; 2], FS, &crate::params::ck(p.clone()))
+                .is_err()
+        );
         // All-NaN index: same as no index.
-        let a = screen_beats_atrial(&s, &rr, &[], &[f64::NAN; 3], FS, &p).unwrap();
-        assert_eq!(a, screen_beats(&s, &rr, &[], FS, &p).unwrap());
+        let a = screen_beats_atrial(
+            &s,
+            &rr,
+            &[],
+            &[f64::NAN; 3],
+            FS,
+            &crate::params::ck(p.clone()),
+        )
+        .unwrap();
+        assert_eq!(
+            a,
+            screen_beats(&s, &rr, &[], FS, &crate::params::ck(p.clone())).unwrap()
+        );
     }
 }

@@ -131,7 +131,7 @@ pub fn labelled_beats(
     let b = pipeline::detect_beats(rec, p)?;
     let fs = rec.fs_hz;
     let cls = classify_detections(&rec.annotations.beats, &b.samples, fs, p.score_window_s);
-    let feats = features::beat_features(&b.conditioned, fs, &b.samples, &p.features)
+    let feats = features::beat_features(&b.conditioned, fs, &b.samples, &p.features())
         .map_err(|e| Error::Analysis(format!("record `{}`: beat features: {e}", rec.name)))?;
     let mut counts = BeatCounts {
         reference: rec.annotations.beats.len(),

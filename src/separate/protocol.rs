@@ -17,6 +17,7 @@ use super::neighbours;
 use super::vote::{self, SpaceScore};
 use crate::embed::{self, DiffusionParams, Pca};
 use crate::error::{Error, Result};
+use crate::params::Checked;
 use crate::pipeline::{AnalyzeParams, MIN_BEATS_FOR_GEOMETRY};
 use crate::points::Points;
 use rayon::prelude::*;
@@ -379,7 +380,8 @@ fn space_coords(
         }
         Space::Diffusion => {
             let dp = diffusion_params_for(fit.n, p, landmarks);
-            let e = embed::diffusion_map(fit, &dp)?;
+            // A new block (the fit set's size decides kernel and landmarks): checked here.
+            let e = embed::diffusion_map(fit, &Checked::new(dp)?)?;
             let c = e.components;
             let f = Points::new(e.n, c, e.coords)?;
             let t_fit = t0.elapsed().as_secs_f64();
@@ -440,10 +442,9 @@ fn distinct_classes(c: &[BeatClass]) -> usize {
 /// Errors: bad parameters; no record with enough beats; a single class over all scored beats.
 pub fn within_record(
     records: &[LabelledBeats],
-    p: &AnalyzeParams,
-    sp: &SeparateParams,
+    p: &Checked<AnalyzeParams>,
+    sp: &Checked<SeparateParams>,
 ) -> Result<Separation> {
-    sp.check()?;
     let mut notes = Vec::new();
     let scored: Vec<&LabelledBeats> = records
         .iter()
@@ -522,10 +523,9 @@ pub fn within_record(
 pub fn inter_patient(
     fit: &[LabelledBeats],
     test: &[LabelledBeats],
-    p: &AnalyzeParams,
-    sp: &SeparateParams,
+    p: &Checked<AnalyzeParams>,
+    sp: &Checked<SeparateParams>,
 ) -> Result<Separation> {
-    sp.check()?;
     if let Some(r) = fit
         .iter()
         .find(|f| test.iter().any(|t| t.record == f.record))

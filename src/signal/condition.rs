@@ -15,6 +15,7 @@ use serde::{Deserialize, Serialize};
 use super::filter::Sos;
 use super::median::sliding_median;
 use crate::error::{Error, Result};
+use crate::params::Checked;
 
 /// The baseline is estimated on block means at about this rate (Hz); see [`Conditioner`].
 pub const BASELINE_RATE_HZ: f64 = 50.0;
@@ -110,9 +111,8 @@ fn odd_len(len: f64) -> usize {
 }
 
 impl Conditioner {
-    /// Check `p` against `fs_hz` and design the filters.
-    pub fn new(fs_hz: f64, p: &ConditionParams) -> Result<Conditioner> {
-        p.check()?;
+    /// Design the filters of checked parameters `p` for `fs_hz` (the rate is checked here).
+    pub fn new(fs_hz: f64, p: &Checked<ConditionParams>) -> Result<Conditioner> {
         let band = Sos::checked_bandpass(p.order, p.band_hz, fs_hz)?;
         let chain = match p.notch_hz {
             Some(f0) => band.then(&super::plan::planned(
@@ -247,7 +247,7 @@ pub fn fill_non_finite(x: &[f64]) -> Result<Vec<f64>> {
 
 /// Condition one lead with filters designed for `fs_hz` (see [`Conditioner`]; to condition many
 /// leads at one rate, build a [`Conditioner`] once and call [`Conditioner::apply`]).
-pub fn condition(x: &[f64], fs_hz: f64, p: &ConditionParams) -> Result<Vec<f64>> {
+pub fn condition(x: &[f64], fs_hz: f64, p: &Checked<ConditionParams>) -> Result<Vec<f64>> {
     Conditioner::new(fs_hz, p)?.apply(x)
 }
 
@@ -293,7 +293,7 @@ mod tests {
                 v + 0.8 * (2.0 * PI * 0.3 * t).sin() + 0.3 * (2.0 * PI * 50.0 * t).sin()
             })
             .collect();
-        let p = ConditionParams::default();
+        let p = Checked::default();
         let cond = Conditioner::new(fs, &p).unwrap();
         let y = cond.apply(&noisy).unwrap();
         let y_clean = cond.apply(&clean).unwrap();
@@ -336,7 +336,7 @@ mod tests {
         let fs = 250.0;
         let mut x = pulses(2500, fs);
         x[1000] = f64::NAN;
-        let y = condition(&x, fs, &ConditionParams::default()).unwrap();
+        let y = condition(&x, fs, &Checked::default()).unwrap();
         assert_eq!(y.len(), 2500);
         assert!(y.iter().all(|v| v.is_finite()));
     }
@@ -347,7 +347,7 @@ mod tests {
         assert!(p.check().is_ok());
         p.band_hz = (40.0, 0.5);
         assert!(p.check().is_err());
-        let p = ConditionParams::default();
+        let p = Checked::default();
         // 40 Hz band edge is above the Nyquist frequency at 60 Hz sampling.
         assert!(Conditioner::new(60.0, &p).is_err());
         assert!(Conditioner::new(f64::NAN, &p).is_err());
@@ -368,7 +368,7 @@ mod tests {
         let fs = 250.0;
         let n = 21_600_000;
         let x = pulses(n, fs);
-        let cond = Conditioner::new(fs, &ConditionParams::default()).unwrap();
+        let cond = Conditioner::new(fs, &Checked::default()).unwrap();
         let t0 = std::time::Instant::now();
         let y = cond.apply(&x).unwrap();
         eprintln!(

@@ -88,7 +88,7 @@ mod tests {
         assert_eq!(designs_made_by_this_thread(), before + 2);
         assert_ne!(a, c);
         // A conditioner for many leads at one rate designs its chain once.
-        let p = crate::signal::ConditionParams::default();
+        let p = crate::params::Checked::<crate::signal::ConditionParams>::default();
         let n0 = designs_made_by_this_thread();
         for _ in 0..3 {
             crate::signal::Conditioner::new(411.5, &p).unwrap();

@@ -28,6 +28,7 @@ pub use params::{SynthParams, MAX_MINUTES};
 pub use scenario::Scenario;
 
 use crate::error::Result;
+use crate::params::Checked;
 use crate::record::{
     Annotations, BeatAnnotation, Lead, Record, RhythmInterval, RHYTHM_IRREGULAR, RHYTHM_REGULAR,
 };
@@ -69,9 +70,8 @@ fn n_samples(p: &SynthParams) -> usize {
 }
 
 /// Schedule the beats, integrate the model, add the fibrillatory baseline and, when
-/// `with_noise`, the recording noise.
+/// `with_noise`, the recording noise. `p` has been checked by the caller.
 fn generate(p: &SynthParams, with_noise: bool) -> Result<Generated> {
-    p.check()?;
     let n = n_samples(p);
     let fs = p.fs_hz;
     let duration_s = n as f64 / fs;
@@ -179,8 +179,9 @@ fn annotations(p: &SynthParams, g: &Generated, n: usize) -> Annotations {
 ///
 /// The record is named `p.name` (or `"synthetic"` when empty), has `p.leads` leads named
 /// `"ecg1"`, `"ecg2"` in `"mV"`, and its annotations list every beat and the rhythm intervals.
-/// Errors: a [`crate::Error::Param`] naming the first out-of-range parameter.
-pub fn synthesize(p: &SynthParams) -> Result<Record> {
+/// The parameters were checked by [`crate::params::Check::check`]
+/// (a [`crate::Error::Param`] names the first out-of-range one).
+pub fn synthesize(p: &Checked<SynthParams>) -> Result<Record> {
     let g = generate(p, true)?;
     let n = n_samples(p);
     let annotations = annotations(p, &g, n);

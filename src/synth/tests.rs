@@ -45,7 +45,7 @@ fn cv(v: &[f64]) -> f64 {
 fn mean_heart_rate_is_reproduced() {
     for hr in [60.0, 120.0] {
         let p = params(hr, 5.0);
-        let rec = synthesize(&p).expect("valid parameters");
+        let rec = synthesize(&crate::params::ck(p.clone())).expect("valid parameters");
         let beats = &rec.annotations.beats;
         let duration_s = rec.duration_s();
         // Own specification: beats per minute from the count. The count of beats in a window
@@ -144,12 +144,12 @@ fn local_max(x: &[f64], centre: usize, half_width: f64) -> usize {
 #[test]
 fn same_seed_same_record_other_seed_other_record() {
     let p = SynthParams::for_scenario(Scenario::AmbulatoryNoisy, 1.0, 250.0, 11);
-    let a = synthesize(&p).expect("valid");
-    let b = synthesize(&p).expect("valid");
+    let a = synthesize(&crate::params::ck(p.clone())).expect("valid");
+    let b = synthesize(&crate::params::ck(p.clone())).expect("valid");
     assert_eq!(a, b);
     let mut q = p.clone();
     q.seed = 12;
-    let c = synthesize(&q).expect("valid");
+    let c = synthesize(&crate::params::ck(q.clone())).expect("valid");
     assert_ne!(a.leads[0].samples, c.leads[0].samples);
     assert_ne!(a.annotations.beats, c.annotations.beats);
 }
@@ -478,7 +478,7 @@ fn second_lead_is_a_different_projection() {
     println!("lead 1 / lead 2 correlation {corr:.3}");
     // Own specification: not a scaled copy (a copy would have correlation 1).
     assert!(corr < 0.95, "lead correlation {corr}");
-    let rec = synthesize(&p).expect("valid");
+    let rec = synthesize(&crate::params::ck(p.clone())).expect("valid");
     assert_eq!(rec.leads[0].name, "ecg1");
     assert_eq!(rec.leads[1].name, "ecg2");
     assert_eq!(rec.leads[1].unit, "mV");
@@ -493,7 +493,7 @@ fn noise_components_have_the_requested_size() {
     p.motion_mv = 0.0;
     p.muscle_noise_mv = 0.05;
     let (clean_leads, _, _) = clean(&p);
-    let rec = synthesize(&p).expect("valid");
+    let rec = synthesize(&crate::params::ck(p.clone())).expect("valid");
     let diff: Vec<f64> = rec.leads[0]
         .samples
         .iter()
@@ -509,7 +509,7 @@ fn noise_components_have_the_requested_size() {
 
     p.muscle_noise_mv = 0.0;
     p.mains_mv = 0.1;
-    let rec = synthesize(&p).expect("valid");
+    let rec = synthesize(&crate::params::ck(p.clone())).expect("valid");
     let d: Vec<f64> = rec.leads[0]
         .samples
         .iter()
@@ -529,7 +529,7 @@ fn noise_components_have_the_requested_size() {
     p.mains_mv = 0.0;
     p.motion_bursts_per_min = 10.0;
     p.motion_mv = 1.0;
-    let rec = synthesize(&p).expect("valid");
+    let rec = synthesize(&crate::params::ck(p.clone())).expect("valid");
     let peak = rec.leads[0]
         .samples
         .iter()
@@ -606,14 +606,15 @@ fn out_of_range_parameters_are_rejected_by_name() {
     for (want, edit) in cases {
         let mut p = SynthParams::default();
         edit(&mut p);
-        match synthesize(&p) {
+        // Out of range: no checked form, so nothing is synthesised.
+        match crate::params::Check::check(p.clone()) {
             Err(Error::Param { name, msg }) => {
                 assert_eq!(name, want, "message: {msg}");
                 assert!(!msg.is_empty());
             }
             other => panic!(
                 "{want}: expected a parameter error, got {:?}",
-                other.map(|r| r.name)
+                other.map(|r| r.name.clone())
             ),
         }
     }
@@ -634,7 +635,7 @@ fn timing_long_records() {
         println!("  noise-free only: {:.2} s", t.elapsed().as_secs_f64());
         drop(g);
         let t = std::time::Instant::now();
-        let rec = synthesize(&p).expect("valid");
+        let rec = synthesize(&crate::params::ck(p.clone())).expect("valid");
         println!(
             "{} {minutes} min, {} leads × {} samples, {} beats: {:.2} s",
             s.name(),
