@@ -96,7 +96,7 @@ pub struct Analysis {
     pub elapsed_s: f64,
 }
 use crate::beats::{self, DetectParams, DetectorChoice, ElgendiParams, FusionParams};
-use crate::dimension::{self, KmeansScalingParams};
+use crate::dimension::{self, KmeansScalingParams, SuiteParams};
 use crate::embed::{self, DiffusionParams};
 use crate::error::{Error, Result};
 use crate::features::{self, FeatureParams};
@@ -141,8 +141,11 @@ pub struct AnalyzeParams {
     pub features: FeatureParams,
     /// Diffusion map.
     pub diffusion: DiffusionParams,
-    /// k-means quantization scaling.
-    pub dimension: KmeansScalingParams,
+    /// The dimension suite: estimators, bootstrap, seed and each estimator's keys
+    /// (`dimension.twonn_discard`, `dimension.mle_k1`, …), with k-means quantization scaling
+    /// under `dimension.kmeans`. `dimension.seed` is the seed of the whole suite, k-means
+    /// included (`dimension.kmeans.seed` is refused).
+    pub dimension: SuiteParams,
     /// Irregular-rhythm screen.
     pub screen: crate::rhythm::screen::ScreenParams,
     /// P-wave presence index feeding the screen's atrial veto (`screen.atrial_veto`).
@@ -183,7 +186,7 @@ impl Default for AnalyzeParams {
             // The library default: a variable bandwidth (Berry & Harlim 2016), which also keeps
             // rare beat shapes connected to their nearest neighbours.
             diffusion: DiffusionParams::default(),
-            dimension: KmeansScalingParams::default(),
+            dimension: SuiteParams::default(),
             screen: crate::rhythm::screen::ScreenParams::default(),
             atrial: crate::rhythm::atrial::AtrialParams::default(),
             recurrence: crate::rhythm::recurrence::RqaParams::default(),
@@ -227,6 +230,12 @@ impl Check for AnalyzeParams {
         self.diffusion
             .validate()
             .map_err(|e| e.in_block("diffusion"))?;
+        if self.dimension.kmeans.seed != KmeansScalingParams::default().seed {
+            return Err(Error::param(
+                "dimension.kmeans.seed",
+                "the k-means seed is dimension.seed (one seed for the whole suite); leave this key out",
+            ));
+        }
         self.dimension
             .validate()
             .map_err(|e| e.in_block("dimension"))?;
@@ -280,9 +289,12 @@ impl Checked<AnalyzeParams> {
     pub fn diffusion(&self) -> Checked<DiffusionParams> {
         Checked::part_of_checked(self.diffusion.clone())
     }
-    /// `dimension`, checked.
+    /// `dimension.kmeans` with the suite's seed, checked.
     pub fn dimension(&self) -> Checked<KmeansScalingParams> {
-        Checked::part_of_checked(self.dimension.clone())
+        Checked::part_of_checked(KmeansScalingParams {
+            seed: self.dimension.seed,
+            ..self.dimension.kmeans.clone()
+        })
     }
     /// `screen`, checked.
     pub fn screen(&self) -> Checked<rhythm::screen::ScreenParams> {
@@ -300,13 +312,12 @@ impl Checked<AnalyzeParams> {
     pub fn verdict(&self) -> Checked<rhythm::verdict::VerdictParams> {
         Checked::part_of_checked(self.verdict.clone())
     }
-    /// The dimension suite of `analyze`: the library's [`dimension::SuiteParams`] with the
-    /// `dimension` block as its k-means part and its seed.
+    /// The dimension suite of `analyze`: the `dimension` block, its k-means part on the
+    /// suite's seed.
     pub fn suite(&self) -> Checked<dimension::SuiteParams> {
-        Checked::part_of_checked(dimension::SuiteParams {
-            seed: self.dimension.seed,
-            kmeans: self.dimension.clone(),
-            ..dimension::SuiteParams::default()
+        Checked::part_of_checked(SuiteParams {
+            kmeans: self.dimension().into_inner(),
+            ..self.dimension.clone()
         })
     }
     /// The P-wave index parameters of the verdict (`atrial` with the verdict's template size;

@@ -166,3 +166,88 @@ fn cohort_reads_the_file_and_its_flags() {
     let o = beatfold(&["cohort", "recs", "--out", "c", "--per-record", "0"], d);
     fails_naming(&o, "per_record");
 }
+
+/// `dimension` and `analyze`: every key of the suite lives in the config's `dimension` block
+/// (estimators, bootstrap, the estimators' own keys; k-means under `dimension.kmeans`), and a
+/// flag wins over it. Before, only `dimension.seed` existed and the documented suite keys were
+/// refused as unknown.
+#[test]
+fn dimension_suite_keys_by_flag_and_by_file() {
+    let tmp = tempfile::tempdir().unwrap();
+    let d = tmp.path();
+    let rec = demo_copy(d);
+    let rec = rec.to_str().unwrap();
+    let file = config(
+        d,
+        "suite.json",
+        r#"{"dimension": {"methods": ["twonn", "mle"], "bootstrap": 0, "twonn_discard": 0.5,
+            "kmeans": {"restarts": 3}}}"#,
+    );
+    let base = ["dimension", rec, "--json"];
+    let v = json(&beatfold(&[&base[..], &["--config", &file]].concat(), d));
+    let est = v["estimates"].as_object().expect("estimates");
+    let mut names: Vec<&str> = est.keys().map(|k| k.as_str()).collect();
+    names.sort();
+    assert_eq!(names, ["mle", "twonn"], "methods from the file");
+    assert!(est["twonn"]["ci95"].is_null(), "bootstrap 0 from the file");
+    // The estimator's own key reaches it: discarding half of the ratios moves TwoNN.
+    let plain = json(&beatfold(
+        &[&base[..], &["--method", "twonn", "--bootstrap", "0"]].concat(),
+        d,
+    ));
+    assert_ne!(
+        plain["estimates"]["twonn"]["estimate"], est["twonn"]["estimate"],
+        "twonn_discard from the file"
+    );
+    // Flags win over the file.
+    let v = json(&beatfold(
+        &[
+            &base[..],
+            &["--config", &file, "--method", "twonn", "--bootstrap", "3"],
+        ]
+        .concat(),
+        d,
+    ));
+    assert_eq!(v["estimates"].as_object().unwrap().len(), 1);
+    assert!(v["estimates"]["twonn"]["ci95"].is_array());
+    // The same block reaches analyze's suite.
+    let o = beatfold(
+        &[
+            "analyze",
+            rec,
+            "--out",
+            "a",
+            "--json",
+            "--figures",
+            "rr",
+            "--config",
+            &file,
+        ],
+        d,
+    );
+    ok(&o);
+    let s: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(d.join("a/summary.json")).unwrap()).unwrap();
+    assert_eq!(s["parameters"]["dimension"]["twonn_discard"], 0.5);
+    assert_eq!(s["parameters"]["dimension"]["kmeans"]["restarts"], 3);
+    // Typos and the second seed are refused, naming the key.
+    let typo = config(
+        d,
+        "typo.json",
+        r#"{"dimension": {"kmeans": {"kss": [2, 4]}}}"#,
+    );
+    fails_naming(
+        &beatfold(&[&base[..], &["--config", &typo]].concat(), d),
+        "kss",
+    );
+    let seed2 = config(d, "seed2.json", r#"{"dimension": {"kmeans": {"seed": 3}}}"#);
+    fails_naming(
+        &beatfold(&[&base[..], &["--config", &seed2]].concat(), d),
+        "dimension.kmeans.seed",
+    );
+    let range = config(d, "range.json", r#"{"dimension": {"mle_k1": 1}}"#);
+    fails_naming(
+        &beatfold(&[&base[..], &["--config", &range]].concat(), d),
+        "dimension.mle_k1",
+    );
+}

@@ -422,7 +422,7 @@ fn intrinsic_dimension(
     max_points: i64,
 ) -> PyResult<String> {
     let seed = count("random_state", seed)? as u64;
-    let mut kmeans = AnalyzeParams::default().dimension;
+    let mut kmeans = AnalyzeParams::default().dimension.kmeans;
     kmeans.seed = seed;
     let p = SuiteParams {
         methods: match methods {

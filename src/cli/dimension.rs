@@ -18,7 +18,7 @@ pub(super) struct DimensionOpts {
     pub(super) from: String,
     pub(super) embed_dim: usize,
     pub(super) delay: Option<usize>,
-    pub(super) max_points: usize,
+    pub(super) max_points: Option<usize>,
     pub(super) figure: Option<PathBuf>,
 }
 
@@ -93,21 +93,23 @@ pub(super) fn dimension_cmd(
     let o = Out {
         quiet: quiet || json,
     };
-    // Flag, then config file (`dimension.seed`), then the library default.
-    let defaults = SuiteParams::default();
+    // Flag, then config file (the `dimension` block), then the library default.
+    let cfg = params_from(input)?.into_inner().dimension;
     let methods = match &opts.method {
         Some(m) => Method::parse_list(m)?,
-        None => defaults.methods.clone(),
+        None => cfg.methods.clone(),
     };
-    let mut kp = params_from(input)?.into_inner().dimension;
-    kp.seed = opts.seed.unwrap_or(kp.seed);
+    let seed = opts.seed.unwrap_or(cfg.seed);
     let p = SuiteParams {
         methods,
-        bootstrap: opts.bootstrap.unwrap_or(defaults.bootstrap),
-        seed: kp.seed,
-        max_points: opts.max_points,
-        kmeans: kp,
-        ..defaults
+        bootstrap: opts.bootstrap.unwrap_or(cfg.bootstrap),
+        seed,
+        max_points: opts.max_points.unwrap_or(cfg.max_points),
+        kmeans: beatfold::dimension::KmeansScalingParams {
+            seed,
+            ..cfg.kmeans.clone()
+        },
+        ..cfg
     }
     .check()?;
     // Parameters checked before any work.

@@ -150,13 +150,15 @@ pub enum Command {
         /// Input and reading options.
         #[command(flatten)]
         input: InputArgs,
-        /// Estimators, comma separated (kmeans, twonn, mle, correlation, local_pca; default all).
+        /// Estimators, comma separated (kmeans, twonn, mle, correlation, local_pca, kernel_sum;
+        /// default: the config file's `dimension.methods`, else all of these).
         #[arg(long, value_name = "LIST")]
         method: Option<String>,
-        /// Random seed (default: the config file's `dimension.seed`, else 0).
+        /// Random seed of the whole suite (default: the config file's `dimension.seed`, else 0).
         #[arg(long)]
         seed: Option<u64>,
-        /// Bootstrap resamples per interval, 0 to 10000 (default 30; 0 = no intervals).
+        /// Bootstrap resamples per interval, 0 to 10000 (default: the config file's
+        /// `dimension.bootstrap`, else 30; 0 = no intervals).
         #[arg(long, value_name = "N")]
         bootstrap: Option<usize>,
         /// Point cloud of a recording: beat features, or a delay embedding of the RR series or of
@@ -174,9 +176,10 @@ pub enum Command {
         /// average mutual information).
         #[arg(long, value_name = "STEPS")]
         delay: Option<usize>,
-        /// Most points used by the neighbour-based estimators (default 5000; at least 20).
-        #[arg(long, value_name = "N", default_value_t = 5000)]
-        max_points: usize,
+        /// Most points used by the neighbour-based estimators, at least 20 (default: the config
+        /// file's `dimension.max_points`, else 5000).
+        #[arg(long, value_name = "N")]
+        max_points: Option<usize>,
         /// Also write the figure of d against scale to PATH.svg and PATH.png.
         #[arg(long, value_name = "PATH")]
         figure: Option<PathBuf>,

@@ -232,7 +232,7 @@ impl SuiteParams {
                 format!("{} points; allowed at least 20", self.max_points),
             );
         }
-        self.kmeans.check()?;
+        self.kmeans.check().map_err(|e| e.in_block("kmeans"))?;
         if !(self.twonn_discard.is_finite() && (0.0..=0.9).contains(&self.twonn_discard)) {
             return bad(
                 "twonn_discard",
