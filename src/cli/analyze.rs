@@ -18,6 +18,10 @@ pub(super) fn analyze_and_write(
     rec: &Record,
     info: &InputInfo,
     params: &beatfold::params::Checked<AnalyzeParams>,
+    table: Option<(
+        &beatfold::io::beat_table::BeatTable,
+        beatfold::separate::TableMode,
+    )>,
     out: &Path,
     json: bool,
     ropts: &report::ReportOptions,
@@ -30,7 +34,7 @@ pub(super) fn analyze_and_write(
             pb.set_message(stage.to_string());
         }
     };
-    let a = pipeline::analyze(rec, info, params, &mut cb)?;
+    let a = pipeline::analyze_with_table(rec, info, params, table, &mut cb)?;
     if let Some(pb) = &pb {
         pb.set_message("writing report");
     }
@@ -173,6 +177,7 @@ pub(super) fn demo(
         &rec,
         &info,
         &params,
+        None,
         out,
         json,
         &report::ReportOptions::default(),

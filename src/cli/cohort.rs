@@ -55,6 +55,10 @@ pub struct CohortArgs {
     /// Label file, one `record,label` line a record; the cohort page scores verdicts against it.
     #[arg(long, value_name = "FILE", requires = "label_map")]
     pub labels: Option<PathBuf>,
+    /// A per-beat feature table (with a `record` column) replacing or joining every record's
+    /// built-in beat windows.
+    #[command(flatten)]
+    pub table: super::FeatureTableArgs,
     /// Label map for --labels, `LABEL=class,…` (classes regular, irregular, other, unreadable).
     #[arg(long, value_name = "MAP", requires = "labels")]
     pub label_map: Option<String>,
@@ -138,6 +142,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
             .unwrap_or(1)
     });
     let opts = CohortOptions {
+        features: a.table.read(params.separate.table_mode)?,
         params,
         jobs,
         shard: a.shard.as_deref().map(Shard::parse).transpose()?,

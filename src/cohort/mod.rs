@@ -35,11 +35,13 @@ pub use support::Support;
 pub use table::{table_csv, Row, Status, COLUMNS};
 
 use crate::error::{Error, Result};
+use crate::io::beat_table::BeatTable;
 use crate::io::{self, ReadOptions};
 use crate::pipeline::{self, AnalyzeParams, InputInfo};
 use crate::report::{self, ReportOptions};
 use crate::rhythm::label_score::{LabelMap, LabelScore};
 use crate::rhythm::verdict::VerdictClass;
+use crate::separate::TableMode;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
@@ -137,6 +139,10 @@ pub struct CohortOptions {
     pub support: Support,
     /// Record labels and the label map, scored on the cohort page (stored in the plan).
     pub labels: Option<CohortLabels>,
+    /// A per-beat feature table whose rows (by their `record` column, or every row for a cohort
+    /// of one record) replace or join each record's built-in beat windows (see
+    /// [`crate::features::table`]); each record's rows take part in its parameter hash.
+    pub features: Option<(BeatTable, TableMode)>,
 }
 
 /// What each record writes into `records/<name>/`.
@@ -225,6 +231,7 @@ impl Default for CohortOptions {
             full_for: Vec::new(),
             support: Support::default(),
             labels: None,
+            features: None,
         }
     }
 }
@@ -257,6 +264,15 @@ impl CohortOptions {
         self.support.check()?;
         if let Some(l) = &self.labels {
             l.check()?;
+        }
+        if let Some((t, _)) = &self.features {
+            if !t.has_record {
+                return Err(Error::input(
+                    &t.path,
+                    "header",
+                    "no `record` column; a cohort's feature table names each row's record (the recording's file stem)",
+                ));
+            }
         }
         self.shared.check()
     }
@@ -512,6 +528,13 @@ fn params_sha256(spec: &RecordSpec, opts: &CohortOptions) -> Result<String> {
         "support": opts.support,
         "name": spec.name,
         "group": spec.group,
+        "features": opts.features.as_ref().map(|(t, mode)| {
+            let rows: Vec<_> = crate::features::table::rows_of(t, &spec.name)
+                .into_iter()
+                .map(|r| format!("{:?} {:?}", t.rows[r].key, t.rows[r].values))
+                .collect();
+            serde_json::json!({"mode": mode, "columns": t.names, "rows": rows})
+        }),
     });
     Ok(sha256_hex(v.to_string().as_bytes()))
 }
@@ -720,7 +743,8 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &CohortOptions) -> Result<Ro
         p.dimension_min_points = p.dimension_min_points.max(opts.support.dimension_points);
     }
     let p = crate::params::Check::check(p)?;
-    let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
+    let table = opts.features.as_ref().map(|(t, m)| (t, *m));
+    let a = pipeline::analyze_with_table(&loaded.record, &info, &p, table, &mut |_, _| {})?;
     compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
     if full {
         report::write_all(&a, dir, &opts.report)?;

@@ -5,20 +5,25 @@
 //! distances, ties broken by the smaller reference index), so results are interchangeable.
 //!
 //! Method: exact search with triangle-inequality pruning over a one-level ball partition (the
-//! pruning rules of metric trees, Uhlmann 1991; Fukunaga & Narendra 1975). About √n reference
+//! pruning rules of metric trees, Uhlmann 1991; Fukunaga & Narendra 1975) and partial distance
+//! search (Bei & Gray 1985). Both sets are first centred and rotated onto the reference rows'
+//! principal axes (distances do not change), so that partial sums over the leading axes
+//! exceed the current k-th distance after a few coordinates for most rows. About 2√n reference
 //! rows, taken at a fixed stride, are centres; every reference row joins its nearest centre, and
 //! each ball keeps its radius and its members sorted by their distance to the centre. For a
 //! query q with current k-th distance τ, a ball with centre c and radius r is skipped when
 //! d(q, c) − r > τ, and a member y when |d(q, c) − d(y, c)| > τ (both lower bounds of d(q, y));
 //! balls are visited in order of their lower bound, so the search stops at the first ball that
-//! cannot hold a neighbour. The bounds are widened by a relative 1e-9 (far above the rounding of
-//! a distance in f64), so no true neighbour is lost; candidates are ranked by their exact f64
-//! distance. The result equals exhaustive search (same indices, same distances) and does not
+//! cannot hold a neighbour, and a member's distance is abandoned once its partial sum exceeds
+//! τ². The bounds are widened by a relative 1e-9 (far above the rounding of a distance and of
+//! the rotation in f64), so no true neighbour is lost; candidates are ranked by their exact f64
+//! distance on the original rows. The result equals exhaustive search (same indices, same distances) and does not
 //! depend on the thread count: each query is searched by one thread on its own. Beats form a few
 //! tight groups, so most balls are skipped; on unclustered data the search degrades to
 //! exhaustive comparison, never to a wrong answer.
 
 use crate::embed::knn::Neighbors;
+use crate::embed::Pca;
 use crate::error::{Error, Result};
 use crate::points::Points;
 use rayon::prelude::*;
@@ -78,7 +83,7 @@ struct Balls {
 impl Balls {
     fn new(r: &Points) -> Balls {
         let n = r.n;
-        let c = ((n as f64).sqrt().ceil() as usize).clamp(1, n);
+        let c = ((2.0 * (n as f64).sqrt()).ceil() as usize).clamp(1, n);
         let stride = n / c;
         let centre: Vec<usize> = (0..c).map(|i| i * stride).collect();
         let assign: Vec<(usize, f64)> = (0..n)
@@ -143,9 +148,46 @@ fn offer(top: &mut Vec<(f64, usize)>, k: usize, d2: f64, j: usize) {
 /// Relative widening of every bound (see the module notes).
 const SLACK: f64 = 1e-9;
 
+/// Reference and query rows on the reference rows' principal axes (centred and rotated:
+/// distances unchanged up to rounding), so that partial sums over the leading axes reach the
+/// distance early; the rows as they are when no rotation can be fitted.
+fn rotated(reference: &Points, queries: &Points) -> (Points, Points) {
+    let dim = reference.dim;
+    let r = Pca::fit(reference)
+        .and_then(|p| Ok((p.project(reference, dim)?, p.project(queries, dim)?)));
+    match r {
+        Ok((a, b)) if a.dim == dim && b.dim == dim => (a, b),
+        _ => (reference.clone(), queries.clone()),
+    }
+}
+
+/// Squared distance of `a` and `b`, abandoned (returning a value above `limit`) as soon as a
+/// partial sum exceeds `limit` (partial distance search, Bei & Gray 1985).
+fn partial_dist2(a: &[f64], b: &[f64], limit: f64) -> f64 {
+    let mut acc = 0.0;
+    for (ca, cb) in a.chunks(8).zip(b.chunks(8)) {
+        acc += ca
+            .iter()
+            .zip(cb)
+            .map(|(x, y)| (x - y) * (x - y))
+            .sum::<f64>();
+        if acc > limit {
+            return acc;
+        }
+    }
+    acc
+}
+
 fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
     let dim = reference.dim;
-    let b = Balls::new(reference);
+    let (rr, rq) = rotated(reference, queries);
+    let b = Balls::new(&rr);
+    let norm = |p: &Points| {
+        p.rows()
+            .map(|r| r.iter().map(|v| v * v).sum::<f64>().sqrt())
+            .fold(0.0, f64::max)
+    };
+    let rmax = norm(&rr);
     let nb = b.centre.len();
     let mut index = vec![0usize; queries.n * k];
     let mut dist2 = vec![0.0; queries.n * k];
@@ -160,17 +202,28 @@ fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
             let mut top: Vec<(f64, usize)> = Vec::with_capacity(k + 1);
             for i in 0..bi.len() / k {
                 let q = queries.row(q0 + i);
+                let qr = rq.row(q0 + i);
+                // Rounding of the rotation: far below this absolute margin.
+                let delta = SLACK * (qr.iter().map(|v| v * v).sum::<f64>().sqrt() + rmax);
                 visit.clear();
                 for (ci, &cj) in b.centre.iter().enumerate() {
-                    dq[ci] = Points::dist2(q, reference.row(cj)).sqrt();
+                    dq[ci] = Points::dist2(qr, rr.row(cj)).sqrt();
                     visit.push(((dq[ci] - b.radius[ci]).max(0.0), ci));
                 }
                 visit.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                // The ball of the nearest centre first: its members give a tight τ early.
+                let nearest_ball = (0..nb)
+                    .min_by(|&x, &y| dq[x].total_cmp(&dq[y]))
+                    .unwrap_or(0);
+                if let Some(p) = visit.iter().position(|v| v.1 == nearest_ball) {
+                    let v = visit.remove(p);
+                    visit.insert(0, (0.0, v.1));
+                }
                 top.clear();
                 let mut tau = f64::INFINITY;
                 for &(lb, ci) in &visit {
                     let d = dq[ci];
-                    let tol = SLACK * (d + b.radius[ci] + tau);
+                    let tol = SLACK * (d + b.radius[ci] + tau) + delta;
                     if lb > tau + tol {
                         break;
                     }
@@ -178,11 +231,16 @@ fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
                     let lo = d - tau - tol;
                     let first = s + b.rad[s..e].partition_point(|&r| r < lo);
                     for m in first..e {
-                        if b.rad[m] > d + tau + SLACK * (d + b.radius[ci] + tau) {
+                        let tol = SLACK * (d + b.radius[ci] + tau) + delta;
+                        if b.rad[m] > d + tau + tol {
                             break;
                         }
-                        let d2 = Points::dist2(q, &b.rows[m * dim..(m + 1) * dim]);
-                        offer(&mut top, k, d2, b.member[m]);
+                        let limit = (tau + tol) * (tau + tol);
+                        if partial_dist2(qr, &b.rows[m * dim..(m + 1) * dim], limit) > limit {
+                            continue;
+                        }
+                        let j = b.member[m];
+                        offer(&mut top, k, Points::dist2(q, reference.row(j)), j);
                         if top.len() == k {
                             tau = top[k - 1].0.sqrt();
                         }
