@@ -14,19 +14,25 @@ const DEMO_CSV: &str = include_str!("../../demo-data/telemetry-night.csv");
 /// Its exact ground truth.
 const DEMO_ANN: &str = include_str!("../../demo-data/telemetry-night.annotations.csv");
 
-pub(super) fn analyze_and_write(
-    rec: &Record,
-    info: &InputInfo,
-    params: &beatfold::params::Checked<AnalyzeParams>,
-    table: Option<(
-        &beatfold::io::beat_table::BeatTable,
+/// A record to analyse: the record, where it came from, and a user's feature table with its mode.
+pub(super) struct Inputs<'a> {
+    pub rec: &'a Record,
+    pub info: &'a InputInfo,
+    pub table: Option<(
+        &'a beatfold::io::beat_table::BeatTable,
         beatfold::separate::TableMode,
     )>,
+}
+
+pub(super) fn analyze_and_write(
+    inputs: Inputs<'_>,
+    params: &beatfold::params::Checked<AnalyzeParams>,
     out: &Path,
     json: bool,
     ropts: &report::ReportOptions,
     o: &Out,
 ) -> Result<()> {
+    let Inputs { rec, info, table } = inputs;
     let pb = progress_bar(o.quiet);
     let mut cb = |i: usize, stage: &str| {
         if let Some(pb) = &pb {
@@ -174,10 +180,12 @@ pub(super) fn demo(
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
     analyze_and_write(
-        &rec,
-        &info,
+        Inputs {
+            rec: &rec,
+            info: &info,
+            table: None,
+        },
         &params,
-        None,
         out,
         json,
         &report::ReportOptions::default(),

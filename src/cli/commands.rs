@@ -88,7 +88,12 @@ pub fn run(cli: Cli) -> Result<()> {
             let (rec, params, info) = load(&input, &o)?;
             let table = table.read(params.separate.table_mode)?;
             let table = table.as_ref().map(|(t, m)| (t, *m));
-            super::analyze::analyze_and_write(&rec, &info, &params, table, &out, json, &ropts, &o)
+            let inputs = super::analyze::Inputs {
+                rec: &rec,
+                info: &info,
+                table,
+            };
+            super::analyze::analyze_and_write(inputs, &params, &out, json, &ropts, &o)
         }
         Command::Beats { input, out, json } => {
             super::beats::beats_cmd(&input, out.as_deref(), json, quiet)
