@@ -7,7 +7,7 @@
 //! figure. Axis limits are the 0.5 % and 99.5 % quantiles of all drawn beats (a few far beats
 //! would otherwise squeeze the rest into a corner); beats outside are drawn at the edge and
 //! counted in the caption. At most [`MAX_PER_CLASS`] beats of a class are drawn per panel (a
-//! seeded random choice, so the SVG stays small: about 1.5 MB for the 100 000 MIT-BIH beats);
+//! seeded random choice, so the SVG stays small: about 1.6 MB for the 100 000 MIT-BIH beats);
 //! the scores use every beat. Display only: nothing here is a result.
 
 use super::{BeatClass, MapView, Separation, BENCH_NOTE};
@@ -31,7 +31,7 @@ const HUES: [RGBColor; 5] = [
 ];
 const LIGHT: RGBColor = RGBColor(215, 215, 215);
 /// Most beats of one class drawn in one panel.
-pub const MAX_PER_CLASS: usize = 3000;
+pub const MAX_PER_CLASS: usize = 2000;
 /// Seed of the choice of drawn beats.
 const DRAW_SEED: u64 = 0;
 /// Axis limits: these quantiles of the drawn beats' coordinates.
