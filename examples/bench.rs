@@ -55,7 +55,7 @@ fn main() -> anyhow::Result<()> {
     })?;
     println!("eigenvalues: {:?}", &e.eigenvalues[..4]);
     let d = time("k-means quantization scaling", || {
-        beatfold::dimension::kmeans_scaling(&f.points, &Checked::new(p.dimension.clone())?)
+        beatfold::dimension::kmeans_scaling(&f.points, &Checked::new(p.dimension.kmeans.clone())?)
     })?;
     println!("d = {:.2}, noise scale {:?}", d.d, d.noise_scale);
     let tmp = std::env::temp_dir().join("beatfold-bench");

@@ -168,6 +168,9 @@ pub struct AnalyzeParams {
     pub quality_segment_s: f64,
     /// Beat matching window for scoring against reference beats, seconds (EC57: 0.150).
     pub score_window_s: f64,
+    /// The beat-class separation bench (`beatfold separate`, and the within-record separation
+    /// of `analyze` where reference labels exist).
+    pub separate: crate::separate::SeparateParams,
 }
 
 impl Default for AnalyzeParams {
@@ -196,6 +199,7 @@ impl Default for AnalyzeParams {
             dimension_min_points: MIN_BEATS_FOR_GEOMETRY,
             quality_segment_s: 10.0,
             score_window_s: 0.150,
+            separate: crate::separate::SeparateParams::default(),
         }
     }
 }
@@ -256,6 +260,8 @@ impl Check for AnalyzeParams {
                 format!("{} s; must be at least 1 s", self.quality_segment_s),
             ));
         }
+        crate::separate::SeparateParams::check(&self.separate)
+            .map_err(|e| e.in_block("separate"))?;
         if !(self.score_window_s > 0.0 && self.score_window_s <= 1.0) {
             return Err(Error::param(
                 "score_window_s",
@@ -595,6 +601,24 @@ pub fn analyze(
     p: &Checked<AnalyzeParams>,
     progress: &mut dyn FnMut(usize, &str),
 ) -> Result<Analysis> {
+    analyze_with_table(rec, input, p, None, progress)
+}
+
+/// [`analyze`] with a user's per-beat feature table whose columns replace or join the built-in
+/// beat windows from the embedding on (see [`features::table`]); its rows and beats left out
+/// are counted in the notes.
+///
+/// Errors: those of [`analyze`]; no table row matching a detected beat.
+pub fn analyze_with_table(
+    rec: &Record,
+    input: &InputInfo,
+    p: &Checked<AnalyzeParams>,
+    table: Option<(
+        &crate::io::beat_table::BeatTable,
+        crate::separate::TableMode,
+    )>,
+    progress: &mut dyn FnMut(usize, &str),
+) -> Result<Analysis> {
     let t0 = std::time::Instant::now();
     let li = prepare(rec, p)?;
     progress(0, STAGES[0]);
@@ -619,6 +643,22 @@ pub fn analyze(
             }
         }
         Err(e) => return Err(e),
+    };
+    let feats = match table {
+        Some((t, mode)) => {
+            let (f, j) = features::table::apply(
+                &feats,
+                &b.samples,
+                rec.fs_hz,
+                p.score_window_s,
+                &rec.name,
+                t,
+                mode,
+            )?;
+            notes.push(j.note(t, mode));
+            f
+        }
+        None => feats,
     };
     progress(3, STAGES[3]);
     let (embedding, dim, dimension_suite) = if feats.points.n >= MIN_BEATS_FOR_GEOMETRY {
@@ -709,9 +749,21 @@ pub fn analyze(
         p.score_window_s,
         &feats,
         &embedding,
-        crate::separate::SeparateParams::default().vote_neighbors,
+        p.separate.vote_neighbors,
+        match table.map(|t| t.1) {
+            None => "",
+            Some(crate::separate::TableMode::Replace) => "table-",
+            Some(crate::separate::TableMode::Join) => "joined-",
+        },
     )?;
-    let parameters = serde_json::to_value(p).map_err(|e| Error::Analysis(e.to_string()))?;
+    let mut parameters = serde_json::to_value(p).map_err(|e| Error::Analysis(e.to_string()))?;
+    if let (Some((t, mode)), Some(obj)) = (table, parameters.as_object_mut()) {
+        obj.insert(
+            "feature_table".into(),
+            serde_json::json!({"file": t.path.display().to_string(), "mode": mode,
+                "columns": t.names}),
+        );
+    }
     Ok(Analysis {
         record_name: rec.name.clone(),
         input_sha256: input.sha256.clone(),

@@ -15,15 +15,25 @@ const DEMO_CSV: &str = include_str!("../../demo-data/telemetry-night.csv");
 /// Its exact ground truth.
 const DEMO_ANN: &str = include_str!("../../demo-data/telemetry-night.annotations.csv");
 
+/// A record to analyse: the record, where it came from, and a user's feature table with its mode.
+pub(super) struct Inputs<'a> {
+    pub rec: &'a Record,
+    pub info: &'a InputInfo,
+    pub table: Option<(
+        &'a beatfold::io::beat_table::BeatTable,
+        beatfold::separate::TableMode,
+    )>,
+}
+
 pub(super) fn analyze_and_write(
-    rec: &Record,
-    info: &InputInfo,
+    inputs: Inputs<'_>,
     params: &Checked<AnalyzeParams>,
     out: &Path,
     json: bool,
     ropts: &Checked<report::ReportOptions>,
     o: &Out,
 ) -> Result<()> {
+    let Inputs { rec, info, table } = inputs;
     let pb = progress_bar(o.quiet);
     let mut cb = |i: usize, stage: &str| {
         if let Some(pb) = &pb {
@@ -31,7 +41,7 @@ pub(super) fn analyze_and_write(
             pb.set_message(stage.to_string());
         }
     };
-    let a = pipeline::analyze(rec, info, params, &mut cb)?;
+    let a = pipeline::analyze_with_table(rec, info, params, table, &mut cb)?;
     if let Some(pb) = &pb {
         pb.set_message("writing report");
     }
@@ -170,7 +180,18 @@ pub(super) fn demo(
     };
     let (rec, params, info) = load(&input, &o)?;
     let t0 = std::time::Instant::now();
-    analyze_and_write(&rec, &info, &params, out, json, &Checked::default(), &o)?;
+    analyze_and_write(
+        Inputs {
+            rec: &rec,
+            info: &info,
+            table: None,
+        },
+        &params,
+        out,
+        json,
+        &Checked::default(),
+        &o,
+    )?;
     o.line(format!(
         "demo finished in {:.2} s",
         t0.elapsed().as_secs_f64()

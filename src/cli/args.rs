@@ -1,5 +1,7 @@
 //! Option groups shared by several commands, each flag defined once with its help.
 
+use beatfold::io::beat_table::BeatTable;
+use beatfold::separate::TableMode;
 use clap::Args;
 use std::path::PathBuf;
 
@@ -121,4 +123,40 @@ pub struct ReadArgs {
     /// warning (`warn`, default: the reading goes on) or an error (`strict`).
     #[arg(long, value_name = "warn|strict", default_value_t = beatfold::io::ChecksumPolicy::Warn)]
     pub checksum: beatfold::io::ChecksumPolicy,
+}
+
+/// A user's per-beat feature table (`analyze`, `cohort`, `separate`), defined once.
+#[derive(Debug, Args, Clone, Default)]
+pub struct FeatureTableArgs {
+    /// Per-beat feature table (CSV: a `sample` or `time_s` key column, a `record` column when
+    /// several records are read, then numeric feature columns); rows are matched to detected
+    /// beats within the beat matching window (150 ms by default). Rows and beats left out are
+    /// reported.
+    #[arg(long, value_name = "FILE.csv")]
+    pub features: Option<PathBuf>,
+    /// With --features: `replace` (the table's columns alone) or `join` (appended to the
+    /// built-in beat windows) (default replace, or the config file's `separate.table_mode`).
+    #[arg(long, value_name = "replace|join", requires = "features")]
+    pub features_mode: Option<String>,
+}
+
+impl FeatureTableArgs {
+    /// The mode given, else `default`.
+    pub fn mode(&self, default: TableMode) -> anyhow::Result<TableMode> {
+        Ok(match self.features_mode.as_deref() {
+            None => default,
+            Some("replace") => TableMode::Replace,
+            Some("join") => TableMode::Join,
+            Some(o) => anyhow::bail!("--features-mode: `{o}`; allowed replace or join"),
+        })
+    }
+
+    /// Read the table, if one is given, with its mode (`default` when no mode is given).
+    pub fn read(&self, default: TableMode) -> anyhow::Result<Option<(BeatTable, TableMode)>> {
+        let mode = self.mode(default)?;
+        Ok(match &self.features {
+            Some(f) => Some((beatfold::io::beat_table::read(f)?, mode)),
+            None => None,
+        })
+    }
 }

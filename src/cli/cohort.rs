@@ -56,6 +56,10 @@ pub struct CohortArgs {
     /// Labels the cohort page scores record verdicts against.
     #[command(flatten)]
     pub labels: LabelArgs,
+    /// A per-beat feature table (with a `record` column) replacing or joining every record's
+    /// built-in beat windows.
+    #[command(flatten)]
+    pub table: super::FeatureTableArgs,
 }
 
 /// Record names from a `--full-for` file: one a line; blank lines and `#` comments skipped.
@@ -134,6 +138,7 @@ pub fn cohort_cmd(a: &CohortArgs, quiet: bool) -> Result<()> {
     });
     // Every option is checked once, before any work.
     let opts = Checked::new(CohortOptions {
+        features: a.table.read(params.separate.table_mode)?,
         params,
         jobs,
         shard: a.shard.as_deref().map(Shard::parse).transpose()?,

@@ -70,6 +70,7 @@ pub fn run(cli: Cli) -> Result<()> {
             from_s,
             to_s,
             colour_by,
+            table,
         } => {
             let out = out.unwrap_or_else(|| default_out(&input.input));
             let o = Out {
@@ -85,7 +86,14 @@ pub fn run(cli: Cli) -> Result<()> {
             };
             let ropts = ropts.check()?;
             let (rec, params, info) = load(&input, &o)?;
-            super::analyze::analyze_and_write(&rec, &info, &params, &out, json, &ropts, &o)
+            let table = table.read(params.separate.table_mode)?;
+            let table = table.as_ref().map(|(t, m)| (t, *m));
+            let inputs = super::analyze::Inputs {
+                rec: &rec,
+                info: &info,
+                table,
+            };
+            super::analyze::analyze_and_write(inputs, &params, &out, json, &ropts, &o)
         }
         Command::Beats { input, out, json } => {
             super::beats::beats_cmd(&input, out.as_deref(), json, quiet)

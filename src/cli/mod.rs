@@ -14,7 +14,9 @@ mod rhythm;
 pub mod separate;
 mod synth;
 
-pub use args::{ConfigArg, EmbedOptions, InputArgs, LabelArgs, RateArg, ReadArgs};
+pub use args::{
+    ConfigArg, EmbedOptions, FeatureTableArgs, InputArgs, LabelArgs, RateArg, ReadArgs,
+};
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
 
@@ -101,6 +103,9 @@ pub enum Command {
         /// local-dimension (which also adds a strip of local dimension against time).
         #[arg(long = "colour-by", value_name = "WHAT", default_value = "time")]
         colour_by: String,
+        /// A per-beat feature table replacing or joining the built-in beat windows.
+        #[command(flatten)]
+        table: FeatureTableArgs,
     },
     /// Detect beats; write sample, time, RR and label per beat.
     Beats {

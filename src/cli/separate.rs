@@ -4,9 +4,9 @@
 use super::commands::params_from;
 use super::{InputArgs, ReadArgs};
 use anyhow::{bail, Result};
-use beatfold::io::{beat_table, ReadOptions};
+use beatfold::io::ReadOptions;
 use beatfold::params::Checked;
-use beatfold::separate::{self, BeatClass, SeparateParams, Separation, Space, TableMode};
+use beatfold::separate::{self, BeatClass, SeparateParams, Separation, Space};
 use beatfold::NOTICE;
 use clap::Args;
 use std::path::PathBuf;
@@ -23,19 +23,14 @@ pub struct SeparateArgs {
     /// Records scored in the spaces fitted on --fit (inter-patient protocol).
     #[arg(long, num_args = 1.., value_name = "REC", requires = "fit")]
     pub test: Vec<PathBuf>,
-    /// Per-beat feature table (CSV: a `sample` or `time_s` key column, a `record` column when
-    /// several records are read, then numeric feature columns), scored next to the built-in
-    /// features.
-    #[arg(long, value_name = "FILE.csv")]
-    pub features: Option<PathBuf>,
-    /// With --features: `replace` (default: the table's columns alone) or `join` (appended to
-    /// the built-in beat windows).
-    #[arg(long, value_name = "replace|join", requires = "features")]
-    pub features_mode: Option<String>,
+    /// A per-beat feature table, scored next to the built-in features.
+    #[command(flatten)]
+    pub table: super::FeatureTableArgs,
     /// Spaces scored, comma separated: diffusion, pca, features or all (default all).
     #[arg(long, value_name = "LIST")]
     pub space: Option<String>,
-    /// Neighbours of the vote, 1 to 100 (default 5).
+    /// Neighbours of the vote, 1 to 100 (default 5, or the config file's
+    /// `separate.vote_neighbors`).
     #[arg(long, value_name = "K")]
     pub vote_k: Option<usize>,
     /// Inter-patient only: draw the test beats in the fitted diffusion map, coloured by class,
@@ -50,20 +45,16 @@ pub struct SeparateArgs {
     pub json: bool,
 }
 
-fn separate_params(a: &SeparateArgs) -> Result<Checked<SeparateParams>> {
-    let d = SeparateParams::default();
+/// The bench's parameters: each flag given, else the config file's `separate` block (`d`),
+/// whose missing keys hold the library defaults.
+fn separate_params(a: &SeparateArgs, d: SeparateParams) -> Result<Checked<SeparateParams>> {
     let p = SeparateParams {
         vote_neighbors: a.vote_k.unwrap_or(d.vote_neighbors),
         spaces: match &a.space {
             Some(s) => Space::parse_list(s)?,
             None => d.spaces,
         },
-        table_mode: match a.features_mode.as_deref() {
-            None => d.table_mode,
-            Some("replace") => TableMode::Replace,
-            Some("join") => TableMode::Join,
-            Some(o) => bail!("--features-mode: `{o}`; allowed replace or join"),
-        },
+        table_mode: a.table.mode(d.table_mode)?,
         ..d
     };
     Ok(Checked::new(p)?)
@@ -71,7 +62,6 @@ fn separate_params(a: &SeparateArgs) -> Result<Checked<SeparateParams>> {
 
 /// Run the command.
 pub fn separate_cmd(a: &SeparateArgs, quiet: bool) -> Result<()> {
-    let sp = separate_params(a)?;
     let n_records = a.records.len() + a.fit.len() + a.test.len();
     if n_records > 1 && a.read.reference.is_some() {
         bail!("--reference names one annotation file, but {n_records} records are read; put each record's annotation file beside it instead");
@@ -80,6 +70,7 @@ pub fn separate_cmd(a: &SeparateArgs, quiet: bool) -> Result<()> {
         input: PathBuf::new(),
         read: a.read.clone(),
     })?;
+    let sp = separate_params(a, p.separate.clone())?;
     let opts = ReadOptions {
         fs_hz: a.read.rate.fs_hz,
         annotations: a.read.reference.clone(),
@@ -87,7 +78,7 @@ pub fn separate_cmd(a: &SeparateArgs, quiet: bool) -> Result<()> {
         dataset: a.read.dataset.clone(),
         checksum: a.read.checksum,
     };
-    let table = a.features.as_deref().map(beat_table::read).transpose()?;
+    let table = a.table.read(sp.table_mode)?.map(|t| t.0);
     let t0 = std::time::Instant::now();
     let (result, notes) = if a.fit.is_empty() {
         let (beats, notes) = separate::load_labelled(&a.records, &opts, &p, table.as_ref())?;

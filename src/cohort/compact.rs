@@ -5,7 +5,9 @@
 //! `notice`, `beatfold_version`, `record`, `input_sha256`, `parameters` (JSON), `fs_hz`,
 //! `duration_s`, `verdict`, `verdict_reasons`, `notes`; `/beats/sample` (u64), `/beats/rr_s`
 //! (f64), `/beats/label` (one-letter codes as u8); `/features/matrix` (beats × features, f64,
-//! row i ↔ `/features/beat_index` i) with attribute `names`. No time stamps, so the same record
+//! row i ↔ `/features/beat_index` i) with attribute `names`; where reference beat labels give
+//! two classes, the within-record `/separation` group of the results file
+//! ([`crate::separate::add_h5_group`]). No time stamps, so the same record
 //! and parameters give the same bytes. The shared embedding reads `/features/matrix` from here.
 
 use crate::error::{Error, Result};
@@ -61,6 +63,9 @@ pub fn write(a: &Analysis, path: &Path) -> Result<()> {
     let bi: Vec<u64> = f.beat_index.iter().map(|&i| i as u64).collect();
     g.create_dataset("beat_index").with_u64_data(&bi);
     b.add_group(g.finish());
+    if let Some(sep) = &a.separation {
+        crate::separate::add_h5_group(&mut b, sep);
+    }
     let bytes = b
         .finish()
         .map_err(|e| Error::output(path, format!("HDF5 encoding failed: {e}")))?;

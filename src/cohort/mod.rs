@@ -35,12 +35,14 @@ pub use support::Support;
 pub use table::{table_csv, Row, Status, COLUMNS};
 
 use crate::error::{Error, Result};
+use crate::io::beat_table::BeatTable;
 use crate::io::{self, ReadOptions};
 use crate::params::Checked;
 use crate::pipeline::{self, AnalyzeParams, InputInfo};
 use crate::report::{self, ReportOptions};
 use crate::rhythm::label_score::{LabelMap, LabelScore};
 use crate::rhythm::verdict::VerdictClass;
+use crate::separate::TableMode;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
@@ -138,6 +140,10 @@ pub struct CohortOptions {
     pub support: Support,
     /// Record labels and the label map, scored on the cohort page (stored in the plan).
     pub labels: Option<CohortLabels>,
+    /// A per-beat feature table whose rows (by their `record` column, or every row for a cohort
+    /// of one record) replace or join each record's built-in beat windows (see
+    /// [`crate::features::table`]); each record's rows take part in its parameter hash.
+    pub features: Option<(BeatTable, TableMode)>,
 }
 
 /// What each record writes into `records/<name>/`.
@@ -224,6 +230,7 @@ impl Default for CohortOptions {
             full_for: Vec::new(),
             support: Support::default(),
             labels: None,
+            features: None,
         }
     }
 }
@@ -256,6 +263,15 @@ impl CohortOptions {
         self.support.check()?;
         if let Some(l) = &self.labels {
             l.check()?;
+        }
+        if let Some((t, _)) = &self.features {
+            if !t.has_record {
+                return Err(Error::input(
+                    &t.path,
+                    "header",
+                    "no `record` column; a cohort's feature table names each row's record (the recording's file stem)",
+                ));
+            }
         }
         self.shared.check()
     }
@@ -531,6 +547,13 @@ fn params_sha256(spec: &RecordSpec, opts: &CohortOptions) -> Result<String> {
         "support": opts.support,
         "name": spec.name,
         "group": spec.group,
+        "features": opts.features.as_ref().map(|(t, mode)| {
+            let rows: Vec<_> = crate::features::table::rows_of(t, &spec.name)
+                .into_iter()
+                .map(|r| format!("{:?} {:?}", t.rows[r].key, t.rows[r].values))
+                .collect();
+            serde_json::json!({"mode": mode, "columns": t.names, "rows": rows})
+        }),
     });
     Ok(sha256_hex(v.to_string().as_bytes()))
 }
@@ -743,7 +766,8 @@ fn analyse_one(spec: &RecordSpec, dir: &Path, opts: &Checked<CohortOptions>) -> 
         // The table shows no dimension below its support: do not compute one.
         p = p.with_dimension_min_points_at_least(opts.support.dimension_points);
     }
-    let a = pipeline::analyze(&loaded.record, &info, &p, &mut |_, _| {})?;
+    let table = opts.features.as_ref().map(|(t, m)| (t, *m));
+    let a = pipeline::analyze_with_table(&loaded.record, &info, &p, table, &mut |_, _| {})?;
     compact::write(&a, &dir.join(compact::COMPACT_FILE))?;
     if full {
         report::write_all(&a, dir, &opts.report())?;

@@ -16,6 +16,7 @@ pub struct Features {
     pub beat_index: Vec<usize>,
 }
 
+pub mod table;
 mod window;
 
 pub use window::{beat_features, beat_features_scaled, FeatureParams};

@@ -14,9 +14,6 @@ use crate::points::Points;
 use crate::record::Record;
 use serde::Serialize;
 
-/// Lines of unmatched table rows listed in a record's counts (the count itself is complete).
-const LIST_MAX: usize = 10;
-
 /// What happened to the beats of one record.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct BeatCounts {
@@ -63,54 +60,7 @@ pub struct LabelledBeats {
     pub counts: BeatCounts,
 }
 
-/// Match table rows to detected beats: for each detected beat the index of its row in `rows`
-/// (the nearest beat within `window` samples of the row's key), with the counts of rows that
-/// match nothing and of rows that match a beat already taken.
-fn match_rows(
-    table: &BeatTable,
-    rows: &[usize],
-    detected: &[usize],
-    fs_hz: f64,
-    window_s: f64,
-    counts: &mut BeatCounts,
-) -> Vec<Option<usize>> {
-    let w = window_s * fs_hz * (1.0 + 1e-12) + 1e-9;
-    let mut row_of = vec![None; detected.len()];
-    for &r in rows {
-        let x = table.rows[r].key.sample_at(fs_hz);
-        let pos = detected.partition_point(|&d| (d as f64) < x);
-        let best = [pos.checked_sub(1), Some(pos)]
-            .into_iter()
-            .flatten()
-            .filter(|&j| j < detected.len())
-            .map(|j| (j, (detected[j] as f64 - x).abs()))
-            .filter(|&(_, d)| d <= w)
-            .min_by(|a, b| a.1.total_cmp(&b.1));
-        match best {
-            None => {
-                counts.table_rows_unmatched += 1;
-                if counts.table_lines_unmatched.len() < LIST_MAX {
-                    counts.table_lines_unmatched.push(table.rows[r].line);
-                }
-            }
-            Some((j, _)) if row_of[j].is_some() => {
-                counts.table_rows_duplicate += 1;
-                if counts.table_lines_unmatched.len() < LIST_MAX {
-                    counts.table_lines_unmatched.push(table.rows[r].line);
-                }
-            }
-            Some((j, _)) => row_of[j] = Some(r),
-        }
-    }
-    row_of
-}
-
-/// Rows of `table` that belong to record `name` (all rows when the table has no record column).
-pub fn rows_of(table: &BeatTable, name: &str) -> Vec<usize> {
-    (0..table.rows.len())
-        .filter(|&r| !table.has_record || table.rows[r].record.as_deref() == Some(name))
-        .collect()
-}
+pub use crate::features::table::rows_of;
 
 /// Detect the beats of `rec`, label them from its reference beats, describe them, and attach
 /// the rows of `table` (see the module notes).
@@ -144,7 +94,12 @@ pub fn labelled_beats(
     let row_of = table.map(|t| {
         let rows = rows_of(t, &rec.name);
         counts.table_rows = rows.len();
-        match_rows(t, &rows, &b.samples, fs, p.score_window_s, &mut counts)
+        let (row_of, u) =
+            crate::features::table::match_rows(t, &rows, &b.samples, fs, p.score_window_s);
+        counts.table_rows_unmatched = u.unmatched;
+        counts.table_rows_duplicate = u.duplicate;
+        counts.table_lines_unmatched = u.lines;
+        row_of
     });
     let mut has_window = vec![false; b.samples.len()];
     for &bi in &feats.beat_index {

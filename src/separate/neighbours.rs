@@ -1,94 +1,35 @@
-//! Exact k nearest neighbours for the vote, fast in any dimension.
+//! Exact k nearest neighbours for the vote, fast on clustered beats in any dimension.
 //!
 //! In: reference rows, query rows (same width) and k. Out: the same [`Neighbors`] table as
 //! [`crate::embed::knn`] (k nearest reference rows per query, nearest first, squared Euclidean
 //! distances, ties broken by the smaller reference index), so results are interchangeable.
 //!
-//! Method: blocked brute force. Both sets are centred on the reference mean (distances do not
-//! change) and rounded to the working precision (f32 above [`F64_MAX_DIM`] coordinates, where
-//! the product dominates the time; f64 up to it, where f32 could not resolve the small
-//! distances of tight clusters); for a block of references and a block of queries the cross
-//! products come from one matrix product (faer), and the expansion d̃ = ‖x‖² + ‖y‖² − 2 x·y
-//! screens the candidates. With M(x, y) = c·(‖x‖² + ‖y‖²) a bound on |d̃ − d| (rounding of the
-//! inputs: 4u(‖x‖² + ‖y‖²); of the dot product in any summation order: γ_dim·‖x‖‖y‖, u the
-//! unit roundoff; Higham 2002, §3.1), the true k-th distance is at most the k-th smallest
-//! d̃ + M over the references, and a reference is kept when d̃ − M does not exceed that, so no
-//! true neighbour is lost; the kept candidates are then ranked by their exact f64 distance on
-//! the original rows. The result equals exhaustive search
-//! (same indices, same distances) and does not depend on the thread count: each query is
-//! processed by one thread, in a fixed block order, and the final rank uses exact distances.
+//! Method: exact search with triangle-inequality pruning over a one-level ball partition (the
+//! pruning rules of metric trees, Uhlmann 1991; Fukunaga & Narendra 1975) and partial distance
+//! search (Bei & Gray 1985). Both sets are first centred and rotated onto the reference rows'
+//! principal axes (distances do not change), so that partial sums over the leading axes
+//! exceed the current k-th distance after a few coordinates for most rows. About 2√n reference
+//! rows, taken at a fixed stride, are centres; every reference row joins its nearest centre, and
+//! each ball keeps its radius and its members sorted by their distance to the centre. For a
+//! query q with current k-th distance τ, a ball with centre c and radius r is skipped when
+//! d(q, c) − r > τ, and a member y when |d(q, c) − d(y, c)| > τ (both lower bounds of d(q, y));
+//! balls are visited in order of their lower bound, so the search stops at the first ball that
+//! cannot hold a neighbour, and a member's distance is abandoned once its partial sum exceeds
+//! τ². The bounds are widened by a relative 1e-9 (far above the rounding of a distance and of
+//! the rotation in f64), so no true neighbour is lost; candidates are ranked by their exact f64
+//! distance on the original rows. The result equals exhaustive search (same indices, same distances) and does not
+//! depend on the thread count: each query is searched by one thread on its own. Beats form a few
+//! tight groups, so most balls are skipped; on unclustered data the search degrades to
+//! exhaustive comparison, never to a wrong answer.
 
 use crate::embed::knn::Neighbors;
+use crate::embed::Pca;
 use crate::error::{Error, Result};
 use crate::points::Points;
-use faer::reborrow::ReborrowMut;
-use faer::{Mat, Par};
 use rayon::prelude::*;
 
-/// Queries per block (one block per parallel task).
+/// Queries per parallel task.
 const QUERY_BLOCK: usize = 256;
-/// References per block (one product of `REF_BLOCK × QUERY_BLOCK`).
-const REF_BLOCK: usize = 512;
-/// Largest width searched in f64; wider rows are screened in f32.
-pub const F64_MAX_DIM: usize = 32;
-
-/// Working precision of the screen.
-trait Real: faer::traits::ComplexField + Copy + Into<f64> + Send + Sync {
-    /// Unit roundoff.
-    const U: f64;
-    fn of(x: f64) -> Self;
-}
-impl Real for f32 {
-    const U: f64 = f32::EPSILON as f64 / 2.0;
-    fn of(x: f64) -> Self {
-        x as f32
-    }
-}
-impl Real for f64 {
-    const U: f64 = f64::EPSILON / 2.0;
-    fn of(x: f64) -> Self {
-        x
-    }
-}
-
-/// Candidates of one query: (lower bound of d − ‖x‖², reference index) within the screen.
-struct Screen {
-    k: usize,
-    /// c·‖x‖² of the query.
-    qmargin: f64,
-    cap: usize,
-    threshold: f64,
-    cand: Vec<(f64, usize)>,
-}
-
-impl Screen {
-    fn new(k: usize, qmargin: f64) -> Self {
-        let cap = (4 * k).max(64);
-        Screen {
-            k,
-            qmargin,
-            cap,
-            threshold: f64::INFINITY,
-            cand: Vec::with_capacity(cap),
-        }
-    }
-
-    /// Tighten the threshold to the k-th smallest upper bound + 2c·‖x‖² and drop the candidates
-    /// whose lower bound lies above it. `up[j]` = 2c·‖y_j‖² turns a lower bound into an upper.
-    fn tighten(&mut self, up: &[f64]) {
-        if self.cand.len() < self.k {
-            return;
-        }
-        let mut upper: Vec<f64> = self.cand.iter().map(|&(l, j)| l + up[j]).collect();
-        let (_, kth, _) = upper.select_nth_unstable_by(self.k - 1, f64::total_cmp);
-        self.threshold = self.threshold.min(*kth + 2.0 * self.qmargin);
-        let t = self.threshold;
-        self.cand.retain(|c| c.0 <= t);
-        if self.cand.len() * 2 > self.cap {
-            self.cap *= 2; // many near-ties: let the buffer grow
-        }
-    }
-}
 
 /// Exact k nearest rows of `reference` for every row of `queries` (see the module notes). A query
 /// that is itself a reference row finds itself at distance 0.
@@ -120,91 +61,192 @@ pub fn nearest(reference: &Points, queries: &Points, k: usize) -> Result<Neighbo
             "neighbour search: a coordinate is not a finite number".into(),
         ));
     }
-    if reference.dim <= F64_MAX_DIM {
-        Ok(search::<f64>(reference, queries, k))
-    } else {
-        Ok(search::<f32>(reference, queries, k))
+    Ok(search(reference, queries, k))
+}
+
+/// The ball partition of the reference rows.
+struct Balls {
+    /// Row index of each centre.
+    centre: Vec<usize>,
+    /// Start of each ball in `member`/`rad`/`rows` (one extra entry: the end).
+    start: Vec<usize>,
+    /// Largest member distance to the centre, per ball.
+    radius: Vec<f64>,
+    /// Reference index of each member, grouped by ball, by distance to the centre.
+    member: Vec<usize>,
+    /// Distance of each member to its centre.
+    rad: Vec<f64>,
+    /// Member rows, copied in `member` order.
+    rows: Vec<f64>,
+}
+
+impl Balls {
+    fn new(r: &Points) -> Balls {
+        let n = r.n;
+        let c = ((2.0 * (n as f64).sqrt()).ceil() as usize).clamp(1, n);
+        let stride = n / c;
+        let centre: Vec<usize> = (0..c).map(|i| i * stride).collect();
+        let assign: Vec<(usize, f64)> = (0..n)
+            .into_par_iter()
+            .map(|j| {
+                let y = r.row(j);
+                let mut best = (0, f64::INFINITY);
+                for (ci, &cj) in centre.iter().enumerate() {
+                    let d = Points::dist2(y, r.row(cj));
+                    if d < best.1 {
+                        best = (ci, d);
+                    }
+                }
+                (best.0, best.1.sqrt())
+            })
+            .collect();
+        let mut order: Vec<usize> = (0..n).collect();
+        order.sort_by(|&a, &b| {
+            assign[a]
+                .0
+                .cmp(&assign[b].0)
+                .then(assign[a].1.total_cmp(&assign[b].1))
+                .then(a.cmp(&b))
+        });
+        let mut start = vec![0; c + 1];
+        for &(ci, _) in &assign {
+            start[ci + 1] += 1;
+        }
+        for i in 0..c {
+            start[i + 1] += start[i];
+        }
+        let rad: Vec<f64> = order.iter().map(|&j| assign[j].1).collect();
+        let radius = (0..c)
+            .map(|ci| rad[start[ci]..start[ci + 1]].last().copied().unwrap_or(0.0))
+            .collect();
+        let mut rows = Vec::with_capacity(n * r.dim);
+        for &j in &order {
+            rows.extend_from_slice(r.row(j));
+        }
+        Balls {
+            centre,
+            start,
+            radius,
+            member: order,
+            rad,
+            rows,
+        }
     }
 }
 
-fn search<T: Real>(reference: &Points, queries: &Points, k: usize) -> Neighbors {
+/// The k best (squared distance, index) pairs so far, ascending; ties by the smaller index.
+fn offer(top: &mut Vec<(f64, usize)>, k: usize, d2: f64, j: usize) {
+    let less = |a: &(f64, usize), b: &(f64, usize)| a.0 < b.0 || (a.0 == b.0 && a.1 < b.1);
+    if top.len() == k && !less(&(d2, j), &top[k - 1]) {
+        return;
+    }
+    let pos = top.partition_point(|x| less(x, &(d2, j)));
+    top.insert(pos, (d2, j));
+    top.truncate(k);
+}
+
+/// Relative widening of every bound (see the module notes).
+const SLACK: f64 = 1e-9;
+
+/// Reference and query rows on the reference rows' principal axes (centred and rotated:
+/// distances unchanged up to rounding), so that partial sums over the leading axes reach the
+/// distance early; the rows as they are when no rotation can be fitted.
+fn rotated(reference: &Points, queries: &Points) -> (Points, Points) {
     let dim = reference.dim;
-    let nref = reference.n;
-    let mut mean = vec![0.0; dim];
-    for r in reference.rows() {
-        for (m, v) in mean.iter_mut().zip(r) {
-            *m += v;
+    let r = Pca::fit(reference)
+        .and_then(|p| Ok((p.project(reference, dim)?, p.project(queries, dim)?)));
+    match r {
+        Ok((a, b)) if a.dim == dim && b.dim == dim => (a, b),
+        _ => (reference.clone(), queries.clone()),
+    }
+}
+
+/// Squared distance of `a` and `b`, abandoned (returning a value above `limit`) as soon as a
+/// partial sum exceeds `limit` (partial distance search, Bei & Gray 1985).
+fn partial_dist2(a: &[f64], b: &[f64], limit: f64) -> f64 {
+    let mut acc = 0.0;
+    for (ca, cb) in a.chunks(8).zip(b.chunks(8)) {
+        acc += ca
+            .iter()
+            .zip(cb)
+            .map(|(x, y)| (x - y) * (x - y))
+            .sum::<f64>();
+        if acc > limit {
+            return acc;
         }
     }
-    mean.iter_mut().for_each(|m| *m /= nref as f64);
-    let centred = |p: &Points, i: usize, d: usize| T::of(p.data[i * dim + d] - mean[d]);
-    let rc = Mat::<T>::from_fn(nref, dim, |i, d| centred(reference, i, d));
-    let sq = |it: &mut dyn Iterator<Item = T>| {
-        it.map(|v| {
-            let v: f64 = v.into();
-            v * v
-        })
-        .sum::<f64>()
+    acc
+}
+
+fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
+    let dim = reference.dim;
+    let (rr, rq) = rotated(reference, queries);
+    let b = Balls::new(&rr);
+    let norm = |p: &Points| {
+        p.rows()
+            .map(|r| r.iter().map(|v| v * v).sum::<f64>().sqrt())
+            .fold(0.0, f64::max)
     };
-    let rn: Vec<f64> = (0..nref)
-        .map(|i| sq(&mut (0..dim).map(|d| rc[(i, d)])))
-        .collect();
-    // Rounding bound factor c: γ_dim + 4u + slack.
-    let c = 1.25 * (dim as f64 + 8.0) * T::U;
-    // Lower bound of d − ‖x‖² is ‖y‖²(1 − c) − 2x·y − c‖x‖²; the last term is folded into the
-    // threshold. `up[j]` = 2c‖y_j‖² takes a lower bound to the upper one.
-    let rn_lo: Vec<f64> = rn.iter().map(|&r| r * (1.0 - c)).collect();
-    let up: Vec<f64> = rn.iter().map(|&r| 2.0 * c * r).collect();
+    let rmax = norm(&rr);
+    let nb = b.centre.len();
     let mut index = vec![0usize; queries.n * k];
     let mut dist2 = vec![0.0; queries.n * k];
     index
         .par_chunks_mut(QUERY_BLOCK * k)
         .zip(dist2.par_chunks_mut(QUERY_BLOCK * k))
         .enumerate()
-        .for_each(|(b, (bi, bd))| {
-            let q0 = b * QUERY_BLOCK;
-            let nq = bi.len() / k;
-            let qt = Mat::<T>::from_fn(dim, nq, |d, i| centred(queries, q0 + i, d));
-            let mut screens: Vec<Screen> = (0..nq)
-                .map(|i| Screen::new(k, c * sq(&mut (0..dim).map(|d| qt[(d, i)]))))
-                .collect();
-            let mut g = Mat::<T>::zeros(REF_BLOCK.min(nref), nq);
-            for r0 in (0..nref).step_by(REF_BLOCK) {
-                let nr = REF_BLOCK.min(nref - r0);
-                let mut gb = g.as_mut().subrows_mut(0, nr);
-                faer::linalg::matmul::matmul(
-                    gb.rb_mut(),
-                    faer::Accum::Replace,
-                    rc.as_ref().subrows(r0, nr),
-                    qt.as_ref(),
-                    T::of(1.0),
-                    Par::Seq,
-                );
-                let lob = &rn_lo[r0..r0 + nr];
-                for (i, s) in screens.iter_mut().enumerate() {
-                    let col = &g.col_as_slice(i)[..nr];
-                    for (j, (&gij, &lo)) in col.iter().zip(lob).enumerate() {
-                        let gij: f64 = gij.into();
-                        let l = lo - 2.0 * gij;
-                        if l <= s.threshold {
-                            s.cand.push((l, r0 + j));
-                            if s.cand.len() >= s.cap {
-                                s.tighten(&up);
-                            }
+        .for_each(|(blk, (bi, bd))| {
+            let q0 = blk * QUERY_BLOCK;
+            let mut dq = vec![0.0; nb];
+            let mut visit: Vec<(f64, usize)> = Vec::with_capacity(nb);
+            let mut top: Vec<(f64, usize)> = Vec::with_capacity(k + 1);
+            for i in 0..bi.len() / k {
+                let q = queries.row(q0 + i);
+                let qr = rq.row(q0 + i);
+                // Rounding of the rotation: far below this absolute margin.
+                let delta = SLACK * (qr.iter().map(|v| v * v).sum::<f64>().sqrt() + rmax);
+                visit.clear();
+                for (ci, &cj) in b.centre.iter().enumerate() {
+                    dq[ci] = Points::dist2(qr, rr.row(cj)).sqrt();
+                    visit.push(((dq[ci] - b.radius[ci]).max(0.0), ci));
+                }
+                visit.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                // The ball of the nearest centre first: its members give a tight τ early.
+                let nearest_ball = (0..nb)
+                    .min_by(|&x, &y| dq[x].total_cmp(&dq[y]))
+                    .unwrap_or(0);
+                if let Some(p) = visit.iter().position(|v| v.1 == nearest_ball) {
+                    let v = visit.remove(p);
+                    visit.insert(0, (0.0, v.1));
+                }
+                top.clear();
+                let mut tau = f64::INFINITY;
+                for &(lb, ci) in &visit {
+                    let d = dq[ci];
+                    let tol = SLACK * (d + b.radius[ci] + tau) + delta;
+                    if lb > tau + tol {
+                        break;
+                    }
+                    let (s, e) = (b.start[ci], b.start[ci + 1]);
+                    let lo = d - tau - tol;
+                    let first = s + b.rad[s..e].partition_point(|&r| r < lo);
+                    for m in first..e {
+                        let tol = SLACK * (d + b.radius[ci] + tau) + delta;
+                        if b.rad[m] > d + tau + tol {
+                            break;
+                        }
+                        let limit = (tau + tol) * (tau + tol);
+                        if partial_dist2(qr, &b.rows[m * dim..(m + 1) * dim], limit) > limit {
+                            continue;
+                        }
+                        let j = b.member[m];
+                        offer(&mut top, k, Points::dist2(q, reference.row(j)), j);
+                        if top.len() == k {
+                            tau = top[k - 1].0.sqrt();
                         }
                     }
                 }
-            }
-            for (i, mut s) in screens.into_iter().enumerate() {
-                s.tighten(&up);
-                let q = queries.row(q0 + i);
-                let mut exact: Vec<(f64, usize)> = s
-                    .cand
-                    .iter()
-                    .map(|&(_, j)| (Points::dist2(q, reference.row(j)), j))
-                    .collect();
-                exact.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-                for (j, (d, idx)) in exact.into_iter().take(k).enumerate() {
+                for (j, &(d, idx)) in top.iter().enumerate() {
                     bi[i * k + j] = idx;
                     bd[i * k + j] = d;
                 }

@@ -131,7 +131,7 @@ impl SeparateParams {
             ));
         }
         if self.spaces.is_empty() {
-            return Err(Error::param("space", "at least one space is needed"));
+            return Err(Error::param("spaces", "at least one space is needed"));
         }
         if self.fit_landmarks != 0 && !(100..=10_000_000).contains(&self.fit_landmarks) {
             return Err(Error::param(
@@ -219,58 +219,7 @@ fn concat(parts: &[&Points]) -> Result<Points> {
     Points::new(n, dim, data)
 }
 
-/// Per-column mean and standard deviation (divisor n; a constant column gets SD 1).
-fn column_stats(p: &Points) -> (Vec<f64>, Vec<f64>) {
-    let n = p.n.max(1) as f64;
-    let mut mean = vec![0.0; p.dim];
-    for r in p.rows() {
-        for (m, v) in mean.iter_mut().zip(r) {
-            *m += v / n;
-        }
-    }
-    let mut sd = vec![0.0; p.dim];
-    for r in p.rows() {
-        for ((s, v), m) in sd.iter_mut().zip(r).zip(&mean) {
-            *s += (v - m) * (v - m) / n;
-        }
-    }
-    let sd = sd
-        .into_iter()
-        .map(|v| if v > 0.0 { v.sqrt() } else { 1.0 })
-        .collect();
-    (mean, sd)
-}
-
-/// `(x − mean)/sd · scale` column by column.
-fn standardise(p: &Points, mean: &[f64], sd: &[f64], scale: f64) -> Points {
-    let data = p
-        .rows()
-        .flat_map(|r| {
-            r.iter()
-                .zip(mean)
-                .zip(sd)
-                .map(move |((v, m), s)| (v - m) / s * scale)
-        })
-        .collect();
-    Points {
-        n: p.n,
-        dim: p.dim,
-        data,
-    }
-}
-
-fn hstack(a: &Points, b: &Points) -> Points {
-    let data = a
-        .rows()
-        .zip(b.rows())
-        .flat_map(|(x, y)| x.iter().chain(y).copied().collect::<Vec<_>>())
-        .collect();
-    Points {
-        n: a.n,
-        dim: a.dim + b.dim,
-        data,
-    }
-}
+use crate::features::table::{column_stats, hstack, join_scale, standardise};
 
 /// The feature sets of a run. Built-in features are used as they are (their columns share the
 /// signal's unit by construction). Table columns are z-scored with the fit beats' mean and SD
@@ -301,11 +250,7 @@ fn feature_sets(
         let (mean, sd) = column_stats(&t_fit);
         let scale = match mode {
             TableMode::Replace => 1.0,
-            TableMode::Join => {
-                let (_, bsd) = column_stats(&b_fit);
-                let total: f64 = bsd.iter().map(|s| s * s).sum();
-                (total / t_fit.dim.max(1) as f64).sqrt()
-            }
+            TableMode::Join => join_scale(&b_fit, t_fit.dim),
         };
         let z_fit = standardise(&t_fit, &mean, &sd, scale);
         let z_test = t_test.map(|t| standardise(&t, &mean, &sd, scale));
@@ -606,7 +551,8 @@ pub fn inter_patient(
 /// Within-record separation of one analysed record from what `analyze` already computed: its
 /// feature rows, their diffusion coordinates and PCA baseline scores (row i ↔ feature row i),
 /// the detected beat samples (`beat_index` of the rows refers to them) and the reference beats
-/// of `rec`. No space is refitted. `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
+/// of `rec`. No space is refitted; space names get the prefix `set` (`table-` or `joined-` when
+/// the rows came from a user's feature table). `None` when fewer than [`MIN_BEATS_FOR_GEOMETRY`] rows are labelled or
 /// they hold a single class.
 pub fn within_analysed(
     rec: &crate::record::Record,
@@ -615,6 +561,7 @@ pub fn within_analysed(
     features: &crate::features::Features,
     embedding: &crate::embed::Embedding,
     vote_neighbors: usize,
+    set: &str,
 ) -> Result<Option<Separation>> {
     let (record, reference, fs_hz) = (&rec.name, &rec.annotations.beats, rec.fs_hz);
     if reference.is_empty() || features.points.n == 0 {
@@ -642,7 +589,7 @@ pub fn within_analysed(
         if let Some(all) = all {
             let pts = all.select(&rows);
             let v = space_votes(&pts, &truth, None, vote_neighbors)?;
-            spaces.push((name.to_string(), vote::score(&truth, &v)));
+            spaces.push((format!("{set}{name}"), vote::score(&truth, &v)));
         }
         Ok(())
     };
