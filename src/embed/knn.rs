@@ -57,27 +57,27 @@ impl Neighbors {
 }
 
 /// The k best (squared distance, index) pairs seen so far, sorted ascending.
-struct TopK {
+pub(crate) struct TopK {
     k: usize,
     items: Vec<(f64, usize)>,
 }
 
 impl TopK {
-    fn new(k: usize) -> Self {
+    pub(crate) fn new(k: usize) -> Self {
         TopK {
             k,
             items: Vec::with_capacity(k + 1),
         }
     }
     /// Current k-th distance (infinity until k items are held).
-    fn worst(&self) -> f64 {
+    pub(crate) fn worst(&self) -> f64 {
         if self.items.len() < self.k {
             f64::INFINITY
         } else {
             self.items.last().map_or(f64::INFINITY, |x| x.0)
         }
     }
-    fn push(&mut self, d2: f64, idx: usize) {
+    pub(crate) fn push(&mut self, d2: f64, idx: usize) {
         if self.items.len() == self.k {
             match self.items.last() {
                 Some(&(w, wi)) if d2 > w || (d2 == w && idx >= wi) => return,
@@ -89,6 +89,14 @@ impl TopK {
             .partition_point(|&(d, i)| d < d2 || (d == d2 && i < idx));
         self.items.insert(pos, (d2, idx));
         self.items.truncate(self.k);
+    }
+    /// The pairs held, nearest first.
+    pub(crate) fn items(&self) -> &[(f64, usize)] {
+        &self.items
+    }
+    /// Empty again, for the next query.
+    pub(crate) fn clear(&mut self) {
+        self.items.clear();
     }
 }
 
@@ -260,6 +268,16 @@ impl<'a> KdTree<'a> {
 
 /// Check the shapes of a neighbour search.
 fn check(reference: &Points, queries: &Points, k: usize) -> Result<()> {
+    check_shapes(reference, queries, k, "neighbors")
+}
+
+/// Check the shapes of a neighbour search whose k is the parameter `key`.
+pub(crate) fn check_shapes(
+    reference: &Points,
+    queries: &Points,
+    k: usize,
+    key: &str,
+) -> Result<()> {
     if queries.dim != reference.dim {
         return Err(Error::Analysis(format!(
             "neighbour search: queries have {} coordinates, references {}",
@@ -268,7 +286,7 @@ fn check(reference: &Points, queries: &Points, k: usize) -> Result<()> {
     }
     if k == 0 || k > reference.n {
         return Err(Error::param(
-            "neighbors",
+            key,
             format!(
                 "{k}; allowed 1 to the number of reference points ({})",
                 reference.n

@@ -22,7 +22,7 @@
 //! tight groups, so most balls are skipped; on unclustered data the search degrades to
 //! exhaustive comparison, never to a wrong answer.
 
-use crate::embed::knn::Neighbors;
+use crate::embed::knn::{Neighbors, TopK};
 use crate::embed::Pca;
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -36,21 +36,7 @@ const QUERY_BLOCK: usize = 256;
 ///
 /// Errors: different widths; k = 0 or more than the reference rows; a non-finite coordinate.
 pub fn nearest(reference: &Points, queries: &Points, k: usize) -> Result<Neighbors> {
-    if queries.dim != reference.dim {
-        return Err(Error::Analysis(format!(
-            "neighbour search: queries have {} coordinates, references {}",
-            queries.dim, reference.dim
-        )));
-    }
-    if k == 0 || k > reference.n {
-        return Err(Error::param(
-            "vote_neighbors",
-            format!(
-                "{k}; allowed 1 to the number of reference beats ({})",
-                reference.n
-            ),
-        ));
-    }
+    crate::embed::knn::check_shapes(reference, queries, k, "vote_neighbors")?;
     if reference
         .data
         .iter()
@@ -134,17 +120,6 @@ impl Balls {
     }
 }
 
-/// The k best (squared distance, index) pairs so far, ascending; ties by the smaller index.
-fn offer(top: &mut Vec<(f64, usize)>, k: usize, d2: f64, j: usize) {
-    let less = |a: &(f64, usize), b: &(f64, usize)| a.0 < b.0 || (a.0 == b.0 && a.1 < b.1);
-    if top.len() == k && !less(&(d2, j), &top[k - 1]) {
-        return;
-    }
-    let pos = top.partition_point(|x| less(x, &(d2, j)));
-    top.insert(pos, (d2, j));
-    top.truncate(k);
-}
-
 /// Relative widening of every bound (see the module notes).
 const SLACK: f64 = 1e-9;
 
@@ -199,7 +174,7 @@ fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
             let q0 = blk * QUERY_BLOCK;
             let mut dq = vec![0.0; nb];
             let mut visit: Vec<(f64, usize)> = Vec::with_capacity(nb);
-            let mut top: Vec<(f64, usize)> = Vec::with_capacity(k + 1);
+            let mut top = TopK::new(k);
             for i in 0..bi.len() / k {
                 let q = queries.row(q0 + i);
                 let qr = rq.row(q0 + i);
@@ -240,13 +215,11 @@ fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
                             continue;
                         }
                         let j = b.member[m];
-                        offer(&mut top, k, Points::dist2(q, reference.row(j)), j);
-                        if top.len() == k {
-                            tau = top[k - 1].0.sqrt();
-                        }
+                        top.push(Points::dist2(q, reference.row(j)), j);
+                        tau = top.worst().sqrt();
                     }
                 }
-                for (j, &(d, idx)) in top.iter().enumerate() {
+                for (j, &(d, idx)) in top.items().iter().enumerate() {
                     bi[i * k + j] = idx;
                     bd[i * k + j] = d;
                 }
