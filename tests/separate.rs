@@ -12,7 +12,9 @@ use beatfold::separate::{
 use beatfold::synth::{synthesize, Scenario, SynthParams};
 use rand::{Rng, SeedableRng};
 use std::path::Path;
-use std::process::Command;
+
+mod common;
+use common::beatfold;
 
 /// A resting record with `ectopic` share of premature ventricular (`V`) beats of the
 /// generator's fixed ectopic shape.
@@ -146,14 +148,6 @@ fn bad_input_gets_clear_errors() {
         e.contains("far.csv") && e.contains("none of the 1 rows"),
         "{e}"
     );
-}
-
-fn beatfold(args: &[&str], dir: &Path) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
 }
 
 #[test]

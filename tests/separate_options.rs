@@ -5,19 +5,9 @@
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::path::Path;
-use std::process::Command;
 
-fn beatfold(args: &[&str], dir: &Path) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_beatfold"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("binary runs")
-}
-
-fn ok(o: &std::process::Output) {
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-}
+mod common;
+use common::{beatfold, ok};
 
 fn json_of(path: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
