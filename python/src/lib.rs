@@ -421,22 +421,16 @@ fn intrinsic_dimension(
     seed: i64,
     max_points: i64,
 ) -> PyResult<String> {
-    let seed = count("random_state", seed)? as u64;
-    let mut kmeans = AnalyzeParams::default().dimension.kmeans;
-    kmeans.seed = seed;
-    let p = SuiteParams {
-        methods: match methods {
-            Some(m) => Method::parse_list(m).map_err(to_py)?,
-            None => Method::DEFAULT.to_vec(),
-        },
-        bootstrap: count("bootstrap", bootstrap)?,
-        seed,
-        max_points: count("max_points", max_points)?,
-        kmeans,
-        ..SuiteParams::default()
-    }
-    .check()
-    .map_err(to_py)?;
+    // The library's `dimension` block with these values: the suite `analyze` and the CLI run.
+    let mut a = AnalyzeParams::default();
+    a.dimension.methods = match methods {
+        Some(m) => Method::parse_list(m).map_err(to_py)?,
+        None => Method::DEFAULT.to_vec(),
+    };
+    a.dimension.bootstrap = count("bootstrap", bootstrap)?;
+    a.dimension.seed = count("random_state", seed)? as u64;
+    a.dimension.max_points = count("max_points", max_points)?;
+    let p = a.check().map_err(to_py)?.suite();
     let pts = points_of(x, "X")?;
     let s = py.detach(|| dimension_suite(&pts, &p)).map_err(to_py)?;
     json_text(&json_views::dimension_json(&s, json!({"from": "points"})))

@@ -89,29 +89,26 @@ pub(super) fn dimension_cmd(
     json: bool,
     quiet: bool,
 ) -> Result<()> {
-    use beatfold::dimension::{dimension_suite, Method, SuiteParams};
+    use beatfold::dimension::{dimension_suite, Method};
     let o = Out {
         quiet: quiet || json,
     };
-    // Flag, then config file (the `dimension` block), then the library default.
-    let cfg = params_from(input)?.into_inner().dimension;
-    let methods = match &opts.method {
-        Some(m) => Method::parse_list(m)?,
-        None => cfg.methods.clone(),
-    };
-    let seed = opts.seed.unwrap_or(cfg.seed);
-    let p = SuiteParams {
-        methods,
-        bootstrap: opts.bootstrap.unwrap_or(cfg.bootstrap),
-        seed,
-        max_points: opts.max_points.unwrap_or(cfg.max_points),
-        kmeans: beatfold::dimension::KmeansScalingParams {
-            seed,
-            ..cfg.kmeans.clone()
-        },
-        ..cfg
+    // Flag, then config file (the `dimension` block), then the library default; the suite is
+    // then the one `analyze` runs (`Checked<AnalyzeParams>::suite`: one seed, k-means included).
+    let mut a = params_from(input)?.into_inner();
+    if let Some(m) = &opts.method {
+        a.dimension.methods = Method::parse_list(m)?;
     }
-    .check()?;
+    if let Some(b) = opts.bootstrap {
+        a.dimension.bootstrap = b;
+    }
+    if let Some(seed) = opts.seed {
+        a.dimension.seed = seed;
+    }
+    if let Some(n) = opts.max_points {
+        a.dimension.max_points = n;
+    }
+    let p = a.check()?.suite();
     // Parameters checked before any work.
     let (pts, source) = dimension_points(input, opts, &o)?;
     let s = dimension_suite(&pts, &p)?;
