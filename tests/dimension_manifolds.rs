@@ -123,9 +123,9 @@ fn cubes_and_spheres_of_known_dimension() {
             let want = d as f64;
             if d <= 5 {
                 for (m, v) in ["k-means", "TwoNN", "MLE"].iter().zip(est) {
-                    // Source: DESIGN.md target (±10 % for known d ≤ 5) for k-means quantization
+                    // Source: the project's target (±10 % for known d ≤ 5) for k-means quantization
                     // (Zador 1982; Graf & Luschgy 2000), TwoNN (Facco et al. 2017) and the
-                    // MLE (Levina & Bickel 2004); these are the acceptance bounds.
+                    // MLE (Levina & Bickel 2004).
                     // k-means measured here: S^5 5.13 and the 5-cube 5.03; over six more seeds
                     // (scratch runs) S^5 4.91–5.14 and the 5-cube 4.64–5.11.
                     assert!((v / want - 1.0).abs() < 0.10, "{name}: {m} {v}");

@@ -46,7 +46,7 @@ fn twonn_and_mle_match_scikit_dimension() {
         eprintln!("{name}: TwoNN {t:.6} (skdim {t_ref:.6}), MLE {m:.6} (skdim {m_ref:.6})");
         // Source: scikit-dimension 0.5.0 TwoNN(discard_fraction=0.1) and
         // MLE().fit(n_neighbors=k, comb="mle") averaged over k = 10..20, on the same points
-        // (fixture by scripts/make_dimension_fixture.py). The issue asks for 5 %; the
+        // (fixture by scripts/make_dimension_fixture.py). 5 % would be close enough; the
         // definitions are the same (see src/dimension/nn_estimators.rs), so only rounding
         // differs and we hold them to 1e-6 relative.
         assert!(
@@ -72,7 +72,7 @@ fn twonn_and_mle_match_scikit_dimension() {
         let s = dimension_suite(&pts, &Checked::new(p.clone()).unwrap()).unwrap();
         let st = s.get(Method::Twonn).unwrap();
         let sm = s.get(Method::Mle).unwrap();
-        // Source: as above (same definitions, within the 5 % of the issue).
+        // Source: as above (same definitions, held to 5 % through the whole suite).
         assert!(
             (st.d / t_ref - 1.0).abs() < 0.05,
             "{name}: suite TwoNN {}",

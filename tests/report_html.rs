@@ -127,7 +127,7 @@ fn a_day_long_record_gives_a_page_under_5_mb() {
         a.embedding.n,
         t0.elapsed().as_secs_f64()
     );
-    // The limit the page promises (issue 8): about 5 MB for a 24 h record.
+    // The limit the page promises (docs/report.md): 5 MB for a 24 h record.
     assert!(p.len() < 5_000_000, "page is {mb:.2} MB");
     let d = view_data(&p);
     assert_eq!(d["n_shown"], 4000);
