@@ -51,7 +51,7 @@ mod knn;
 mod nn_estimators;
 
 pub use knn::knn_distances;
-pub use nn_estimators::{mle, twonn};
+pub use nn_estimators::{mle, mle_zero_radius, twonn};
 
 mod bootstrap;
 pub mod calibrate;
