@@ -720,7 +720,12 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
         ));
     }
     let class = if prob >= p.score_min || episodes {
-        reasons.push("irregular RR without organised atrial activity (AF-like)".to_string());
+        reasons.push(if prob >= p.score_min {
+            "irregular RR without organised atrial activity (AF-like)".to_string()
+        } else {
+            "irregular episodes inside a longer record whose whole scores below the threshold"
+                .to_string()
+        });
         VerdictClass::Irregular
     } else if varies {
         reasons.push(
@@ -748,6 +753,12 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
 ///    Li, Mark & Clifford 2008) unless they agree on at least `min_agreement_plausible` and
 ///    the beats used are plausible ([`PLAUSIBLE_RR_S`]), more than `max_flagged_fraction` of its quality segments are
 ///    flagged, or its COSEn cannot be computed;
+/// 2. with `score_min` at most 1 (the default): `irregular` when the irregular-rhythm score
+///    ([`IrregularScore::probability`] of `score`: RR irregularity, P-wave index and f-wave
+///    measures after QRST cancellation, [`super::fwave`]) is at least `score_min`, or the
+///    windowed screen found at least `min_episode_total_s` of episodes (long records); else
+///    `other` when RR varies (below), else `regular`. With `score_min` above 1, the earlier
+///    rule (2 and 3 below) decides;
 /// 2. RR varies when COSEn (Lake & Moorman 2011) exceeds `cosen_min` or the trimmed nRMSSD
 ///    exceeds `organised_nrmssd_min`; it is irregularly irregular when it also has no base
 ///    cycle: at least `off_base_min` of the intervals are off it once isolated premature beats
@@ -757,6 +768,8 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
 ///    `p_wave_min`; Babaeizadeh et al. 2009), else `irregular`;
 /// 3. otherwise `other` when RR varies (ectopic beats, bigeminy, trigeminy: RR that returns to
 ///    a base cycle), else `regular`.
+///
+/// (The second rule 2 is the earlier rule, kept for comparison on the validation pages.)
 ///
 /// The index is the COSEn. Research use only: a label for a recording, never a diagnosis.
 pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
@@ -937,6 +950,39 @@ mod tests {
             assert_ne!(v.class, VerdictClass::Irregular, "{name}: {:?}", v.reasons);
             assert_eq!(v.class, VerdictClass::Other, "{name}: {:?}", v.reasons);
         }
+    }
+
+    #[test]
+    fn score_and_rule_agree_on_clear_cases_and_bad_coefficients_are_refused() {
+        use rand::{Rng, SeedableRng};
+        let score = VerdictParams::default();
+        assert!(score.check().is_ok());
+        assert!(score.score_min <= 1.0, "the score is on by default");
+        let rule = VerdictParams {
+            score_min: 2.0,
+            ..score.clone()
+        };
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(17);
+        // Irregularly irregular RR without a P-wave template, and ventricular bigeminy (common
+        // practice: AF-like against organised irregularity).
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let big: Vec<f64> = (0..40)
+            .map(|k| if k % 2 == 0 { 0.5 } else { 1.1 })
+            .collect();
+        for p in [&score, &rule] {
+            assert_eq!(decide(&ev(&af, f64::NAN), p).class, VerdictClass::Irregular);
+            assert_eq!(decide(&ev(&big, f64::NAN), p).class, VerdictClass::Other);
+        }
+        // The turning-point ratio of a monotone series is 0, of an alternating one 1.
+        assert_eq!(turning_point_ratio(&[1.0, 2.0, 3.0, 4.0]), 0.0);
+        assert_eq!(turning_point_ratio(&[1.0, 2.0, 1.0, 2.0]), 1.0);
+        assert!(turning_point_ratio(&[1.0, 2.0]).is_nan());
+        let mut bad = score.clone();
+        bad.score.scale[2] = 0.0;
+        assert!(bad.check().is_err());
+        bad.score.scale[2] = 1.0;
+        bad.score_min = f64::NAN;
+        assert!(bad.check().is_err());
     }
 
     #[test]
