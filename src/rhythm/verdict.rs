@@ -393,8 +393,7 @@ pub struct VerdictEvidence {
     /// computed).
     #[serde(default)]
     pub fwave: super::fwave::FWave,
-    /// Turning-point ratio of the RR series: the share of the inner intervals that are a
-    /// local maximum or minimum (2/3 for independent intervals; Bartels 1982, `from memory`).
+    /// Turning-point ratio of the RR series ([`super::entropy::turning_point_ratio`]).
     #[serde(default = "nan")]
     pub turning_point_ratio: f64,
 }
@@ -579,21 +578,8 @@ pub fn evidence(
         off_base_share: off_base_share(&rr, p.base_tolerance),
         plausible_beats: rr.len() == rr_s.len() && plausible_rr(&rr),
         fwave: super::fwave::FWave::NONE,
-        turning_point_ratio: turning_point_ratio(&rr),
+        turning_point_ratio: super::entropy::turning_point_ratio(&rr),
     }
-}
-
-/// Share of the inner values of `rr` that are strictly above or strictly below both
-/// neighbours (NaN with fewer than 3 values).
-pub fn turning_point_ratio(rr: &[f64]) -> f64 {
-    if rr.len() < 3 {
-        return f64::NAN;
-    }
-    let turns = rr
-        .windows(3)
-        .filter(|w| (w[1] > w[0] && w[1] > w[2]) || (w[1] < w[0] && w[1] < w[2]))
-        .count();
-    turns as f64 / (rr.len() - 2) as f64
 }
 
 /// Number of measures in [`score_features`].
@@ -973,10 +959,6 @@ mod tests {
             assert_eq!(decide(&ev(&af, f64::NAN), p).class, VerdictClass::Irregular);
             assert_eq!(decide(&ev(&big, f64::NAN), p).class, VerdictClass::Other);
         }
-        // The turning-point ratio of a monotone series is 0, of an alternating one 1.
-        assert_eq!(turning_point_ratio(&[1.0, 2.0, 3.0, 4.0]), 0.0);
-        assert_eq!(turning_point_ratio(&[1.0, 2.0, 1.0, 2.0]), 1.0);
-        assert!(turning_point_ratio(&[1.0, 2.0]).is_nan());
         let mut bad = score.clone();
         bad.score.scale[2] = 0.0;
         assert!(bad.check().is_err());
