@@ -428,6 +428,7 @@ fn group(name: &str) -> String {
 
 /// Logistic regression by Newton's method on the standardised measures, L2 penalty [`RIDGE`]
 /// on the weights; a NaN measure counts as its centre (0 once standardised).
+#[allow(clippy::needless_range_loop)]
 fn fit_logistic(x: &[[f64; SCORE_FEATURES]], y: &[bool]) -> IrregularScore {
     const D: usize = SCORE_FEATURES + 1;
     let mut center = [0.0; SCORE_FEATURES];
@@ -492,6 +493,7 @@ fn fit_logistic(x: &[[f64; SCORE_FEATURES]], y: &[bool]) -> IrregularScore {
 }
 
 /// Solve `a x = b` by Gaussian elimination with partial pivoting (a small dense system).
+#[allow(clippy::needless_range_loop)]
 fn solve<const D: usize>(mut a: [[f64; D]; D], mut b: [f64; D]) -> [f64; D] {
     for c in 0..D {
         let piv = (c..D)
@@ -592,11 +594,11 @@ fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> an
         w,
         "| measure | centre | scale | weight |\n|---|---|---|---|"
     )?;
-    for k in 0..SCORE_FEATURES {
+    for (k, name) in SCORE_FEATURE_NAMES.iter().enumerate() {
         writeln!(
             w,
-            "| {} | {:.6} | {:.6} | {:.6} |",
-            SCORE_FEATURE_NAMES[k], fitted.center[k], fitted.scale[k], fitted.weights[k]
+            "| {name} | {:.6} | {:.6} | {:.6} |",
+            fitted.center[k], fitted.scale[k], fitted.weights[k]
         )?;
     }
     writeln!(w, "| intercept | | | {:.6} |", fitted.intercept)?;

@@ -161,8 +161,8 @@ impl IrregularScore {
     pub fn probability(&self, e: &VerdictEvidence) -> f64 {
         let x = score_features(e);
         let mut z = self.intercept;
-        for k in 0..SCORE_FEATURES {
-            let v = (x[k] - self.center[k]) / self.scale[k];
+        for (k, xk) in x.iter().enumerate() {
+            let v = (xk - self.center[k]) / self.scale[k];
             if v.is_finite() {
                 z += self.weights[k] * v;
             }
@@ -172,8 +172,7 @@ impl IrregularScore {
 
     /// Validate.
     pub fn check(&self) -> Result<()> {
-        for k in 0..SCORE_FEATURES {
-            let name = SCORE_FEATURE_NAMES[k];
+        for (k, name) in SCORE_FEATURE_NAMES.iter().enumerate() {
             if !(self.center[k].is_finite()
                 && self.scale[k].is_finite()
                 && self.scale[k] > 0.0
