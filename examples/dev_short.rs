@@ -24,7 +24,10 @@ use beatfold::params::{Check, Checked};
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::record::{Lead, Record};
 use beatfold::rhythm::label_score::LabelScore;
-use beatfold::rhythm::verdict::{decide, VerdictClass, VerdictEvidence, VerdictParams};
+use beatfold::rhythm::verdict::{
+    decide, score_features, unreadable_reason, IrregularScore, VerdictClass, VerdictEvidence,
+    VerdictParams, SCORE_FEATURES, SCORE_FEATURE_NAMES,
+};
 use rayon::prelude::*;
 use std::fmt::Write as _;
 use std::path::PathBuf;
@@ -35,6 +38,12 @@ const TOL_GRID: [f64; 5] = [0.05, 0.075, 0.1, 0.15, 0.2];
 const OFF_GRID: [f64; 8] = [0.0, 0.05, 0.075, 0.1, 0.125, 0.15, 0.2, 0.3];
 const COSEN_GRID: [f64; 2] = [-1.4, -1.0];
 const AGREEMENT_GRID: [f64; 4] = [0.8, 0.7, 0.6, 0.5];
+const SCORE_GRID: [f64; 9] = [0.2, 0.25, 0.3, 0.35, 0.4, 0.45, 0.5, 0.55, 0.6];
+/// L2 penalty of the logistic fit on the standardised weights (not the intercept): a fixed mild
+/// shrinkage, not tuned.
+const RIDGE: f64 = 1.0;
+/// Folds of the grouped cross-validation (a record's segments stay in one fold).
+const FOLDS: usize = 5;
 
 struct Segment {
     truth: VerdictClass,
@@ -319,6 +328,7 @@ fn main() -> anyhow::Result<()> {
                     cosen_min: c,
                     off_base_min: 0.0,
                     organised_nrmssd_min: f64::MAX,
+                    score_min: RULE_ONLY,
                     ..p.verdict.clone()
                 };
                 let s = score(&segs, &ev, &vp);
@@ -337,6 +347,7 @@ fn main() -> anyhow::Result<()> {
                 let vp = VerdictParams {
                     cosen_min: c,
                     off_base_min: off,
+                    score_min: RULE_ONLY,
                     ..p.verdict.clone()
                 };
                 let s = score(&segs, &ev, &vp);
@@ -391,6 +402,7 @@ fn main() -> anyhow::Result<()> {
             s.confusion[1][3]
         )?;
     }
+    score_section(w, &segs, &default_ev)?;
     eprintln!(
         "{} segments scored in {:.1} s (wall)",
         segs.len(),
@@ -399,6 +411,301 @@ fn main() -> anyhow::Result<()> {
     print!("{page}");
     if let Some(path) = out {
         beatfold::io::write_atomic(&path, page.as_bytes())?;
+    }
+    Ok(())
+}
+
+/// `score_min` above 1: the score is off and the earlier rule decides.
+const RULE_ONLY: f64 = 2.0;
+
+/// The group of a segment: its source record (MIT-BIH or noise-stress record, synthetic seed).
+fn group(name: &str) -> String {
+    match name.split_once('@') {
+        Some((stem, _)) => stem.to_string(),
+        None => name.rsplit('-').next().unwrap_or(name).to_string(),
+    }
+}
+
+/// Logistic regression by Newton's method on the standardised measures, L2 penalty [`RIDGE`]
+/// on the weights; a NaN measure counts as its centre (0 once standardised).
+#[allow(clippy::needless_range_loop)]
+fn fit_logistic(x: &[[f64; SCORE_FEATURES]], y: &[bool]) -> IrregularScore {
+    const D: usize = SCORE_FEATURES + 1;
+    let mut center = [0.0; SCORE_FEATURES];
+    let mut scale = [1.0; SCORE_FEATURES];
+    for k in 0..SCORE_FEATURES {
+        let v: Vec<f64> = x.iter().map(|r| r[k]).filter(|v| v.is_finite()).collect();
+        if v.len() >= 2 {
+            let m = v.iter().sum::<f64>() / v.len() as f64;
+            let sd = (v.iter().map(|a| (a - m).powi(2)).sum::<f64>() / (v.len() - 1) as f64).sqrt();
+            center[k] = m;
+            scale[k] = if sd > 0.0 { sd } else { 1.0 };
+        }
+    }
+    let rows: Vec<[f64; D]> = x
+        .iter()
+        .map(|r| {
+            let mut z = [1.0; D];
+            for k in 0..SCORE_FEATURES {
+                let v = (r[k] - center[k]) / scale[k];
+                z[k + 1] = if v.is_finite() { v } else { 0.0 };
+            }
+            z
+        })
+        .collect();
+    let mut beta = [0.0; D];
+    for _ in 0..100 {
+        let mut g = [0.0; D];
+        let mut h = [[0.0; D]; D];
+        for (z, &t) in rows.iter().zip(y) {
+            let eta: f64 = (0..D).map(|i| beta[i] * z[i]).sum();
+            let pr = 1.0 / (1.0 + (-eta).exp());
+            let wgt = (pr * (1.0 - pr)).max(1e-12);
+            let r = if t { 1.0 } else { 0.0 } - pr;
+            for i in 0..D {
+                g[i] += r * z[i];
+                for j in 0..D {
+                    h[i][j] += wgt * z[i] * z[j];
+                }
+            }
+        }
+        for i in 1..D {
+            g[i] -= RIDGE * beta[i];
+            h[i][i] += RIDGE;
+        }
+        let d = solve(h, g);
+        let step: f64 = d.iter().map(|v| v.abs()).fold(0.0, f64::max);
+        for i in 0..D {
+            beta[i] += d[i];
+        }
+        if step < 1e-10 {
+            break;
+        }
+    }
+    let mut weights = [0.0; SCORE_FEATURES];
+    weights.copy_from_slice(&beta[1..]);
+    IrregularScore {
+        center,
+        scale,
+        weights,
+        intercept: beta[0],
+    }
+}
+
+/// Solve `a x = b` by Gaussian elimination with partial pivoting (a small dense system).
+#[allow(clippy::needless_range_loop)]
+fn solve<const D: usize>(mut a: [[f64; D]; D], mut b: [f64; D]) -> [f64; D] {
+    for c in 0..D {
+        let piv = (c..D)
+            .max_by(|&i, &j| a[i][c].abs().total_cmp(&a[j][c].abs()))
+            .unwrap_or(c);
+        a.swap(c, piv);
+        b.swap(c, piv);
+        let d = a[c][c];
+        for r in c + 1..D {
+            let f = a[r][c] / d;
+            for k in c..D {
+                a[r][k] -= f * a[c][k];
+            }
+            b[r] -= f * b[c];
+        }
+    }
+    let mut x = [0.0; D];
+    for c in (0..D).rev() {
+        let s: f64 = (c + 1..D).map(|k| a[c][k] * x[k]).sum();
+        x[c] = (b[c] - s) / a[c][c];
+    }
+    x
+}
+
+/// The readable segments among `idx` (rule 1 of the verdict at the default parameters), as
+/// measures and irregular-vs-rest truth.
+fn training_rows(
+    segs: &[Segment],
+    ev: &[VerdictEvidence],
+    idx: &[usize],
+) -> (Vec<[f64; SCORE_FEATURES]>, Vec<bool>) {
+    let p = VerdictParams::default();
+    idx.iter()
+        .filter(|&&k| unreadable_reason(&ev[k], &p).is_none())
+        .map(|&k| {
+            (
+                score_features(&ev[k]),
+                segs[k].truth == VerdictClass::Irregular,
+            )
+        })
+        .unzip()
+}
+
+/// The verdict parameters with the score and its threshold replaced.
+fn with_score(score: &IrregularScore, min: f64) -> VerdictParams {
+    VerdictParams {
+        score: score.clone(),
+        score_min: min,
+        ..VerdictParams::default()
+    }
+}
+
+/// The threshold of [`SCORE_GRID`] with the highest irregular-vs-rest F1 on the segments `idx`
+/// (the first of equals).
+fn best_threshold(
+    segs: &[Segment],
+    ev: &[VerdictEvidence],
+    idx: &[usize],
+    s: &IrregularScore,
+) -> (f64, f64) {
+    SCORE_GRID
+        .iter()
+        .map(|&t| {
+            let vp = with_score(s, t);
+            let pairs: Vec<(VerdictClass, VerdictClass)> = idx
+                .iter()
+                .map(|&k| (segs[k].truth, decide(&ev[k], &vp).class))
+                .collect();
+            (t, LabelScore::from_pairs(&pairs).irregular_f1)
+        })
+        .fold(
+            (f64::NAN, f64::NEG_INFINITY),
+            |a, b| if b.1 > a.1 { b } else { a },
+        )
+}
+
+/// The irregular-rhythm score: fitted on every readable segment, its coefficients, the
+/// threshold's sensitivity table and a grouped cross-validation.
+fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> anyhow::Result<()> {
+    let all: Vec<usize> = (0..segs.len()).collect();
+    let (x, y) = training_rows(segs, ev, &all);
+    let fitted = fit_logistic(&x, &y);
+    writeln!(
+        w,
+        "\n## Irregular-rhythm score\n\nA logistic regression of irregular against every other \
+         label over the {} segments that pass the readability rules at the default parameters \
+         ({} of them irregular), on the standardised measures below (a NaN measure counts as \
+         its centre), Newton's method with an L2 penalty of {RIDGE} on the weights (fixed, not \
+         tuned). The measures: COSEn (Lake & Moorman 2011), trimmed nRMSSD, the off-base share, \
+         the turning-point ratio, the median P-wave index (0 without a template), and the f-wave \
+         band share, organisation index and log10 relative amplitude after QRST cancellation \
+         (docs/methods.md, \"Record verdict\"). These coefficients are the library's defaults \
+         (`IrregularScore::fitted`).\n",
+        x.len(),
+        y.iter().filter(|t| **t).count()
+    )?;
+    writeln!(
+        w,
+        "| measure | centre | scale | weight |\n|---|---|---|---|"
+    )?;
+    for (k, name) in SCORE_FEATURE_NAMES.iter().enumerate() {
+        writeln!(
+            w,
+            "| {name} | {:.6} | {:.6} | {:.6} |",
+            fitted.center[k], fitted.scale[k], fitted.weights[k]
+        )?;
+    }
+    writeln!(w, "| intercept | | | {:.6} |", fitted.intercept)?;
+    let fmt = |v: &[f64]| {
+        v.iter()
+            .map(|x| format!("{x:.6}"))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    writeln!(
+        w,
+        "\nAs written in `src/rhythm/verdict.rs`: center [{}]; scale [{}]; weights [{}]; \
+         intercept {:.6}.",
+        fmt(&fitted.center),
+        fmt(&fitted.scale),
+        fmt(&fitted.weights),
+        fitted.intercept
+    )?;
+    writeln!(
+        w,
+        "\nThe verdict with this score for each `score_min` (every other parameter at its \
+         default); `rule` is the earlier rule without the score.\n"
+    )?;
+    writeln!(
+        w,
+        "| score_min | Se % | Sp % | F1 | irregular called other | other called irregular |\n|---|---|---|---|---|---|"
+    )?;
+    let rows: Vec<(String, VerdictParams)> =
+        std::iter::once(("rule".to_string(), with_score(&fitted, RULE_ONLY)))
+            .chain(
+                SCORE_GRID
+                    .iter()
+                    .map(|&t| (t.to_string(), with_score(&fitted, t))),
+            )
+            .collect();
+    for (name, vp) in &rows {
+        let s = score(segs, ev, vp);
+        writeln!(
+            w,
+            "| {name} | {:.1} | {:.1} | {:.3} | {} | {} |",
+            100.0 * s.irregular_se,
+            100.0 * s.irregular_sp,
+            s.irregular_f1,
+            s.confusion[1][2],
+            s.confusion[2][1]
+        )?;
+    }
+    let (best, f1) = best_threshold(segs, ev, &all, &fitted);
+    writeln!(
+        w,
+        "\nHighest F1 on this set: score_min {best} (F1 {f1:.3}; the first of equals). This is \
+         the default."
+    )?;
+    // Grouped cross-validation: fit and threshold on four folds, scored on the fifth.
+    let mut groups: Vec<String> = segs.iter().map(|s| group(&s.record.name)).collect();
+    groups.sort();
+    groups.dedup();
+    let fold_of = |k: usize| -> usize {
+        let g = group(&segs[k].record.name);
+        groups.binary_search(&g).unwrap_or(0) % FOLDS
+    };
+    let mut pooled = Vec::new();
+    writeln!(
+        w,
+        "\nGrouped cross-validation ({} source records and synthetic seeds, group j in fold j \
+         mod {FOLDS}, a record's segments in one fold): the score fitted and its threshold \
+         chosen on four folds, applied to the fifth.\n\n| fold | score_min | F1 on the other folds |\n|---|---|---|",
+        groups.len()
+    )?;
+    for f in 0..FOLDS {
+        let train: Vec<usize> = all.iter().copied().filter(|&k| fold_of(k) != f).collect();
+        let (xt, yt) = training_rows(segs, ev, &train);
+        let s = fit_logistic(&xt, &yt);
+        let (t, f1) = best_threshold(segs, ev, &train, &s);
+        writeln!(w, "| {f} | {t} | {f1:.3} |")?;
+        let vp = with_score(&s, t);
+        pooled.extend(
+            all.iter()
+                .filter(|&&k| fold_of(k) == f)
+                .map(|&k| (segs[k].truth, decide(&ev[k], &vp).class)),
+        );
+    }
+    let cv = LabelScore::from_pairs(&pooled);
+    writeln!(
+        w,
+        "\nHeld out, pooled: irregular vs rest Se {:.1} %, Sp {:.1} %, F1 {:.3}.",
+        100.0 * cv.irregular_se,
+        100.0 * cv.irregular_sp,
+        cv.irregular_f1
+    )?;
+    if std::env::var_os("DEV_SHORT_DUMP").is_some() {
+        for (k, sgm) in segs.iter().enumerate() {
+            let e = &ev[k];
+            eprintln!(
+                "dump {},{},{},{},{:.4},{:.2}",
+                sgm.record.name,
+                sgm.truth.name(),
+                unreadable_reason(e, &VerdictParams::default()).is_none(),
+                score_features(e)
+                    .iter()
+                    .map(|v| format!("{v:.4}"))
+                    .collect::<Vec<_>>()
+                    .join(","),
+                fitted.probability(e),
+                e.fwave.dominant_hz
+            );
+        }
     }
     Ok(())
 }

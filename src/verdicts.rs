@@ -49,7 +49,7 @@ pub fn verdict_of_beats(
         (&b.samples, &b.rr_s)
     };
     let pw = crate::rhythm::atrial::p_wave_index_with(&b.conditioned, samples, rec.fs_hz, &ap)?;
-    let e = evidence(
+    let mut e = evidence(
         raw,
         rec.fs_hz,
         samples,
@@ -61,6 +61,7 @@ pub fn verdict_of_beats(
         screen_irregular_s,
         &p.verdict,
     );
+    e.fwave = crate::rhythm::fwave::fwave(&b.conditioned, samples, rec.fs_hz);
     Ok((decide(&e, &p.verdict), e))
 }
 

@@ -8,6 +8,7 @@
 
 pub mod atrial;
 pub mod entropy;
+pub mod fwave;
 pub mod label_score;
 pub mod recurrence;
 pub mod screen;

@@ -112,7 +112,105 @@ pub struct VerdictParams {
     /// off. Chosen on the development set of docs/validation-short-dev.md, where reading such
     /// records let noisy ones through and lowered the irregular-vs-rest F1).
     pub min_agreement_plausible: f64,
+    /// The irregular-rhythm score: a logistic combination of RR irregularity, P-wave and f-wave
+    /// measures ([`IrregularScore`]; default [`IrregularScore::fitted`], fitted on the
+    /// development set of docs/validation-short-dev.md).
+    pub score: IrregularScore,
+    /// A readable record is `irregular` when its score (a probability) is at least this; above
+    /// 1 the score is not used and the earlier rule decides (RR irregularly irregular and no
+    /// organised P waves; default chosen on the development set of
+    /// docs/validation-short-dev.md).
+    pub score_min: f64,
 }
+
+/// A logistic score over [`score_features`]: each measure is centred and scaled, a NaN measure
+/// counts as its centre, and the probability is 1 / (1 + exp(−(intercept + Σ weight·z))).
+/// Research use only: a ranking of records, not a calibrated risk.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct IrregularScore {
+    /// Centre of each measure (its mean on the fitting set).
+    pub center: [f64; SCORE_FEATURES],
+    /// Scale of each measure (its standard deviation on the fitting set).
+    pub scale: [f64; SCORE_FEATURES],
+    /// Weight of each standardised measure.
+    pub weights: [f64; SCORE_FEATURES],
+    /// Intercept.
+    pub intercept: f64,
+}
+
+impl Default for IrregularScore {
+    fn default() -> Self {
+        IrregularScore::fitted()
+    }
+}
+
+impl IrregularScore {
+    /// The coefficients fitted by `cargo run --release --example dev_short` on the development
+    /// set of docs/validation-short-dev.md (copied from that page).
+    pub fn fitted() -> Self {
+        IrregularScore {
+            center: FITTED_CENTER,
+            scale: FITTED_SCALE,
+            weights: FITTED_WEIGHTS,
+            intercept: FITTED_INTERCEPT,
+        }
+    }
+
+    /// The probability of the record's measures (see the type's documentation).
+    pub fn probability(&self, e: &VerdictEvidence) -> f64 {
+        let x = score_features(e);
+        let mut z = self.intercept;
+        for (k, xk) in x.iter().enumerate() {
+            let v = (xk - self.center[k]) / self.scale[k];
+            if v.is_finite() {
+                z += self.weights[k] * v;
+            }
+        }
+        1.0 / (1.0 + (-z).exp())
+    }
+
+    /// Validate.
+    pub fn check(&self) -> Result<()> {
+        for (k, name) in SCORE_FEATURE_NAMES.iter().enumerate() {
+            if !(self.center[k].is_finite()
+                && self.scale[k].is_finite()
+                && self.scale[k] > 0.0
+                && self.weights[k].is_finite())
+            {
+                return Err(Error::param(
+                    "verdict.score",
+                    format!(
+                        "measure {name}: center {}, scale {}, weight {}; allowed finite values with a scale > 0",
+                        self.center[k], self.scale[k], self.weights[k]
+                    ),
+                ));
+            }
+        }
+        if !self.intercept.is_finite() {
+            return Err(Error::param(
+                "verdict.score.intercept",
+                format!("{}; allowed a finite number", self.intercept),
+            ));
+        }
+        Ok(())
+    }
+}
+
+/// Fitted centres (see [`IrregularScore::fitted`]).
+const FITTED_CENTER: [f64; SCORE_FEATURES] = [
+    -1.650299, 0.118280, 0.066615, 0.574650, 0.733006, 0.330705, 0.814432, -1.974474,
+];
+/// Fitted scales (see [`IrregularScore::fitted`]).
+const FITTED_SCALE: [f64; SCORE_FEATURES] = [
+    0.648074, 0.150461, 0.096150, 0.139665, 0.366478, 0.132931, 0.200233, 0.318264,
+];
+/// Fitted weights (see [`IrregularScore::fitted`]).
+const FITTED_WEIGHTS: [f64; SCORE_FEATURES] = [
+    1.873067, -1.102995, 1.006105, 0.852473, -2.447962, 0.344252, 0.425385, -1.884811,
+];
+/// Fitted intercept (see [`IrregularScore::fitted`]).
+const FITTED_INTERCEPT: f64 = -6.447888;
 
 /// RR intervals a beat train may have to count as plausible, seconds: 0.25–3 s (240 to 20
 /// beats per minute, `common practice`).
@@ -143,6 +241,8 @@ impl Default for VerdictParams {
             base_tolerance: 0.1,
             off_base_min: 0.1,
             min_agreement_plausible: 0.8,
+            score: IrregularScore::fitted(),
+            score_min: 0.4,
         }
     }
 }
@@ -225,6 +325,16 @@ impl VerdictParams {
                 format!("{}; allowed 0 < v < 1 (fraction)", self.base_tolerance),
             ));
         }
+        self.score.check()?;
+        if !(self.score_min.is_finite() && self.score_min >= 0.0) {
+            return Err(Error::param(
+                "verdict.score_min",
+                format!(
+                    "{}; allowed a finite value ≥ 0 (above 1 turns the score off)",
+                    self.score_min
+                ),
+            ));
+        }
         if !(0.0..=1.0).contains(&self.off_base_min) {
             return Err(Error::param(
                 "verdict.off_base_min",
@@ -278,6 +388,13 @@ pub struct VerdictEvidence {
     /// Every RR interval of the beats within [`PLAUSIBLE_RR_S`].
     #[serde(default)]
     pub plausible_beats: bool,
+    /// Atrial activity after QRST cancellation ([`super::fwave`]; NaN measures when not
+    /// computed).
+    #[serde(default)]
+    pub fwave: super::fwave::FWave,
+    /// Turning-point ratio of the RR series ([`super::entropy::turning_point_ratio`]).
+    #[serde(default = "nan")]
+    pub turning_point_ratio: f64,
 }
 
 fn nan() -> f64 {
@@ -459,7 +576,41 @@ pub fn evidence(
         screen_irregular_s,
         off_base_share: off_base_share(&rr, p.base_tolerance),
         plausible_beats: rr.len() == rr_s.len() && plausible_rr(&rr),
+        fwave: super::fwave::FWave::NONE,
+        turning_point_ratio: super::entropy::turning_point_ratio(&rr),
     }
+}
+
+/// Number of measures in [`score_features`].
+pub const SCORE_FEATURES: usize = 8;
+
+/// Names of the measures of [`score_features`], in order.
+pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
+    "cosen",
+    "nrmssd",
+    "off_base_share",
+    "turning_point_ratio",
+    "p_wave",
+    "fwave_band_share",
+    "fwave_organisation",
+    "log10_fwave_amplitude",
+];
+
+/// The measures the irregular-rhythm score combines, in the order of [`SCORE_FEATURE_NAMES`]:
+/// COSEn, trimmed nRMSSD, off-base share, turning-point ratio, the median P-wave index (0 when
+/// no template was accepted: no consistent P wave), and the f-wave band share, organisation and
+/// log10 relative amplitude ([`super::fwave`]). NaN where not computed.
+pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
+    [
+        e.cosen,
+        e.nrmssd,
+        e.off_base_share,
+        e.turning_point_ratio,
+        if e.p_template { e.p_wave_median } else { 0.0 },
+        e.fwave.band_share,
+        e.fwave.organisation,
+        e.fwave.amplitude.log10(),
+    ]
 }
 
 /// Share of the record in irregular stretches: the screen's episodes over the duration when it
@@ -488,12 +639,111 @@ fn pct(x: f64) -> String {
     format!("{:.0} %", 100.0 * x)
 }
 
+/// Why the record is `unreadable` (rule 1 of [`decide`]), or `None` when it is readable.
+pub fn unreadable_reason(e: &VerdictEvidence, p: &VerdictParams) -> Option<String> {
+    if !(e.duration_s >= p.min_duration_s) {
+        return Some(format!(
+            "the record lasts {:.1} s, shorter than the {} s a verdict needs",
+            e.duration_s, p.min_duration_s
+        ));
+    }
+    if e.non_finite_fraction >= 1.0 {
+        return Some("every sample is missing (NaN or infinite)".to_string());
+    }
+    if e.n_beats < p.min_beats {
+        return Some(format!(
+            "{} beats detected, fewer than the {} a verdict needs",
+            e.n_beats, p.min_beats
+        ));
+    }
+    let plausible_enough = e.plausible_beats && e.agreement >= p.min_agreement_plausible;
+    if e.agreement < p.min_agreement && !plausible_enough {
+        return Some(format!(
+            "the two beat detectors agree on {} of the beats, below {}: the beats are not trusted",
+            pct(e.agreement),
+            pct(p.min_agreement)
+        ));
+    }
+    if e.flagged_fraction > p.max_flagged_fraction {
+        return Some(format!(
+            "{} of the signal segments are flagged (flat, clipped, noisy or missing), above {}",
+            pct(e.flagged_fraction),
+            pct(p.max_flagged_fraction)
+        ));
+    }
+    if !e.cosen.is_finite() {
+        return Some("the RR irregularity (COSEn) cannot be computed".to_string());
+    }
+    None
+}
+
+/// Rule 2 with the score: `irregular` when the score is at least `score_min` or the windowed
+/// screen found at least `min_episode_total_s` of episodes, else `other` when RR varies, else
+/// `regular`.
+fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Verdict {
+    let prob = p.score.probability(e);
+    let varies = e.cosen > p.cosen_min || e.nrmssd > p.organised_nrmssd_min;
+    let episodes = e.screen_irregular_s >= p.min_episode_total_s && e.screen_irregular_s > 0.0;
+    let mut reasons = vec![format!(
+        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, nRMSSD {:.2}, {} of the intervals off the base cycle, turning-point ratio {:.2}, P-wave index {:.2}{}, f-wave band share {:.2}, organisation {:.2}, relative amplitude {:.3}",
+        prob,
+        p.score_min,
+        e.cosen,
+        e.nrmssd,
+        pct(e.off_base_share),
+        e.turning_point_ratio,
+        score_features(e)[4],
+        if e.p_template { "" } else { " (no P-wave template)" },
+        e.fwave.band_share,
+        e.fwave.organisation,
+        e.fwave.amplitude
+    )];
+    if episodes {
+        reasons.push(format!(
+            "the windowed screen found {:.0} s of irregular episodes",
+            e.screen_irregular_s
+        ));
+    }
+    let class = if prob >= p.score_min || episodes {
+        reasons.push(if prob >= p.score_min {
+            "irregular RR without organised atrial activity (AF-like)".to_string()
+        } else {
+            "irregular episodes inside a longer record whose whole scores below the threshold"
+                .to_string()
+        });
+        VerdictClass::Irregular
+    } else if varies {
+        reasons.push(
+            "RR varies but the record scores as organised: ectopic beats, bigeminy, trigeminy or organised atrial activity".to_string(),
+        );
+        VerdictClass::Other
+    } else {
+        reasons.push(format!(
+            "RR regular: COSEn {:.2} at most {:.2}, nRMSSD {:.2} at most {:.2}",
+            e.cosen, p.cosen_min, e.nrmssd, p.organised_nrmssd_min
+        ));
+        VerdictClass::Regular
+    };
+    Verdict {
+        class,
+        irregular_fraction: fraction,
+        index: e.cosen,
+        reasons,
+    }
+}
+
 /// The verdict of a record from its evidence (rules in the order tried):
 /// 1. `unreadable` when the record lasts less than `min_duration_s`, has fewer than
 ///    `min_beats` beats, its detectors agree on fewer than `min_agreement` of the beats (bSQI,
 ///    Li, Mark & Clifford 2008) unless they agree on at least `min_agreement_plausible` and
 ///    the beats used are plausible ([`PLAUSIBLE_RR_S`]), more than `max_flagged_fraction` of its quality segments are
 ///    flagged, or its COSEn cannot be computed;
+/// 2. with `score_min` at most 1 (the default): `irregular` when the irregular-rhythm score
+///    ([`IrregularScore::probability`] of `score`: RR irregularity, P-wave index and f-wave
+///    measures after QRST cancellation, [`super::fwave`]) is at least `score_min`, or the
+///    windowed screen found at least `min_episode_total_s` of episodes (long records); else
+///    `other` when RR varies (below), else `regular`. With `score_min` above 1, the earlier
+///    rule (2 and 3 below) decides;
 /// 2. RR varies when COSEn (Lake & Moorman 2011) exceeds `cosen_min` or the trimmed nRMSSD
 ///    exceeds `organised_nrmssd_min`; it is irregularly irregular when it also has no base
 ///    cycle: at least `off_base_min` of the intervals are off it once isolated premature beats
@@ -504,47 +754,21 @@ fn pct(x: f64) -> String {
 /// 3. otherwise `other` when RR varies (ectopic beats, bigeminy, trigeminy: RR that returns to
 ///    a base cycle), else `regular`.
 ///
+/// (The second rule 2 is the earlier rule, kept for comparison on the validation pages.)
+///
 /// The index is the COSEn. Research use only: a label for a recording, never a diagnosis.
 pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
     let fraction = irregular_fraction(e, p);
-    let unreadable = |reason: String| Verdict {
-        class: VerdictClass::Unreadable,
-        irregular_fraction: fraction,
-        index: e.cosen,
-        reasons: vec![reason],
-    };
-    if !(e.duration_s >= p.min_duration_s) {
-        return unreadable(format!(
-            "the record lasts {:.1} s, shorter than the {} s a verdict needs",
-            e.duration_s, p.min_duration_s
-        ));
+    if let Some(reason) = unreadable_reason(e, p) {
+        return Verdict {
+            class: VerdictClass::Unreadable,
+            irregular_fraction: fraction,
+            index: e.cosen,
+            reasons: vec![reason],
+        };
     }
-    if e.non_finite_fraction >= 1.0 {
-        return unreadable("every sample is missing (NaN or infinite)".to_string());
-    }
-    if e.n_beats < p.min_beats {
-        return unreadable(format!(
-            "{} beats detected, fewer than the {} a verdict needs",
-            e.n_beats, p.min_beats
-        ));
-    }
-    let plausible_enough = e.plausible_beats && e.agreement >= p.min_agreement_plausible;
-    if e.agreement < p.min_agreement && !plausible_enough {
-        return unreadable(format!(
-            "the two beat detectors agree on {} of the beats, below {}: the beats are not trusted",
-            pct(e.agreement),
-            pct(p.min_agreement)
-        ));
-    }
-    if e.flagged_fraction > p.max_flagged_fraction {
-        return unreadable(format!(
-            "{} of the signal segments are flagged (flat, clipped, noisy or missing), above {}",
-            pct(e.flagged_fraction),
-            pct(p.max_flagged_fraction)
-        ));
-    }
-    if !e.cosen.is_finite() {
-        return unreadable("the RR irregularity (COSEn) cannot be computed".to_string());
+    if p.score_min <= 1.0 {
+        return decide_by_score(e, p, fraction);
     }
     let mut reasons = Vec::new();
     let varies = e.cosen > p.cosen_min || e.nrmssd > p.organised_nrmssd_min;
@@ -711,6 +935,35 @@ mod tests {
             assert_ne!(v.class, VerdictClass::Irregular, "{name}: {:?}", v.reasons);
             assert_eq!(v.class, VerdictClass::Other, "{name}: {:?}", v.reasons);
         }
+    }
+
+    #[test]
+    fn score_and_rule_agree_on_clear_cases_and_bad_coefficients_are_refused() {
+        use rand::{Rng, SeedableRng};
+        let score = VerdictParams::default();
+        assert!(score.check().is_ok());
+        assert!(score.score_min <= 1.0, "the score is on by default");
+        let rule = VerdictParams {
+            score_min: 2.0,
+            ..score.clone()
+        };
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(17);
+        // Irregularly irregular RR without a P-wave template, and ventricular bigeminy (common
+        // practice: AF-like against organised irregularity).
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let big: Vec<f64> = (0..40)
+            .map(|k| if k % 2 == 0 { 0.5 } else { 1.1 })
+            .collect();
+        for p in [&score, &rule] {
+            assert_eq!(decide(&ev(&af, f64::NAN), p).class, VerdictClass::Irregular);
+            assert_eq!(decide(&ev(&big, f64::NAN), p).class, VerdictClass::Other);
+        }
+        let mut bad = score.clone();
+        bad.score.scale[2] = 0.0;
+        assert!(bad.check().is_err());
+        bad.score.scale[2] = 1.0;
+        bad.score_min = f64::NAN;
+        assert!(bad.check().is_err());
     }
 
     #[test]
