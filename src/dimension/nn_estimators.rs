@@ -14,10 +14,10 @@
 //!   `MLE().fit(X, n_neighbors=k, comb="mle")` (no noise model, `unbiased=False`).
 //!
 //! Points whose nearest neighbour is at distance 0 (duplicates) are left out of both. Both use
-//! exact brute-force neighbours ([`knn_distances`]).
+//! exact neighbours ([`knn_distances`], the shared search of [`crate::neighbours`]).
 
-use super::knn::knn_distances;
 use crate::error::{Error, Result};
+use crate::neighbours::knn_distances;
 use crate::points::Points;
 
 /// TwoNN intrinsic dimension (see the module notes). `discard_fraction` (usually 0.1) is the
