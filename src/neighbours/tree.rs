@@ -126,22 +126,9 @@ impl<'a> KdTree<'a> {
                         continue;
                     }
                     *seen += 1;
-                    let row = &self.sorted[t * dim..(t + 1) * dim];
-                    let worst = top.worst();
-                    // Partial sums of non-negative terms only grow, so stopping once one
-                    // exceeds the k-th distance (with the margin) rejects only points `push`
-                    // would reject (partial distance search, Bei & Gray 1985).
-                    let mut d2 = 0.0;
-                    let mut rejected = false;
-                    for (c, (x, y)) in q.chunks(4).zip(row.chunks(4)).enumerate() {
-                        d2 += x.iter().zip(y).map(|(a, b)| (a - b) * (a - b)).sum::<f64>();
-                        if d2 > worst * (1.0 + SLACK) && (c + 1) * 4 < dim {
-                            rejected = true;
-                            break;
-                        }
-                    }
-                    if !rejected {
-                        top.push(Points::dist2(q, row), j);
+                    let d2 = Points::dist2(q, &self.sorted[t * dim..(t + 1) * dim]);
+                    if d2 <= top.worst() {
+                        top.push(d2, j);
                     }
                 }
             }
