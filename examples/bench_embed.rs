@@ -21,7 +21,8 @@
 
 #[path = "common/dump.rs"]
 mod dump;
-use beatfold::embed::{diffusion_map_observed, knn, sparse, DiffusionParams, Pca};
+use beatfold::embed::{diffusion_map_observed, sparse, DiffusionParams, Pca};
+use beatfold::neighbours::{self as knn, Path};
 use beatfold::params::Checked;
 use beatfold::points::Points;
 use rand::{Rng, SeedableRng};
@@ -105,12 +106,12 @@ fn main() -> anyhow::Result<()> {
     let keep = pca.components_for(0.99);
     println!("axes for 99 % variance: {keep}");
     time("exact kNN, brute force, 20 000 in 64-D (k = 16)", || {
-        knn::knn_brute(&sub, &sub, 16)
+        knn::knn_path(&sub, &sub, 16, Path::Brute)
     })?;
     let red = pca.project(&sub, keep)?;
     time(
         &format!("exact kNN, k-d tree, 20 000 in {keep}-D (k = 16)"),
-        || knn::knn_kdtree(&red, &red, 16),
+        || knn::knn_path(&red, &red, 16, Path::Tree),
     )?;
     drop((sub, red));
     let p = DiffusionParams {

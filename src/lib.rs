@@ -19,6 +19,7 @@ pub mod embed;
 pub mod error;
 pub mod features;
 pub mod io;
+pub mod neighbours;
 pub mod params;
 pub mod pipeline;
 pub mod points;

@@ -194,3 +194,42 @@ fn stage_entry_points_take_checked_parameters() {
         assert!(sig.contains("Checked<"), "{file}: {name} takes {sig}");
     }
 }
+
+/// One neighbour search: only `neighbours` defines a k-d tree or a running k-best list, and
+/// only `points` a squared distance (`Points::dist2`); `embed`, `dimension` and `separate` use it (ARCHITECTURE.md,
+/// "One neighbour search").
+#[test]
+fn only_the_neighbour_module_defines_a_tree_and_a_distance() {
+    let mut files = Vec::new();
+    rust_files(&src(), &mut files);
+    let neighbours = src().join("neighbours");
+    let own = ["struct KdTree", "struct TopK", "fn sqdist(", "fn knn("];
+    let mut found = Vec::new();
+    let mut trees = 0;
+    for f in files {
+        let text = std::fs::read_to_string(&f).unwrap();
+        for (i, line) in text.lines().enumerate() {
+            let t = line.trim_start();
+            if t.starts_with("//") {
+                continue;
+            }
+            if t.contains("struct KdTree") && f.starts_with(&neighbours) {
+                trees += 1;
+            }
+            let outside = !f.starts_with(&neighbours) && own.iter().any(|w| t.contains(w));
+            let distance = t.contains("fn dist2(") && !f.ends_with("points.rs");
+            if outside || distance {
+                found.push(format!("{}:{}: {}", f.display(), i + 1, t));
+            }
+        }
+    }
+    assert_eq!(trees, 1, "the neighbour module defines one k-d tree");
+    assert!(
+        found.is_empty(),
+        "neighbour search outside src/neighbours:\n{}",
+        found.join("\n")
+    );
+    // The one distance is `Points::dist2`.
+    let points = std::fs::read_to_string(src().join("points.rs")).unwrap();
+    assert!(points.contains("pub fn dist2("));
+}

@@ -13,7 +13,6 @@
 //! Δln C / Δln r, is the curve value at scale √(r_j·r_{j+1}); the estimate is the least-squares
 //! slope of ln C on ln r over all radii.
 
-use super::knn::sqdist;
 use super::ScalePoint;
 use crate::error::{Error, Result};
 use crate::points::Points;
@@ -77,7 +76,7 @@ pub fn correlation_counts(
                 .rows()
                 .enumerate()
                 .filter(|&(j, _)| j != i)
-                .map(|(_, xj)| sqdist(xi, xj).sqrt()),
+                .map(|(_, xj)| Points::dist2(xi, xj).sqrt()),
         );
     };
     // Two passes over the distances (computed twice rather than stored: n_ref × N values).
@@ -235,7 +234,7 @@ mod tests {
             .map(|&i| {
                 let mut d: Vec<f64> = (0..pts.n)
                     .filter(|&j| j != i)
-                    .map(|j| sqdist(pts.row(i), pts.row(j)).sqrt())
+                    .map(|j| Points::dist2(pts.row(i), pts.row(j)).sqrt())
                     .collect();
                 d.sort_by(f64::total_cmp);
                 d

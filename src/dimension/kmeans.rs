@@ -13,7 +13,6 @@
 //! centre. Sums are accumulated in fixed chunks and added in order, so results do not depend on
 //! the thread count.
 
-use super::knn::sqdist;
 use crate::error::{Error, Result};
 use crate::points::Points;
 use rand::{Rng, SeedableRng};
@@ -37,7 +36,7 @@ fn mean_feature_variance(points: &Points) -> f64 {
     }
     let mut var = 0.0;
     for row in points.rows() {
-        var += sqdist(row, &mean);
+        var += Points::dist2(row, &mean);
     }
     var / n / dim as f64
 }
@@ -59,7 +58,7 @@ pub struct KmeansFit {
 fn nearest(x: &[f64], centres: &Points) -> (usize, f64) {
     let mut best = (0, f64::INFINITY);
     for (c, row) in centres.rows().enumerate() {
-        let d = sqdist(x, row);
+        let d = Points::dist2(x, row);
         if d < best.1 {
             best = (c, d);
         }
@@ -110,7 +109,7 @@ fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
     let mut d2: Vec<f64> = points
         .data
         .par_chunks_exact(dim)
-        .map(|x| sqdist(x, points.row(first)))
+        .map(|x| Points::dist2(x, points.row(first)))
         .collect();
     for _ in 1..k {
         let total: f64 = d2.iter().sum();
@@ -133,7 +132,7 @@ fn seed_centres(points: &Points, k: usize, rng: &mut ChaCha8Rng) -> Points {
         let c = points.row(pick).to_vec();
         d2.par_iter_mut()
             .zip(points.data.par_chunks_exact(dim))
-            .for_each(|(v, x)| *v = v.min(sqdist(x, &c)));
+            .for_each(|(v, x)| *v = v.min(Points::dist2(x, &c)));
         data.extend_from_slice(&c);
     }
     Points { n: k, dim, data }
@@ -191,7 +190,7 @@ fn block_nearest_two(
                     d2 = d;
                 }
             }
-            let exact = sqdist(row, centres.row(best)).sqrt();
+            let exact = Points::dist2(row, centres.row(best)).sqrt();
             let slack = 1e-10 * (xn + c_max);
             let second = if d2.is_finite() {
                 (d2 - slack).max(0.0).sqrt()
@@ -281,7 +280,7 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
                         .iter()
                         .zip(points.rows())
                         .enumerate()
-                        .map(|(i, (&(l, _, _), x))| (sqdist(x, old.row(l)), i))
+                        .map(|(i, (&(l, _, _), x))| (Points::dist2(x, old.row(l)), i))
                         .collect();
                     far.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
                 }
@@ -293,7 +292,7 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
         }
         // Centre movements, and half the distance from each centre to its nearest other one.
         let moved: Vec<f64> = (0..k)
-            .map(|c| sqdist(old.row(c), centres.row(c)).sqrt())
+            .map(|c| Points::dist2(old.row(c), centres.row(c)).sqrt())
             .collect();
         let (mut m1, mut m1_at, mut m2) = (0.0f64, 0usize, 0.0f64);
         for (c, &m) in moved.iter().enumerate() {
@@ -342,7 +341,7 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
                     lo -= if l == m1_at { m2 } else { m1 };
                     let bound = half_gap[l].max(lo);
                     if u > bound {
-                        u = sqdist(x, centres.row(l)).sqrt();
+                        u = Points::dist2(x, centres.row(l)).sqrt();
                         if u > bound {
                             todo.push(ci * CHUNK + t);
                         }
@@ -373,7 +372,7 @@ fn lloyd(points: &Points, k: usize, max_iter: usize, rng: &mut ChaCha8Rng) -> Km
         .map(|(xs, ls)| {
             xs.chunks_exact(dim)
                 .zip(ls)
-                .map(|(x, &l)| sqdist(x, centres.row(l)))
+                .map(|(x, &l)| Points::dist2(x, centres.row(l)))
                 .sum::<f64>()
         })
         .collect();

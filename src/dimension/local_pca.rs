@@ -167,7 +167,7 @@ pub fn local_pca_counts(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::dimension::knn::knn_table;
+    use crate::neighbours::knn_table;
     use crate::params::{ck, Check};
     use rand::{Rng, SeedableRng};
     use rand_chacha::ChaCha8Rng;

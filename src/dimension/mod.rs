@@ -47,10 +47,9 @@ mod scaling;
 pub use kmeans::{distortion, kmeans, KmeansFit};
 pub use scaling::{kmeans_scaling, KmeansScalingParams};
 
-mod knn;
 mod nn_estimators;
 
-pub use knn::knn_distances;
+pub use crate::neighbours::knn_distances;
 pub use nn_estimators::{mle, mle_zero_radius, twonn};
 
 mod bootstrap;
@@ -61,10 +60,10 @@ pub mod delay;
 mod local_pca;
 mod suite;
 
+pub use crate::neighbours::{knn_table, knn_table_rows};
 pub use calibrate::Correction;
 pub use consensus::{Consensus, ScaleCurve, Status};
 pub use correlation::{correlation_counts, CorrelationCounts};
-pub use knn::{knn_table, knn_table_rows};
 pub use local_pca::{local_pca_counts, PcaRule};
 pub use suite::{
     dimension_suite, subset_indices, DimensionSuite, Method, MethodEstimate, SuiteParams,

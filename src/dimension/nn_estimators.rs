@@ -24,10 +24,10 @@
 //!   much worse with noise, as an extrapolation to the smallest scales must be).
 //!
 //! Points whose nearest neighbour is at distance 0 (duplicates) are left out of all three. All
-//! use exact brute-force neighbours ([`knn_distances`]).
+//! use exact neighbours ([`knn_distances`], the shared search of [`crate::neighbours`]).
 
-use super::knn::knn_distances;
 use crate::error::{Error, Result};
+use crate::neighbours::knn_distances;
 use crate::points::Points;
 
 /// TwoNN intrinsic dimension (see the module notes). `discard_fraction` (usually 0.1) is the

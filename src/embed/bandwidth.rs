@@ -19,8 +19,8 @@
 //! where the kernel lives. Above [`MAX_ROWS`] points the sum uses a seeded random subset of rows
 //! (each with all its neighbours).
 
-use super::knn::Neighbors;
 use crate::error::{Error, Result};
+use crate::neighbours::Neighbors;
 use rand::seq::index::sample;
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -220,7 +220,7 @@ pub fn kernel_sum_dimension(
     seed: u64,
 ) -> Result<KernelSum> {
     let kq = (k + 1).min(points.n);
-    let nb = super::knn::knn(points, points, kq)?;
+    let nb = crate::neighbours::knn(points, points, kq)?;
     kernel_sum_rule(&nb, &[], seed)
 }
 

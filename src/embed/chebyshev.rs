@@ -638,7 +638,7 @@ mod tests {
             .map(|_| (0..3).map(|_| rng.gen::<f64>()).collect())
             .collect();
         let pts = crate::points::Points::from_rows(&rows).unwrap();
-        let nb = crate::embed::knn::knn(&pts, &pts, 11).unwrap();
+        let nb = crate::neighbours::knn(&pts, &pts, 11).unwrap();
         let mut k = crate::embed::sparse::kernel_graph(&nb, &|_, _| 0.01);
         crate::embed::sparse::normalise(&mut k, 1.0);
         let si = crate::embed::sparse::top_eigen_sparse(&k, 8, 1).unwrap();

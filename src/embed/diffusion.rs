@@ -34,11 +34,11 @@
 
 use super::bandwidth::{kernel_sum_rule, Bandwidth};
 use super::components::{join_components, Components, MIN_WEIGHT};
-use super::knn::{knn, Neighbors};
 use super::pca::Pca;
 use super::sparse::{finish, kernel_graph, normalise_scaled, submatrix, top_eigen_sparse, Solver};
 use super::Embedding;
 use crate::error::{Error, Result};
+use crate::neighbours::{knn, Neighbors};
 use crate::params::Checked;
 use crate::points::Points;
 use faer::dyn_stack::{MemBuffer, MemStack};

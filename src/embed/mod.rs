@@ -3,7 +3,7 @@
 //! In: [`Points`](crate::points::Points) and [`DiffusionParams`]. Out: an [`Embedding`]:
 //! diffusion coordinates ψ_j·λ_j^t of every point, the eigenvalues, the kernel settings used, a
 //! PCA baseline, and the fitted [`DiffusionModel`] that places new points by Nyström extension.
-//! Parts: exact k-nearest neighbours ([`knn`]: k-d tree or blocked brute force), the sparse
+//! Parts: exact k-nearest neighbours ([`crate::neighbours`]: k-d tree or blocked brute force), the sparse
 //! kernel and shift-invert eigensolver ([`sparse`]), PCA ([`pca`]), bandwidth selection, the
 //! map itself, and reading/writing a fitted model in HDF5 ([`model_io`]).
 
@@ -60,7 +60,6 @@ pub mod bandwidth;
 pub mod chebyshev;
 pub mod components;
 mod diffusion;
-pub mod knn;
 pub mod model_io;
 pub mod pca;
 pub mod sparse;

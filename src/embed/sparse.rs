@@ -21,8 +21,8 @@
 //! the factorisation fails, Chebyshev-filtered subspace iteration on S itself
 //! ([`super::chebyshev`]) finds them to a residual of 10⁻¹⁰.
 
-use super::knn::Neighbors;
 use crate::error::{Error, Result};
+use crate::neighbours::Neighbors;
 use faer::dyn_stack::{MemBuffer, MemStack, StackReq};
 use faer::matrix_free::eigen::{
     partial_self_adjoint_eigen, partial_self_adjoint_eigen_scratch, PartialEigenParams,

@@ -1,7 +1,7 @@
 //! Exact k nearest neighbours for the vote, fast on clustered beats in any dimension.
 //!
 //! In: reference rows, query rows (same width) and k. Out: the same [`Neighbors`] table as
-//! [`crate::embed::knn`] (k nearest reference rows per query, nearest first, squared Euclidean
+//! [`crate::neighbours`] (k nearest reference rows per query, nearest first, squared Euclidean
 //! distances, ties broken by the smaller reference index), so results are interchangeable.
 //!
 //! Method: exact search with triangle-inequality pruning over a one-level ball partition (the
@@ -22,9 +22,9 @@
 //! tight groups, so most balls are skipped; on unclustered data the search degrades to
 //! exhaustive comparison, never to a wrong answer.
 
-use crate::embed::knn::{Neighbors, TopK};
 use crate::embed::Pca;
 use crate::error::{Error, Result};
+use crate::neighbours::{check_shapes, Neighbors, TopK};
 use crate::points::Points;
 use rayon::prelude::*;
 
@@ -36,7 +36,7 @@ const QUERY_BLOCK: usize = 256;
 ///
 /// Errors: different widths; k = 0 or more than the reference rows; a non-finite coordinate.
 pub fn nearest(reference: &Points, queries: &Points, k: usize) -> Result<Neighbors> {
-    crate::embed::knn::check_shapes(reference, queries, k, "vote_neighbors")?;
+    check_shapes(reference, queries, k, "vote_neighbors")?;
     if reference
         .data
         .iter()

@@ -1,7 +1,7 @@
 //! Nearest-neighbour vote and separation scores of labelled beats in one space.
 //!
 //! In: the classes of a labelled reference set, each query's nearest reference rows
-//! ([`crate::embed::knn`]) and the queries' true classes. Out: a [`SpaceScore`]: the confusion
+//! ([`crate::neighbours`]) and the queries' true classes. Out: a [`SpaceScore`]: the confusion
 //! matrix of a k-nearest-neighbour majority vote (Cover & Hart 1967), per class Se = TP/(TP+FN),
 //! +P = TP/(TP+FP) and F1 = 2TP/(2TP+FP+FN), and a rank-based separation index per class: the
 //! area under the ROC curve of the share of a beat's k neighbours that belong to the class,
@@ -9,7 +9,7 @@
 //! 1982), with tied scores given their average rank. 0.5 is chance, 1 perfect separation.
 
 use super::classes::BeatClass;
-use crate::embed::knn::Neighbors;
+use crate::neighbours::Neighbors;
 use serde::Serialize;
 
 /// Number of classes.
