@@ -23,7 +23,9 @@
 //! one's by `fuse_margin` (default 0.2) gives its beats, and failing that a beat needs a majority
 //! (3 of 4) of the detector × lead lists; a beat without a majority, or outside clean windows, that splits a normal RR
 //! interval into two short ones is dropped. Beats closer than the refractory period are merged
-//! (the earlier kept).
+//! (the earlier kept). Then a beat outside clean windows that comes early and does not resemble
+//! the recent clean-window beats (template correlation on every lead) is dropped, and a long RR
+//! interval is searched back for a candidate of at least two lists that does resemble them.
 //!
 //! Records sampled at 500 Hz or more are detected after zero-phase decimation to 250–500 Hz
 //! (`signal::resample`), and each beat is then placed on the full-rate signal.
@@ -236,7 +238,7 @@ pub fn detect_leads_with(
         });
     }
     if p.method == FuseMethod::Vote {
-        return Ok(vote_fusion(&per_lead, &win, fs_hz, p, vote, n));
+        return Ok(vote_fusion(leads, &per_lead, &win, fs_hz, p, vote, n));
     }
     let len = ((p.window_s * fs_hz).round() as usize).max(1);
     let refractory = (p.elgendi.refractory_s.max(p.pan_tompkins.refractory_s) * fs_hz) as usize;
@@ -287,6 +289,28 @@ pub struct VoteParams {
     pub rr_short_ratio: f64,
     /// See `rr_short_ratio`. Default 1.3.
     pub rr_merge_ratio: f64,
+    /// Morphology check: a beat outside clean windows, one of whose RR intervals is below
+    /// `morph_rr_ratio` of the local median RR, is dropped when its similarity to the recent
+    /// clean-window beats (the mean over the leads of the best correlation with any of the last
+    /// `morph_bank` of them) is below this. 0 switches the check off. Default 0.8.
+    pub morph_similarity: f64,
+    /// See `morph_similarity`. Default 0.9.
+    pub morph_rr_ratio: f64,
+    /// Half-length of the compared beat segment, seconds. Default 0.08.
+    pub morph_half_s: f64,
+    /// Largest shift tried when comparing a beat with a template, seconds. Default 0.02.
+    pub morph_lag_s: f64,
+    /// Clean-window beats per lead that serve as templates. Default 16.
+    pub morph_bank: usize,
+    /// Search-back: in an RR interval longer than this multiple of the local median RR, the
+    /// candidate with the highest similarity (at least `searchback_similarity`) among the beats
+    /// found by at least `searchback_lists` lists, 0.3 median RR or more from both ends, is
+    /// added. 0 switches it off. Default 1.5.
+    pub searchback_ratio: f64,
+    /// See `searchback_ratio`. Default 2.
+    pub searchback_lists: usize,
+    /// See `searchback_ratio`. Default 0.8.
+    pub searchback_similarity: f64,
 }
 
 impl Default for VoteParams {
@@ -297,6 +321,14 @@ impl Default for VoteParams {
             cluster_s: 0.1,
             rr_short_ratio: 0.8,
             rr_merge_ratio: 1.3,
+            morph_similarity: 0.8,
+            morph_rr_ratio: 0.9,
+            morph_half_s: 0.08,
+            morph_lag_s: 0.02,
+            morph_bank: 16,
+            searchback_ratio: 1.5,
+            searchback_lists: 2,
+            searchback_similarity: 0.8,
         }
     }
 }
@@ -317,7 +349,22 @@ impl VoteParams {
         unit("min_vote_fraction", self.min_vote_fraction, 0.0, 1.0)?;
         unit("cluster_s", self.cluster_s, 0.01, 0.5)?;
         unit("rr_short_ratio", self.rr_short_ratio, 0.0, 1.0)?;
-        unit("rr_merge_ratio", self.rr_merge_ratio, 1.0, 3.0)
+        unit("rr_merge_ratio", self.rr_merge_ratio, 1.0, 3.0)?;
+        unit("morph_similarity", self.morph_similarity, 0.0, 1.0)?;
+        unit("morph_rr_ratio", self.morph_rr_ratio, 0.0, 2.0)?;
+        unit("morph_half_s", self.morph_half_s, 0.02, 0.3)?;
+        unit("morph_lag_s", self.morph_lag_s, 0.0, 0.1)?;
+        unit("morph_bank", self.morph_bank as f64, 1.0, 256.0)?;
+        if self.searchback_ratio != 0.0 {
+            unit("searchback_ratio", self.searchback_ratio, 1.0, 5.0)?;
+        }
+        unit("searchback_lists", self.searchback_lists as f64, 1.0, 64.0)?;
+        unit(
+            "searchback_similarity",
+            self.searchback_similarity,
+            0.0,
+            1.0,
+        )
     }
 }
 
@@ -345,8 +392,15 @@ enum Source {
 ///   detectors, in the spirit of the multi-channel fusion of Johnson et al. 2015);
 /// - then the RR context of Hamilton & Tompkins (1986), turned around: a beat without a majority
 ///   of the lists, or outside clean windows, that splits a normal RR interval into two short ones
-///   is removed (a ventricular beat of bigeminy, followed by its compensatory pause, is kept).
+///   is removed (a ventricular beat of bigeminy, followed by its compensatory pause, is kept);
+/// - then the morphology check ([`Morphology`]): outside clean windows, an early beat unlike the
+///   recent clean beats on the leads is removed (noise artefacts do not resemble a recent beat,
+///   while a recurring ectopic beat does once it has appeared in a clean window);
+/// - then the search-back of Pan & Tompkins (1985) in RR intervals longer than
+///   `searchback_ratio` times the local median, among the beats of at least `searchback_lists`
+///   lists, taking the one most like the recent clean beats.
 fn vote_fusion(
+    leads: &[&[f64]],
     per_lead: &[BeatPair],
     win: &[Vec<(f64, f64)>],
     fs_hz: f64,
@@ -394,6 +448,8 @@ fn vote_fusion(
     let tol = (v.cluster_s * fs_hz).round() as usize;
     // Output: (sample, protected from the RR-context test: a clean window's beat with a majority).
     let mut primary: Vec<(usize, bool)> = Vec::new();
+    // Search-back candidates: (placed sample, lists that found it).
+    let mut candidates: Vec<usize> = Vec::new();
     let mut i = 0;
     while i < all.len() {
         let first = all[i].0;
@@ -406,16 +462,17 @@ fn vote_fusion(
         let cluster = &all[i..j];
         let votes = lists.count_ones() as usize;
         let of_list = |li: usize| cluster.iter().find(|x| x.1 == li).map(|x| x.0);
+        // Placed by the first primary detector that found it, else the earliest beat.
+        let placed = (0..per_lead.len())
+            .find_map(|l| of_list(2 * l))
+            .unwrap_or(first);
+        if votes >= v.searchback_lists {
+            candidates.push(placed);
+        }
         let keep = match win_of(first) {
             Source::Clean => of_list(0).map(|s| (s, votes >= need)),
             Source::Lead(l) => of_list(2 * l).filter(|_| votes >= 2).map(|s| (s, false)),
-            Source::Vote => (votes >= need).then(|| {
-                // Placed by the first primary detector that found it, else the earliest beat.
-                let s = (0..per_lead.len())
-                    .find_map(|l| of_list(2 * l))
-                    .unwrap_or(first);
-                (s, false)
-            }),
+            Source::Vote => (votes >= need).then_some((placed, false)),
         };
         if let Some(b) = keep {
             primary.push(b);
@@ -426,6 +483,15 @@ fn vote_fusion(
     let refractory = (p.elgendi.refractory_s.max(p.pan_tompkins.refractory_s) * fs_hz) as usize;
     primary.dedup_by(|b, a| b.0 < a.0 + refractory.max(1));
     let primary = rr_context(&primary, v);
+    let clean: Vec<usize> = primary
+        .iter()
+        .copied()
+        .filter(|&s| win_of(s) == Source::Clean)
+        .collect();
+    let morph = Morphology::new(leads, &clean, fs_hz, v);
+    let primary = morphology_check(&primary, |s| win_of(s) == Source::Clean, &morph, v);
+    candidates.sort_unstable();
+    let primary = search_back(primary, &candidates, &morph, v);
 
     // The second detector's beats of the same source, for the agreement index.
     let mut second: Vec<usize> = Vec::new();
@@ -479,6 +545,172 @@ fn rr_context(beats: &[(usize, bool)], v: &VoteParams) -> Vec<usize> {
             out.push(b[i]);
         }
     }
+    out
+}
+
+/// Beat shape against recent clean beats: the template matching of QRS detectors with a beat
+/// classifier (e.g. Hamilton & Tompkins 1986), here as a bank of the last clean-window beats per
+/// lead and the Pearson correlation of linearly detrended segments (common practice).
+struct Morphology<'a> {
+    leads: &'a [&'a [f64]],
+    half: usize,
+    lag: usize,
+    bank: usize,
+    /// Clean-window beats, increasing.
+    clean: &'a [usize],
+    /// Per lead, the normalised segment of each clean-window beat (None near the edges).
+    segs: Vec<Vec<Option<Vec<f64>>>>,
+}
+
+impl<'a> Morphology<'a> {
+    fn new(leads: &'a [&'a [f64]], clean: &'a [usize], fs_hz: f64, v: &VoteParams) -> Self {
+        let half = ((v.morph_half_s * fs_hz) as usize).max(2);
+        let lag = (v.morph_lag_s * fs_hz) as usize;
+        let segs = leads
+            .iter()
+            .map(|x| clean.iter().map(|&p| segment(x, p, half, 0)).collect())
+            .collect();
+        Morphology {
+            leads,
+            half,
+            lag,
+            bank: v.morph_bank.max(1),
+            clean,
+            segs,
+        }
+    }
+
+    /// Mean over the leads of the best correlation (over shifts up to `lag`) of the segment at
+    /// `p` with the last `bank` clean-window beats before `p`; a lead without templates counts 1.
+    fn similarity(&self, p: usize) -> f64 {
+        let k = self.clean.partition_point(|&c| c < p);
+        let mut total = 0.0;
+        for (x, segs) in self.leads.iter().zip(&self.segs) {
+            let bank: Vec<&Vec<f64>> = segs[k.saturating_sub(self.bank)..k]
+                .iter()
+                .flatten()
+                .collect();
+            if bank.is_empty() {
+                total += 1.0;
+                continue;
+            }
+            let mut best = -1.0f64;
+            for lag in -(self.lag as isize)..=(self.lag as isize) {
+                let Some(s) = segment(x, p, self.half, lag) else {
+                    continue;
+                };
+                for t in &bank {
+                    let r: f64 = t.iter().zip(&s).map(|(a, b)| a * b).sum();
+                    best = best.max(r);
+                }
+            }
+            total += best;
+        }
+        total / self.leads.len().max(1) as f64
+    }
+}
+
+/// Samples `p - half + lag ..= p + half + lag` with the least-squares line removed, scaled to
+/// unit norm; None outside the record, with a non-finite sample, or when flat.
+fn segment(x: &[f64], p: usize, half: usize, lag: isize) -> Option<Vec<f64>> {
+    let lo = (p as isize) - (half as isize) + lag;
+    let hi = (p as isize) + (half as isize) + lag + 1;
+    if lo < 0 || hi as usize > x.len() {
+        return None;
+    }
+    let s = &x[lo as usize..hi as usize];
+    if s.iter().any(|v| !v.is_finite()) {
+        return None;
+    }
+    let n = s.len() as f64;
+    let tm = (n - 1.0) / 2.0;
+    let ym = s.iter().sum::<f64>() / n;
+    let (mut sty, mut stt) = (0.0, 0.0);
+    for (i, &y) in s.iter().enumerate() {
+        let t = i as f64 - tm;
+        sty += t * (y - ym);
+        stt += t * t;
+    }
+    let slope = if stt > 0.0 { sty / stt } else { 0.0 };
+    let mut out: Vec<f64> = s
+        .iter()
+        .enumerate()
+        .map(|(i, &y)| y - ym - slope * (i as f64 - tm))
+        .collect();
+    let norm = out.iter().map(|v| v * v).sum::<f64>().sqrt();
+    if !(norm > 1e-12 * (1.0 + ym.abs())) {
+        return None;
+    }
+    out.iter_mut().for_each(|v| *v /= norm);
+    Some(out)
+}
+
+/// Median of the RR intervals `rr[i-8 .. i+8]` (clamped), the local base cycle.
+fn local_median(rr: &[f64], i: usize, buf: &mut Vec<f64>) -> f64 {
+    buf.clear();
+    buf.extend_from_slice(&rr[i.saturating_sub(8)..(i + 8).min(rr.len())]);
+    crate::stats::median_of_finite(buf)
+}
+
+/// Drop the beats outside clean windows that come early (an RR interval below `morph_rr_ratio`
+/// of the local median) and do not resemble the recent clean beats (all decisions on the input
+/// list).
+fn morphology_check(
+    b: &[usize],
+    is_clean: impl Fn(usize) -> bool,
+    m: &Morphology,
+    v: &VoteParams,
+) -> Vec<usize> {
+    if v.morph_similarity <= 0.0 || b.len() < 5 {
+        return b.to_vec();
+    }
+    let rr: Vec<f64> = b.windows(2).map(|w| (w[1] - w[0]) as f64).collect();
+    let mut buf = Vec::with_capacity(16);
+    let mut out = Vec::with_capacity(b.len());
+    for (i, &p) in b.iter().enumerate() {
+        if i == 0 || i + 1 == b.len() || is_clean(p) {
+            out.push(p);
+            continue;
+        }
+        let med = local_median(&rr, i, &mut buf);
+        let early = rr[i - 1].min(rr[i]) < v.morph_rr_ratio * med;
+        if !(early && m.similarity(p) < v.morph_similarity) {
+            out.push(p);
+        }
+    }
+    out
+}
+
+/// Search-back for missed beats in long RR intervals (after Pan & Tompkins 1985), the candidate
+/// chosen by its resemblance to the recent clean beats.
+fn search_back(b: Vec<usize>, candidates: &[usize], m: &Morphology, v: &VoteParams) -> Vec<usize> {
+    if v.searchback_ratio <= 0.0 || b.len() < 5 {
+        return b;
+    }
+    let rr: Vec<f64> = b.windows(2).map(|w| (w[1] - w[0]) as f64).collect();
+    let mut buf = Vec::with_capacity(16);
+    let mut add = Vec::new();
+    for i in 0..rr.len() {
+        let med = local_median(&rr, i, &mut buf);
+        if rr[i] <= v.searchback_ratio * med {
+            continue;
+        }
+        let (lo, hi) = (b[i] as f64 + 0.3 * med, b[i + 1] as f64 - 0.3 * med);
+        let from = candidates.partition_point(|&c| (c as f64) <= lo);
+        let mut best: Option<(f64, usize)> = None;
+        for &c in candidates[from..].iter().take_while(|&&c| (c as f64) < hi) {
+            let s = m.similarity(c);
+            if s >= v.searchback_similarity && best.is_none_or(|(bs, _)| s > bs) {
+                best = Some((s, c));
+            }
+        }
+        if let Some((_, c)) = best {
+            add.push(c);
+        }
+    }
+    let mut out = b;
+    out.extend(add);
+    out.sort_unstable();
     out
 }
 
@@ -634,6 +866,55 @@ mod tests {
         // At most a third of lead 0's false detections, and no more missed beats.
         assert!(s2.fp * 3 <= s1.fp, "fused {s2:?} vs lead 0 {s1:?}");
         assert!(s2.fn_ <= s1.fn_, "fused {s2:?} vs lead 0 {s1:?}");
+    }
+
+    #[test]
+    fn morphology_drops_an_unlike_early_beat_and_search_back_restores_a_like_one() {
+        // Synthetic check of the two rules (common practice): lead beats from `synth`; an
+        // artefact (a slow biphasic wave, 60 ms sigma) half-way between two beats on both leads.
+        let fs = 250.0;
+        let (clean, truth) = synth(70.0, 60, fs, 0.01, 4);
+        let mut x = clean.clone();
+        let at = (truth[30] + truth[31]) / 2;
+        for (k, y) in x.iter_mut().enumerate().take(at + 60).skip(at - 60) {
+            let u = (k as f64 - at as f64) / (0.06 * fs);
+            *y += 1.5 * -u * (-0.5 * u * u).exp();
+        }
+        let leads: [&[f64]; 2] = [&x, &x];
+        let v = VoteParams::default();
+        let m = Morphology::new(&leads, &truth, fs, &v);
+        assert!(
+            m.similarity(truth[40]) > 0.95,
+            "{}",
+            m.similarity(truth[40])
+        );
+        assert!(
+            m.similarity(at) < v.morph_similarity,
+            "{}",
+            m.similarity(at)
+        );
+        let mut b = truth.clone();
+        b.insert(31, at);
+        // Nothing clean: the artefact goes, every beat stays.
+        assert_eq!(morphology_check(&b, |_| false, &m, &v), truth);
+        // In a clean window it is kept; switched off, it is kept.
+        assert_eq!(morphology_check(&b, |s| s == at, &m, &v).len(), 61);
+        let off = VoteParams {
+            morph_similarity: 0.0,
+            ..VoteParams::default()
+        };
+        assert_eq!(morphology_check(&b, |_| false, &m, &off).len(), 61);
+        // Search-back: beat 20 missing; the artefact cannot fill a gap, the beat can.
+        let mut gap = truth.clone();
+        gap.remove(20);
+        let cands = vec![truth[20] - 40, truth[20], at];
+        let back = search_back(gap.clone(), &cands, &m, &v);
+        assert_eq!(back, truth);
+        let mut no_beat = truth.clone();
+        no_beat.remove(31);
+        no_beat.remove(30);
+        let back = search_back(no_beat.clone(), &[at], &m, &v);
+        assert_eq!(back, no_beat);
     }
 
     #[test]
