@@ -36,7 +36,7 @@ use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 
 /// Rows per parallel chunk (fixed, so the reductions do not depend on the thread count).
-const ROWS: usize = 2048;
+pub(super) const ROWS: usize = 2048;
 /// Largest amplification of the filter at λ = 1.
 const MAX_GAIN: f64 = 1e5;
 /// Degree bounds of the filter.
@@ -245,7 +245,7 @@ fn gram(a: &[f64], bm: &[f64], b: usize) -> Vec<f64> {
 }
 
 /// X ← X·M for a row-major n × b block and a b × w matrix `m` (row-major); returns n × w.
-fn rotate(x: &[f64], b: usize, m: &[f64], w: usize) -> Vec<f64> {
+pub(super) fn rotate(x: &[f64], b: usize, m: &[f64], w: usize) -> Vec<f64> {
     let n = x.len() / b;
     let mut out = vec![0.0; n * w];
     out.par_chunks_mut(ROWS * w)
@@ -263,7 +263,7 @@ fn rotate(x: &[f64], b: usize, m: &[f64], w: usize) -> Vec<f64> {
 
 /// Eigendecomposition of a small symmetric matrix (row-major b × b): eigenvalues
 /// non-increasing and the eigenvectors as the columns of a row-major b × b matrix.
-fn small_eigen(g: &[f64], b: usize) -> Result<(Vec<f64>, Vec<f64>)> {
+pub(super) fn small_eigen(g: &[f64], b: usize) -> Result<(Vec<f64>, Vec<f64>)> {
     let a = Mat::<f64>::from_fn(b, b, |i, j| 0.5 * (g[i * b + j] + g[j * b + i]));
     let (vals, vecs) = super::sparse::top_dense_seq(&a, b)?;
     let mut v = vec![0.0; b * b];

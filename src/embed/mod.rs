@@ -57,6 +57,7 @@ pub struct Embedding {
 }
 
 pub mod bandwidth;
+pub mod block_krylov;
 pub mod chebyshev;
 pub mod components;
 mod diffusion;
