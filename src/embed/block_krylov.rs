@@ -24,7 +24,9 @@
 //! restart. Chosen on the kernel graph of a 50 000-point Swiss roll (synthetic, not the shared
 //! data; `examples/bench_embed_swiss.rs`, 11 pairs): blocks of 3, 4, 6, 8 and 12 needed 25, 22,
 //! 21, 21 and 19 block solves (75 to 228 right-hand sides) and p = 4 took the least time; the
-//! single-vector iteration needs 64 solves, one right-hand side each.
+//! single-vector iteration needs 64 solves, one right-hand side each. These counts came from a
+//! temporary trace build during development, not from a committed command; the committed
+//! timing is `examples/bench_embed_swiss.rs` (docs/performance.md).
 //!
 //! Determinism: the block width is fixed, the caller's solve is sequential, and every
 //! reduction over rows sums fixed chunks of rows in chunk order
