@@ -262,6 +262,9 @@ impl LinOp<f64> for ShiftInvert {
     }
 }
 
+/// Column groups of a block solve, solved side by side (see `run_block`).
+const SPLIT: usize = 2;
+
 /// Sparse Cholesky factor of the lower triangle `a`, or `None` when the factor would exceed
 /// `budget` stored values or the factorisation fails.
 fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
@@ -399,9 +402,10 @@ fn run_krylov(op: &dyn LinOp<f64>, n: usize, nev: usize, seed: u64) -> (Vec<f64>
 }
 
 /// Block Krylov–Schur on A⁻¹ ([`super::block_krylov`]): each step solves for a block of
-/// [`super::block_krylov::BLOCK`] right-hand sides in one call, which reads the factor once
-/// for all of them (the single-vector solves are bound by reading the factor). The solve is
-/// sequential and the block width fixed, so the bits do not depend on the thread count.
+/// [`super::block_krylov::BLOCK`] right-hand sides in [`SPLIT`] fixed column groups, each
+/// group one sequential call that reads the factor once for its columns, the groups side by
+/// side on the thread pool. Group widths are fixed, so the bits do not depend on the thread
+/// count.
 /// `None`: no convergence or a breakdown (the single-vector Krylov–Schur is used then).
 fn run_block(
     op: &ShiftInvert,
@@ -410,9 +414,13 @@ fn run_block(
     seed: u64,
 ) -> Result<Option<super::block_krylov::BlockEigen>> {
     let p = super::block_krylov::BLOCK;
-    let scratch = op.symbolic.solve_in_place_scratch::<f64>(p, Par::Seq);
-    let apply = |x: &[f64]| -> Result<Vec<f64>> {
-        let mut m = Mat::<f64>::from_fn(n, p, |i, j| x[i * p + j]);
+    // The block's columns are solved in SPLIT fixed groups, one sequential solve each, the
+    // groups side by side on the thread pool: a column's bits depend on its group's width only,
+    // which is fixed, so they do not depend on the thread count.
+    let q = p / SPLIT;
+    let scratch = op.symbolic.solve_in_place_scratch::<f64>(q, Par::Seq);
+    let solve_cols = |x: &[f64], j0: usize| -> Result<Mat<f64>> {
+        let mut m = Mat::<f64>::from_fn(n, q, |i, j| x[i * p + j0 + j]);
         let mut mem = MemBuffer::try_new(scratch)
             .map_err(|_| Error::Analysis("shift-invert solve: out of memory".into()))?;
         LltRef::<usize, f64>::new(&op.symbolic, &op.values).solve_in_place_with_conj(
@@ -421,10 +429,20 @@ fn run_block(
             Par::Seq,
             MemStack::new(&mut mem),
         );
+        Ok(m)
+    };
+    let apply = |x: &[f64]| -> Result<Vec<f64>> {
+        let groups: Vec<Result<Mat<f64>>> = (0..SPLIT)
+            .into_par_iter()
+            .map(|g| solve_cols(x, g * q))
+            .collect();
         let mut out = vec![0.0; n * p];
-        for (i, row) in out.chunks_exact_mut(p).enumerate() {
-            for (j, o) in row.iter_mut().enumerate() {
-                *o = m[(i, j)];
+        for (g, m) in groups.into_iter().enumerate() {
+            let m = m?;
+            for (i, row) in out.chunks_exact_mut(p).enumerate() {
+                for j in 0..q {
+                    row[g * q + j] = m[(i, j)];
+                }
             }
         }
         Ok(out)
