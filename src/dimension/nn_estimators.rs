@@ -96,43 +96,9 @@ pub(crate) fn mle_inverse(t: &[f64], k: usize) -> f64 {
 ///
 /// Errors: k1 < 2, k2 < k1, or k2 ≥ number of points; no point without duplicates.
 pub fn mle(points: &Points, k1: usize, k2: usize) -> Result<f64> {
-    if k1 < 2 || k2 < k1 {
-        return Err(Error::param(
-            "k1",
-            format!("k1 = {k1}, k2 = {k2} neighbours; need 2 ≤ k1 ≤ k2"),
-        ));
-    }
-    if k2 >= points.n {
-        return Err(Error::param(
-            "k2",
-            format!(
-                "{k2} neighbours; must be below the number of points ({})",
-                points.n
-            ),
-        ));
-    }
-    let d = knn_distances(points, k2)?;
-    let rows: Vec<&[f64]> = d.chunks_exact(k2).filter(|r| r[0] > 0.0).collect();
-    if rows.is_empty() {
-        return Err(Error::Analysis(
-            "MLE: every point has a duplicate; no distance ratios".to_string(),
-        ));
-    }
-    let mut total = 0.0;
-    for k in k1..=k2 {
-        let mut inv_sum = 0.0;
-        for r in &rows {
-            inv_sum += mle_inverse(r, k);
-        }
-        let inv_mean = inv_sum / rows.len() as f64;
-        if inv_mean <= 0.0 {
-            return Err(Error::Analysis(format!(
-                "MLE: neighbour distances do not grow with k (k = {k}); too many ties"
-            )));
-        }
-        total += 1.0 / inv_mean;
-    }
-    Ok(total / (k2 - k1 + 1) as f64)
+    let per_k = mle_per_k(points, k1, k2, 0, "MLE")?;
+    let total: f64 = per_k.iter().map(|&(_, m)| m).sum();
+    Ok(total / per_k.len() as f64)
 }
 
 /// Zero-radius MLE over k = k1..=k2 neighbours (see the module notes); the study in
@@ -141,40 +107,10 @@ pub fn mle(points: &Points, k1: usize, k2: usize) -> Result<f64> {
 /// Errors: k1 < 2, k2 < k1 + 1 (the fit needs two radii), or k2 ≥ number of points; no point
 /// without duplicates; neighbour distances that do not grow with k; all mean radii equal.
 pub fn mle_zero_radius(points: &Points, k1: usize, k2: usize) -> Result<f64> {
-    if k1 < 2 || k2 <= k1 {
-        return Err(Error::param(
-            "k1",
-            format!("k1 = {k1}, k2 = {k2} neighbours; need 2 ≤ k1 < k2"),
-        ));
-    }
-    if k2 >= points.n {
-        return Err(Error::param(
-            "k2",
-            format!(
-                "{k2} neighbours; must be below the number of points ({})",
-                points.n
-            ),
-        ));
-    }
-    let d = knn_distances(points, k2)?;
-    let rows: Vec<&[f64]> = d.chunks_exact(k2).filter(|r| r[0] > 0.0).collect();
-    if rows.is_empty() {
-        return Err(Error::Analysis(
-            "zero-radius MLE: every point has a duplicate; no distance ratios".to_string(),
-        ));
-    }
-    let n = rows.len() as f64;
-    let mut xy = Vec::with_capacity(k2 - k1 + 1);
-    for k in k1..=k2 {
-        let inv_mean = rows.iter().map(|r| mle_inverse(r, k)).sum::<f64>() / n;
-        if inv_mean <= 0.0 {
-            return Err(Error::Analysis(format!(
-                "zero-radius MLE: neighbour distances do not grow with k (k = {k}); too many ties"
-            )));
-        }
-        let radius = rows.iter().map(|r| r[k - 1]).sum::<f64>() / n;
-        xy.push((radius * radius, 1.0 / inv_mean));
-    }
+    let xy: Vec<(f64, f64)> = mle_per_k(points, k1, k2, 1, "zero-radius MLE")?
+        .into_iter()
+        .map(|(radius, m)| (radius * radius, m))
+        .collect();
     let m = xy.len() as f64;
     let (mx, my) = xy
         .iter()
@@ -187,6 +123,58 @@ pub fn mle_zero_radius(points: &Points, k1: usize, k2: usize) -> Result<f64> {
         ));
     }
     Ok(my - sxy / sxx * mx)
+}
+
+/// For each k in k1..=k2: (mean distance to the k-th neighbour, MacKay–Ghahramani MLE at k),
+/// over the points without a duplicate. `min_span`: how far k2 must lie above k1 (0 for the
+/// averaged MLE, 1 for the zero-radius fit); `what` names the estimator in errors.
+fn mle_per_k(
+    points: &Points,
+    k1: usize,
+    k2: usize,
+    min_span: usize,
+    what: &str,
+) -> Result<Vec<(f64, f64)>> {
+    if k1 < 2 || k2 < k1 + min_span {
+        let need = if min_span == 0 {
+            "k1 ≤ k2"
+        } else {
+            "k1 < k2"
+        };
+        return Err(Error::param(
+            "k1",
+            format!("k1 = {k1}, k2 = {k2} neighbours; need 2 ≤ {need}"),
+        ));
+    }
+    if k2 >= points.n {
+        return Err(Error::param(
+            "k2",
+            format!(
+                "{k2} neighbours; must be below the number of points ({})",
+                points.n
+            ),
+        ));
+    }
+    let d = knn_distances(points, k2)?;
+    let rows: Vec<&[f64]> = d.chunks_exact(k2).filter(|r| r[0] > 0.0).collect();
+    if rows.is_empty() {
+        return Err(Error::Analysis(format!(
+            "{what}: every point has a duplicate; no distance ratios"
+        )));
+    }
+    let n = rows.len() as f64;
+    (k1..=k2)
+        .map(|k| {
+            let inv_mean = rows.iter().map(|r| mle_inverse(r, k)).sum::<f64>() / n;
+            if inv_mean <= 0.0 {
+                return Err(Error::Analysis(format!(
+                    "{what}: neighbour distances do not grow with k (k = {k}); too many ties"
+                )));
+            }
+            let radius = rows.iter().map(|r| r[k - 1]).sum::<f64>() / n;
+            Ok((radius, 1.0 / inv_mean))
+        })
+        .collect()
 }
 
 #[cfg(test)]
