@@ -295,4 +295,4 @@ pub fn knn_distances(points: &Points, k: usize) -> Result<Vec<f64>> {
 }
 
 #[cfg(test)]
-mod tests;
+pub(crate) mod tests;

@@ -15,7 +15,7 @@ fn cloud(n: usize, dim: usize, seed: u64, offset: f64) -> Points {
 /// Exhaustive search in f64 with the same distance (common practice: compare with the
 /// definition): indices and squared distances, ties by index; `skip_self` leaves query i's own
 /// reference row i out.
-fn naive(r: &Points, q: &Points, k: usize, skip_self: bool) -> (Vec<usize>, Vec<f64>) {
+pub(crate) fn naive(r: &Points, q: &Points, k: usize, skip_self: bool) -> (Vec<usize>, Vec<f64>) {
     let mut idx = Vec::new();
     let mut d2 = Vec::new();
     for (i, x) in q.rows().enumerate() {

@@ -249,25 +249,6 @@ mod tests {
         .unwrap()
     }
 
-    /// Exhaustive search in f64 (common practice: compare with the definition).
-    fn naive(r: &Points, q: &Points, k: usize) -> (Vec<usize>, Vec<f64>) {
-        let mut idx = Vec::new();
-        let mut d2 = Vec::new();
-        for x in q.rows() {
-            let mut d: Vec<(f64, usize)> = r
-                .rows()
-                .enumerate()
-                .map(|(j, y)| (Points::dist2(x, y), j))
-                .collect();
-            d.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            for (v, j) in d.into_iter().take(k) {
-                idx.push(j);
-                d2.push(v);
-            }
-        }
-        (idx, d2)
-    }
-
     #[test]
     fn equals_exhaustive_search_with_ties_and_far_offsets() {
         // Several blocks of references and queries, a large common offset (where the f32
@@ -283,7 +264,7 @@ mod tests {
                 q.data.iter().copied().chain(dup.iter().copied()).collect(),
             )
             .unwrap();
-            let (want_i, want_d) = naive(&r, &q, 5);
+            let (want_i, want_d) = crate::neighbours::tests::naive(&r, &q, 5, false);
             let got = nearest(&r, &q, 5).unwrap();
             assert_eq!(got.index, want_i, "dim {dim} offset {offset}");
             assert_eq!(got.dist2, want_d, "dim {dim} offset {offset}");
