@@ -677,13 +677,31 @@ pub fn unreadable_reason(e: &VerdictEvidence, p: &VerdictParams) -> Option<Strin
     None
 }
 
+/// RR varies: COSEn above `cosen_min` or the trimmed nRMSSD above `organised_nrmssd_min`.
+fn rr_varies(e: &VerdictEvidence, p: &VerdictParams) -> bool {
+    e.cosen > p.cosen_min || e.nrmssd > p.organised_nrmssd_min
+}
+
+/// The windowed screen found at least `min_episode_total_s` (and more than 0 s) of episodes.
+fn screen_episodes(e: &VerdictEvidence, p: &VerdictParams) -> bool {
+    e.screen_irregular_s >= p.min_episode_total_s && e.screen_irregular_s > 0.0
+}
+
+/// The reason given for `regular`.
+fn regular_reason(e: &VerdictEvidence, p: &VerdictParams) -> String {
+    format!(
+        "RR regular: COSEn {:.2} at most {:.2}, nRMSSD {:.2} at most {:.2}",
+        e.cosen, p.cosen_min, e.nrmssd, p.organised_nrmssd_min
+    )
+}
+
 /// Rule 2 with the score: `irregular` when the score is at least `score_min` or the windowed
 /// screen found at least `min_episode_total_s` of episodes, else `other` when RR varies, else
 /// `regular`.
 fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Verdict {
     let prob = p.score.probability(e);
-    let varies = e.cosen > p.cosen_min || e.nrmssd > p.organised_nrmssd_min;
-    let episodes = e.screen_irregular_s >= p.min_episode_total_s && e.screen_irregular_s > 0.0;
+    let varies = rr_varies(e, p);
+    let episodes = screen_episodes(e, p);
     let mut reasons = vec![format!(
         "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, nRMSSD {:.2}, {} of the intervals off the base cycle, turning-point ratio {:.2}, P-wave index {:.2}{}, f-wave band share {:.2}, organisation {:.2}, relative amplitude {:.3}",
         prob,
@@ -718,10 +736,7 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
         );
         VerdictClass::Other
     } else {
-        reasons.push(format!(
-            "RR regular: COSEn {:.2} at most {:.2}, nRMSSD {:.2} at most {:.2}",
-            e.cosen, p.cosen_min, e.nrmssd, p.organised_nrmssd_min
-        ));
+        reasons.push(regular_reason(e, p));
         VerdictClass::Regular
     };
     Verdict {
@@ -771,10 +786,10 @@ pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
         return decide_by_score(e, p, fraction);
     }
     let mut reasons = Vec::new();
-    let varies = e.cosen > p.cosen_min || e.nrmssd > p.organised_nrmssd_min;
+    let varies = rr_varies(e, p);
     let no_base = e.off_base_share >= p.off_base_min;
     let rr_irregular = varies && no_base;
-    let episodes = e.screen_irregular_s >= p.min_episode_total_s && e.screen_irregular_s > 0.0;
+    let episodes = screen_episodes(e, p);
     if rr_irregular {
         reasons.push(format!(
             "RR irregularly irregular: COSEn {:.2} (threshold {:.2}), nRMSSD {:.2} (threshold {:.2}), and {} of the intervals off the base cycle once isolated premature beats are set aside (at least {})",
@@ -830,10 +845,7 @@ pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
         );
         VerdictClass::Other
     } else {
-        reasons.push(format!(
-            "RR regular: COSEn {:.2} at most {:.2}, nRMSSD {:.2} at most {:.2}",
-            e.cosen, p.cosen_min, e.nrmssd, p.organised_nrmssd_min
-        ));
+        reasons.push(regular_reason(e, p));
         VerdictClass::Regular
     };
     Verdict {
