@@ -32,7 +32,7 @@
 //! reduction over rows sums fixed chunks of rows in chunk order
 //! ([`super::chebyshev::ROWS`]), so the bits do not depend on the thread count.
 
-use super::chebyshev::{rotate, small_eigen, ROWS};
+use super::chebyshev::{cross, rotate, small_eigen, ROWS};
 use crate::error::Result;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -46,30 +46,6 @@ pub const MAX_BASIS: usize = 56;
 const KEEP_EXTRA: usize = 6;
 /// Restart cap.
 const MAX_RESTARTS: usize = 60;
-
-/// Aᵀ·B (wa × wb, row-major) of row-major n × wa and n × wb blocks, summed over fixed row
-/// chunks in chunk order.
-fn cross(a: &[f64], wa: usize, b: &[f64], wb: usize) -> Vec<f64> {
-    let parts: Vec<Vec<f64>> = a
-        .par_chunks(ROWS * wa)
-        .zip(b.par_chunks(ROWS * wb))
-        .map(|(ac, bc)| {
-            let mut g = vec![0.0; wa * wb];
-            for (ar, br) in ac.chunks_exact(wa).zip(bc.chunks_exact(wb)) {
-                for (q, &aq) in ar.iter().enumerate() {
-                    let row = &mut g[q * wb..(q + 1) * wb];
-                    row.iter_mut().zip(br).for_each(|(o, &bv)| *o += aq * bv);
-                }
-            }
-            g
-        })
-        .collect();
-    let mut g = vec![0.0; wa * wb];
-    for part in parts {
-        g.iter_mut().zip(part).for_each(|(o, v)| *o += v);
-    }
-    g
-}
 
 /// W ← W − A·C for row-major n × wb `w`, n × wa `a` and wa × wb `c` (row by row, no reduction).
 fn sub_mul(w: &mut [f64], wb: usize, a: &[f64], wa: usize, c: &[f64]) {

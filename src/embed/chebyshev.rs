@@ -223,21 +223,27 @@ fn cheb_step(s: &Compact, cur: &[f64], prev: &mut [f64], b: usize, c: f64, e: f6
 
 /// Aᵀ·B (b × b, row-major) of two row-major n × b blocks, summed over fixed row chunks in order.
 fn gram(a: &[f64], bm: &[f64], b: usize) -> Vec<f64> {
+    cross(a, b, bm, b)
+}
+
+/// Aᵀ·B (wa × wb, row-major) of row-major n × wa and n × wb blocks, summed over fixed row
+/// chunks in chunk order.
+pub(super) fn cross(a: &[f64], wa: usize, b: &[f64], wb: usize) -> Vec<f64> {
     let parts: Vec<Vec<f64>> = a
-        .par_chunks(ROWS * b)
-        .zip(bm.par_chunks(ROWS * b))
+        .par_chunks(ROWS * wa)
+        .zip(b.par_chunks(ROWS * wb))
         .map(|(ac, bc)| {
-            let mut g = vec![0.0; b * b];
-            for (ar, br) in ac.chunks_exact(b).zip(bc.chunks_exact(b)) {
-                for (p, &ap) in ar.iter().enumerate() {
-                    let row = &mut g[p * b..(p + 1) * b];
-                    row.iter_mut().zip(br).for_each(|(o, &bq)| *o += ap * bq);
+            let mut g = vec![0.0; wa * wb];
+            for (ar, br) in ac.chunks_exact(wa).zip(bc.chunks_exact(wb)) {
+                for (q, &aq) in ar.iter().enumerate() {
+                    let row = &mut g[q * wb..(q + 1) * wb];
+                    row.iter_mut().zip(br).for_each(|(o, &bv)| *o += aq * bv);
                 }
             }
             g
         })
         .collect();
-    let mut g = vec![0.0; b * b];
+    let mut g = vec![0.0; wa * wb];
     for part in parts {
         g.iter_mut().zip(part).for_each(|(o, v)| *o += v);
     }
