@@ -2,7 +2,7 @@ use super::*;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
-fn cloud(n: usize, dim: usize, seed: u64, offset: f64) -> Points {
+pub(crate) fn cloud(n: usize, dim: usize, seed: u64, offset: f64) -> Points {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     Points::new(
         n,

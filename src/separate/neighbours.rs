@@ -236,18 +236,7 @@ fn search(reference: &Points, queries: &Points, k: usize) -> Neighbors {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use rand::{Rng, SeedableRng};
-    use rand_chacha::ChaCha8Rng;
-
-    fn cloud(n: usize, dim: usize, seed: u64, offset: f64) -> Points {
-        let mut rng = ChaCha8Rng::seed_from_u64(seed);
-        Points::new(
-            n,
-            dim,
-            (0..n * dim).map(|_| offset + rng.gen::<f64>()).collect(),
-        )
-        .unwrap()
-    }
+    use crate::neighbours::tests::{cloud, naive};
 
     #[test]
     fn equals_exhaustive_search_with_ties_and_far_offsets() {
@@ -264,7 +253,7 @@ mod tests {
                 q.data.iter().copied().chain(dup.iter().copied()).collect(),
             )
             .unwrap();
-            let (want_i, want_d) = crate::neighbours::tests::naive(&r, &q, 5, false);
+            let (want_i, want_d) = naive(&r, &q, 5, false);
             let got = nearest(&r, &q, 5).unwrap();
             assert_eq!(got.index, want_i, "dim {dim} offset {offset}");
             assert_eq!(got.dist2, want_d, "dim {dim} offset {offset}");
