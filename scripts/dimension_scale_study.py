@@ -34,16 +34,17 @@ Run (the venv of scripts/make_dimension_benchmark.py):
   /tmp/venv-dim/bin/python scripts/dimension_scale_study.py --mbeta-scaling
 """
 import argparse
-import itertools
 import json
 import re
-import statistics
 
 import numpy as np
 from scipy.special import betaln
 from sklearn.neighbors import NearestNeighbors
 
-AGREE = 0.2
+from dimension_consensus_rules import AG as AGREE
+from dimension_consensus_rules import group as consensus_group
+from dimension_reference_study import inv_interp as invert
+
 KMAX = 20
 GRIDE_NS = (1, 2, 4, 8, 16)
 
@@ -138,28 +139,9 @@ def ladder(dim):
     return out
 
 
-def invert(ds, g, r):
-    g = np.maximum.accumulate(g)
-    if r <= g[0]:
-        return r / g[0] * ds[0]
-    for i in range(1, len(g)):
-        if r <= g[i]:
-            t = (r - g[i - 1]) / (g[i] - g[i - 1]) if g[i] > g[i - 1] else 0
-            return ds[i - 1] + t * (ds[i] - ds[i - 1])
-    return ds[-1]
-
-
 def group(vals):
-    best = None
-    for size in range(1, len(vals) + 1):
-        for c in itertools.combinations(vals, size):
-            v = [vals[n] for n in c]
-            med = statistics.median(v)
-            if any(abs(x / med - 1) > AGREE for x in v):
-                continue
-            sp = (max(v) - min(v)) / med
-            if best is None or size > best[0] or (size == best[0] and sp < best[1]):
-                best = (size, sp, med, c)
+    """(median, members) of the largest agreeing group (the consensus rule's grouping)."""
+    best = consensus_group(vals)
     return best[2], best[3]
 
 
