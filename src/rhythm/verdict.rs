@@ -698,7 +698,7 @@ fn regular_reason(e: &VerdictEvidence, p: &VerdictParams) -> String {
 /// Rule 2 with the score: `irregular` when the score is at least `score_min` or the windowed
 /// screen found at least `min_episode_total_s` of episodes, else `other` when RR varies, else
 /// `regular`.
-fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Verdict {
+fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec<String>) {
     let prob = p.score.probability(e);
     let varies = rr_varies(e, p);
     let episodes = screen_episodes(e, p);
@@ -739,12 +739,7 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
         reasons.push(regular_reason(e, p));
         VerdictClass::Regular
     };
-    Verdict {
-        class,
-        irregular_fraction: fraction,
-        index: e.cosen,
-        reasons,
-    }
+    (class, reasons)
 }
 
 /// The verdict of a record from its evidence (rules in the order tried):
@@ -773,18 +768,21 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams, fraction: f64) -> Ver
 ///
 /// The index is the COSEn. Research use only: a label for a recording, never a diagnosis.
 pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
-    let fraction = irregular_fraction(e, p);
-    if let Some(reason) = unreadable_reason(e, p) {
-        return Verdict {
-            class: VerdictClass::Unreadable,
-            irregular_fraction: fraction,
-            index: e.cosen,
-            reasons: vec![reason],
-        };
+    let (class, reasons) = match unreadable_reason(e, p) {
+        Some(reason) => (VerdictClass::Unreadable, vec![reason]),
+        None if p.score_min <= 1.0 => decide_by_score(e, p),
+        None => decide_by_rr_rule(e, p),
+    };
+    Verdict {
+        class,
+        irregular_fraction: irregular_fraction(e, p),
+        index: e.cosen,
+        reasons,
     }
-    if p.score_min <= 1.0 {
-        return decide_by_score(e, p, fraction);
-    }
+}
+
+/// Rule 2 of [`decide`] without the score (the earlier rule, `score_min` above 1).
+fn decide_by_rr_rule(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec<String>) {
     let mut reasons = Vec::new();
     let varies = rr_varies(e, p);
     let no_base = e.off_base_share >= p.off_base_min;
@@ -848,12 +846,7 @@ pub fn decide(e: &VerdictEvidence, p: &VerdictParams) -> Verdict {
         reasons.push(regular_reason(e, p));
         VerdictClass::Regular
     };
-    Verdict {
-        class,
-        irregular_fraction: fraction,
-        index: e.cosen,
-        reasons,
-    }
+    (class, reasons)
 }
 
 /// The verdict as JSON: `{"class", "irregular_fraction", "index", "reasons"}` (non-finite
