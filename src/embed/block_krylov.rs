@@ -48,7 +48,12 @@ const KEEP_EXTRA: usize = 6;
 const MAX_RESTARTS: usize = 60;
 
 /// W ← W − A·C for row-major n × wb `w`, n × wa `a` and wa × wb `c` (row by row, no reduction).
+/// Each entry subtracts the terms in column order of `a`; for wb = [`BLOCK`] the row of W is
+/// held in registers over that loop (same operations in the same order, so the same bits).
 fn sub_mul(w: &mut [f64], wb: usize, a: &[f64], wa: usize, c: &[f64]) {
+    if wb == BLOCK {
+        return sub_mul_fixed::<BLOCK>(w, a, wa, c);
+    }
     w.par_chunks_mut(ROWS * wb)
         .zip(a.par_chunks(ROWS * wa))
         .for_each(|(wc, ac)| {
@@ -61,10 +66,82 @@ fn sub_mul(w: &mut [f64], wb: usize, a: &[f64], wa: usize, c: &[f64]) {
         });
 }
 
+/// [`sub_mul`] for a fixed width W of `w`.
+fn sub_mul_fixed<const W: usize>(w: &mut [f64], a: &[f64], wa: usize, c: &[f64]) {
+    w.par_chunks_mut(ROWS * W)
+        .zip(a.par_chunks(ROWS * wa))
+        .for_each(|(wc, ac)| {
+            for (wr, ar) in wc.chunks_exact_mut(W).zip(ac.chunks_exact(wa)) {
+                let mut acc = [0.0; W];
+                acc.copy_from_slice(wr);
+                for (&aq, crow) in ar.iter().zip(c.chunks_exact(W)) {
+                    for t in 0..W {
+                        acc[t] -= aq * crow[t];
+                    }
+                }
+                wr.copy_from_slice(&acc);
+            }
+        });
+}
+
+/// AᵀB for row-major n × wa `a` and n × W `b` (wa × W, row-major). Each chunk of
+/// [`ROWS`] rows gives a partial sum over its rows in row order, and the partial sums are added
+/// in chunk order: the same operations in the same order as [`cross`], so the same bits, with
+/// four columns of `a` at a time held in registers.
+fn cross_fixed<const W: usize>(a: &[f64], wa: usize, b: &[f64]) -> Vec<f64> {
+    let parts: Vec<Vec<f64>> = a
+        .par_chunks(ROWS * wa)
+        .zip(b.par_chunks(ROWS * W))
+        .map(|(ac, bc)| {
+            let mut g = vec![0.0; wa * W];
+            let mut q0 = 0;
+            while q0 + 4 <= wa {
+                let mut acc = [[0.0; W]; 4];
+                for (ar, br) in ac.chunks_exact(wa).zip(bc.chunks_exact(W)) {
+                    let a4 = &ar[q0..q0 + 4];
+                    for i in 0..4 {
+                        for t in 0..W {
+                            acc[i][t] += a4[i] * br[t];
+                        }
+                    }
+                }
+                for (i, row) in acc.iter().enumerate() {
+                    g[(q0 + i) * W..(q0 + i + 1) * W].copy_from_slice(row);
+                }
+                q0 += 4;
+            }
+            for q in q0..wa {
+                let mut acc = [0.0; W];
+                for (ar, br) in ac.chunks_exact(wa).zip(bc.chunks_exact(W)) {
+                    for t in 0..W {
+                        acc[t] += ar[q] * br[t];
+                    }
+                }
+                g[q * W..(q + 1) * W].copy_from_slice(&acc);
+            }
+            g
+        })
+        .collect();
+    let mut g = vec![0.0; wa * W];
+    for part in parts {
+        g.iter_mut().zip(part).for_each(|(o, v)| *o += v);
+    }
+    g
+}
+
+/// AᵀB as [`cross`] does it, by [`cross_fixed`] when B has [`BLOCK`] columns.
+fn cross_block(a: &[f64], wa: usize, b: &[f64], wb: usize) -> Vec<f64> {
+    if wb == BLOCK {
+        cross_fixed::<BLOCK>(a, wa, b)
+    } else {
+        cross(a, wa, b, wb)
+    }
+}
+
 /// SVQB of a row-major n × p block: (V, B) with W = V·B, V orthonormal; `None` when the block
 /// is (numerically) rank deficient.
 fn svqb_coupled(w: &[f64], p: usize) -> Result<Option<(Vec<f64>, Vec<f64>)>> {
-    let g = cross(w, p, w, p);
+    let g = cross_block(w, p, w, p);
     let (vals, vecs) = small_eigen(&g, p)?;
     let top = vals.first().copied().unwrap_or(0.0);
     if !(top.is_finite() && top > 0.0) || vals.iter().any(|&v| !(v > 1e-20 * top)) {
@@ -134,7 +211,7 @@ pub fn top_eigen_block(
         for _ in 0..2 {
             let mut row = 0;
             for (blk, wa) in &blocks {
-                let c = cross(blk, *wa, &w, p);
+                let c = cross_block(blk, *wa, &w, p);
                 sub_mul(&mut w, p, blk, *wa, &c);
                 for q in 0..*wa {
                     for t in 0..p {
@@ -257,6 +334,48 @@ mod tests {
             // The vector is the unit vector at the row holding 1/(1 + k).
             let row = perm.iter().position(|&q| q == k).unwrap();
             assert!((r.vectors[row * 8 + k].abs() - 1.0).abs() < 1e-8);
+        }
+    }
+
+    #[test]
+    fn fixed_width_kernels_equal_the_general_loops_bit_for_bit() {
+        // The register-held loops must do the same operations in the same order as the general
+        // ones (common practice for a reproducible analysis): compare the bits, with widths of
+        // the basis that are and are not multiples of 4 and a row count beyond one chunk.
+        let n = ROWS + 37;
+        let mut rng = ChaCha8Rng::seed_from_u64(11);
+        for wa in [3, 4, 9, 17] {
+            let a: Vec<f64> = (0..n * wa).map(|_| rng.gen::<f64>() - 0.5).collect();
+            let w: Vec<f64> = (0..n * BLOCK).map(|_| rng.gen::<f64>() - 0.5).collect();
+            let fast = cross_fixed::<BLOCK>(&a, wa, &w);
+            let slow = cross(&a, wa, &w, BLOCK);
+            assert!(fast
+                .iter()
+                .zip(&slow)
+                .all(|(x, y)| x.to_bits() == y.to_bits()));
+            let mut w1 = w.clone();
+            let mut w2 = w.clone();
+            sub_mul_fixed::<BLOCK>(&mut w1, &a, wa, &fast);
+            w2.par_chunks_mut(ROWS * BLOCK)
+                .zip(a.par_chunks(ROWS * wa))
+                .for_each(|(wc, ac)| {
+                    for (wr, ar) in wc.chunks_exact_mut(BLOCK).zip(ac.chunks_exact(wa)) {
+                        for (q, &aq) in ar.iter().enumerate() {
+                            let crow = &slow[q * BLOCK..(q + 1) * BLOCK];
+                            wr.iter_mut().zip(crow).for_each(|(o, &cv)| *o -= aq * cv);
+                        }
+                    }
+                });
+            assert!(w1.iter().zip(&w2).all(|(x, y)| x.to_bits() == y.to_bits()));
+            // The subtraction is W − A·C entrywise (one row against a plain sum).
+            let r = n - 1;
+            for t in 0..BLOCK {
+                let mut v = w[r * BLOCK + t];
+                for q in 0..wa {
+                    v -= a[r * wa + q] * fast[q * BLOCK + t];
+                }
+                assert_eq!(v.to_bits(), w1[r * BLOCK + t].to_bits());
+            }
         }
     }
 

@@ -32,7 +32,7 @@ use faer::matrix_free::LinOp;
 use faer::sparse::linalg::cholesky::{
     factorize_symbolic_cholesky, LltRef, SymbolicCholesky, SymmetricOrdering,
 };
-use faer::sparse::{SparseColMat, Triplet};
+use faer::sparse::{SparseColMat, SymbolicSparseColMat};
 use faer::{Col, Conj, Mat, MatMut, MatRef, Par, Side};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -265,6 +265,33 @@ impl LinOp<f64> for ShiftInvert {
 /// Column groups of a block solve, solved side by side (see `run_block`).
 const SPLIT: usize = 2;
 
+/// The lower triangle of A = (1+σ)I − S in compressed columns. S is symmetric with sorted
+/// rows, so the entries j ≥ i of its row i are, in order, the rows of column i of the lower
+/// triangle: no sort is needed.
+fn shifted_lower(s: &SymCsr) -> SparseColMat<usize, f64> {
+    let n = s.n;
+    let mut col_ptr = Vec::with_capacity(n + 1);
+    let mut row_idx = Vec::with_capacity(s.nnz() / 2 + n);
+    let mut val = Vec::with_capacity(s.nnz() / 2 + n);
+    col_ptr.push(0);
+    for i in 0..n {
+        for e in s.ptr[i]..s.ptr[i + 1] {
+            let j = s.col[e];
+            if j >= i {
+                row_idx.push(j);
+                val.push(if j == i {
+                    1.0 + SHIFT - s.val[e]
+                } else {
+                    -s.val[e]
+                });
+            }
+        }
+        col_ptr.push(row_idx.len());
+    }
+    let symbolic = SymbolicSparseColMat::new_checked(n, n, col_ptr, None, row_idx);
+    SparseColMat::new(symbolic, val)
+}
+
 /// Sparse Cholesky factor of the lower triangle `a`, or `None` when the factor would exceed
 /// `budget` stored values or the factorisation fails.
 fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
@@ -473,26 +500,11 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
         let (values, vectors) = top_dense_seq(&dense, nev)?;
         return finish(s, values, vectors, Solver::Dense);
     }
-    // Lower triangle of A = (1+σ)I − S.
-    let mut trip = Vec::with_capacity(s.nnz() / 2 + n);
-    for i in 0..n {
-        for e in s.ptr[i]..s.ptr[i + 1] {
-            let j = s.col[e];
-            if j < i {
-                trip.push(Triplet::new(i, j, -s.val[e]));
-            } else if j == i {
-                trip.push(Triplet::new(i, i, 1.0 + SHIFT - s.val[e]));
-            }
-        }
-    }
     // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
     // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
     // the Chebyshev-filtered iteration on S is cheaper.
     let budget = (FILL_FACTOR * s.nnz()).max(1 << 20);
-    let llt = SparseColMat::<usize, f64>::try_new_from_triplets(n, n, &trip)
-        .ok()
-        .and_then(|a| factor(&a, budget));
-    drop(trip);
+    let llt = factor(&shifted_lower(s), budget);
     let mut work = (0, f64::NAN);
     let (values, vectors, solver) = match llt {
         Some(op) => {
