@@ -95,54 +95,97 @@ impl SymCsr {
 }
 
 /// The symmetrised kernel K on the kNN graph (see the module notes). `scale(i, j)` is s_ij.
+///
+/// Row i holds the union of i's neighbours and the points listing i, each once, in increasing
+/// column order: the transposed lists come out sorted by a counting pass, so no sort of all
+/// edges is needed. The weight of the edge {a, b} (a < b) is computed from the squared distance
+/// in a's list when b is there, else in b's, in both rows alike, so K is symmetric bit for bit.
 pub fn kernel_graph(nb: &Neighbors, scale: &(dyn Fn(usize, usize) -> f64 + Sync)) -> SymCsr {
     let n = nb.n;
-    // Off-diagonal edges (a < b) with their weights, from every row.
-    let mut edges: Vec<(usize, usize, f64)> = (0..n)
+    // Transposed lists: for each j, the rows i ≠ j listing j, in increasing i.
+    let mut rptr = vec![0usize; n + 1];
+    for i in 0..n {
+        for &j in nb.index_of(i) {
+            if j != i {
+                rptr[j + 1] += 1;
+            }
+        }
+    }
+    for j in 0..n {
+        rptr[j + 1] += rptr[j];
+    }
+    let mut fill = rptr[..n].to_vec();
+    let mut rsrc = vec![0usize; rptr[n]];
+    let mut rd2 = vec![0.0; rptr[n]];
+    for i in 0..n {
+        for (&j, &d2) in nb.index_of(i).iter().zip(nb.dist2_of(i)) {
+            if j != i {
+                rsrc[fill[j]] = i;
+                rd2[fill[j]] = d2;
+                fill[j] += 1;
+            }
+        }
+    }
+    drop(fill);
+    let rows: Vec<Vec<(usize, f64)>> = (0..n)
         .into_par_iter()
-        .flat_map_iter(|i| {
-            nb.index_of(i)
+        .map(|i| {
+            let mut own: Vec<(usize, f64)> = nb
+                .index_of(i)
                 .iter()
                 .zip(nb.dist2_of(i))
-                .filter(move |(&j, _)| j != i)
-                .map(move |(&j, &d2)| {
-                    let (a, b) = if i < j { (i, j) } else { (j, i) };
-                    (a, b, (-d2 / scale(a, b)).exp())
-                })
+                .filter(|(&j, _)| j != i)
+                .map(|(&j, &d2)| (j, d2))
+                .collect();
+            own.sort_by_key(|e| e.0);
+            own.dedup_by_key(|e| e.0);
+            let rev = &rsrc[rptr[i]..rptr[i + 1]];
+            let rev_d2 = &rd2[rptr[i]..rptr[i + 1]];
+            let mut row = Vec::with_capacity(own.len() + rev.len() + 1);
+            let (mut x, mut y) = (0, 0);
+            let mut diagonal = false;
+            let weight = |j: usize, d2: f64| {
+                let (a, b) = if i < j { (i, j) } else { (j, i) };
+                (-d2 / scale(a, b)).exp()
+            };
+            loop {
+                let jo = own.get(x).map_or(usize::MAX, |e| e.0);
+                let jr = rev.get(y).copied().unwrap_or(usize::MAX);
+                let j = jo.min(jr);
+                if !diagonal && i < j {
+                    row.push((i, 1.0));
+                    diagonal = true;
+                }
+                if j == usize::MAX {
+                    break;
+                }
+                // d2 from the list of the smaller index when both lists hold the edge.
+                let d2 = match (jo == j, jr == j) {
+                    (true, true) if i < j => own[x].1,
+                    (true, true) => rev_d2[y],
+                    (true, false) => own[x].1,
+                    _ => rev_d2[y],
+                };
+                row.push((j, weight(j, d2)));
+                x += usize::from(jo == j);
+                y += usize::from(jr == j);
+            }
+            row
         })
         .collect();
-    edges.par_sort_unstable_by(|x, y| (x.0, x.1).cmp(&(y.0, y.1)));
-    edges.dedup_by(|x, y| x.0 == y.0 && x.1 == y.1);
-    let mut count = vec![1usize; n];
-    for &(a, b, _) in &edges {
-        count[a] += 1;
-        count[b] += 1;
+    drop((rsrc, rd2));
+    let mut ptr = Vec::with_capacity(n + 1);
+    ptr.push(0);
+    for r in &rows {
+        ptr.push(ptr.last().expect("ptr") + r.len());
     }
-    let mut ptr = vec![0usize; n + 1];
-    for i in 0..n {
-        ptr[i + 1] = ptr[i] + count[i];
-    }
-    let nnz = ptr[n];
-    let mut col = vec![0usize; nnz];
-    let mut val = vec![0.0; nnz];
-    let mut fill = ptr[..n].to_vec();
-    // Lower entries of row b (column a < b) arrive in increasing a, since the edges are sorted
-    // by (a, b); then the diagonal; then the upper entries of row a in increasing b. Put the
-    // lower ones first in a first pass, then the diagonal, then the upper ones.
-    for &(a, b, w) in &edges {
-        col[fill[b]] = a;
-        val[fill[b]] = w;
-        fill[b] += 1;
-    }
-    for i in 0..n {
-        col[fill[i]] = i;
-        val[fill[i]] = 1.0;
-        fill[i] += 1;
-    }
-    for &(a, b, w) in &edges {
-        col[fill[a]] = b;
-        val[fill[a]] = w;
-        fill[a] += 1;
+    let mut col = Vec::with_capacity(ptr[n]);
+    let mut val = Vec::with_capacity(ptr[n]);
+    for r in rows {
+        for (j, w) in r {
+            col.push(j);
+            val.push(w);
+        }
     }
     SymCsr { n, ptr, col, val }
 }
@@ -574,4 +617,87 @@ pub(crate) fn finish(
         solver,
         chebyshev_work: (0, f64::NAN),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::collections::BTreeMap;
+
+    /// A kNN table of random points on a line (k = 4, itself first), so the lists are
+    /// asymmetric: a point's neighbours need not list it.
+    fn line_table(n: usize, seed: u64) -> (Vec<f64>, Neighbors) {
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        let x: Vec<f64> = (0..n).map(|_| rng.gen::<f64>()).collect();
+        let k = 4;
+        let (mut index, mut dist2) = (Vec::new(), Vec::new());
+        for i in 0..n {
+            let mut d: Vec<(f64, usize)> = (0..n).map(|j| ((x[i] - x[j]).powi(2), j)).collect();
+            d.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+            for &(v, j) in &d[..k] {
+                index.push(j);
+                dist2.push(v);
+            }
+        }
+        (x, Neighbors { n, k, index, dist2 })
+    }
+
+    #[test]
+    fn kernel_graph_is_the_symmetrised_knn_kernel() {
+        // Definition (module notes; Coifman & Lafon 2006): an edge when either point lists the
+        // other, weight exp(−d²/s_ij), K_ii = 1; checked against a map built from it directly.
+        let (x, nb) = line_table(300, 5);
+        let scale = |a: usize, b: usize| 0.01 + 0.001 * ((a + b) % 7) as f64;
+        let k = kernel_graph(&nb, &scale);
+        let mut want: BTreeMap<(usize, usize), f64> = BTreeMap::new();
+        for i in 0..nb.n {
+            want.insert((i, i), 1.0);
+            for &j in nb.index_of(i) {
+                if j != i {
+                    let (a, b) = (i.min(j), i.max(j));
+                    let w = (-(x[a] - x[b]).powi(2) / scale(a, b)).exp();
+                    want.insert((a, b), w);
+                    want.insert((b, a), w);
+                }
+            }
+        }
+        assert_eq!(k.nnz(), want.len());
+        let mut e = 0;
+        for (&(i, j), &w) in &want {
+            assert!(e >= k.ptr[i] && e < k.ptr[i + 1], "row of entry ({i}, {j})");
+            assert_eq!(k.col[e], j);
+            assert!(
+                (k.val[e] - w).abs() <= 1e-15,
+                "({i}, {j}): {} vs {w}",
+                k.val[e]
+            );
+            e += 1;
+        }
+        // Symmetric bit for bit.
+        for i in 0..k.n {
+            for e in k.ptr[i]..k.ptr[i + 1] {
+                let j = k.col[e];
+                let t = (k.ptr[j]..k.ptr[j + 1]).find(|&f| k.col[f] == i).unwrap();
+                assert_eq!(k.val[e].to_bits(), k.val[t].to_bits());
+            }
+        }
+    }
+
+    #[test]
+    fn shifted_lower_triangle_holds_one_plus_shift_minus_s() {
+        // A = (1+σ)I − S, lower triangle (definition in the module notes).
+        let (_, nb) = line_table(200, 9);
+        let mut s = kernel_graph(&nb, &|_, _| 0.01);
+        normalise(&mut s, 1.0);
+        let a = shifted_lower(&s);
+        let mut count = 0;
+        for (i, j, v) in a.triplet_iter().map(|t| (t.row, t.col, *t.val)) {
+            assert!(i >= j);
+            let e = (s.ptr[i]..s.ptr[i + 1]).find(|&f| s.col[f] == j).unwrap();
+            let want = if i == j { 1.0 + SHIFT } else { 0.0 } - s.val[e];
+            assert!((v - want).abs() <= 1e-15);
+            count += 1;
+        }
+        assert_eq!(count, (s.nnz() + s.n) / 2);
+    }
 }
