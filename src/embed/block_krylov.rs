@@ -20,13 +20,16 @@
 //! the `keep` leading Ritz vectors and the last block are kept (the Krylov–Schur form) and the
 //! iteration goes on.
 //!
-//! Parameters (ours): p = 4, a basis of at most 56 columns, `nev` + 6 Ritz vectors kept at a
+//! Parameters (ours): p = 4, a basis of at most 88 columns, `nev` + 6 Ritz vectors kept at a
 //! restart. Chosen on the kernel graph of a 50 000-point Swiss roll (synthetic, not the shared
 //! data; `examples/bench_embed_swiss.rs`, 11 pairs): blocks of 3, 4, 6, 8 and 12 needed 25, 22,
 //! 21, 21 and 19 block solves (75 to 228 right-hand sides) and p = 4 took the least time; the
 //! single-vector iteration needs 64 solves, one right-hand side each. These counts came from a
 //! temporary trace build during development, not from a committed command; the committed
-//! timing is `examples/bench_embed_swiss.rs` (docs/performance.md).
+//! timing is `examples/bench_embed_swiss.rs` (docs/performance.md). The basis: with 56 columns
+//! the iteration restarted once; with 72, 88, 104 or 120 (and 6 or 10 kept vectors) the
+//! eigensolver took 4–10 % less CPU time in the same bench (docs/performance.md, 2026-12-05
+//! 03:00); 88 columns is n × 88 values (35 MB at n = 50 000).
 //!
 //! Determinism: the block width is fixed, the caller's solve is sequential, and every
 //! reduction over rows sums fixed chunks of rows in chunk order
@@ -41,7 +44,7 @@ use rayon::prelude::*;
 /// Block width p of the iteration.
 pub const BLOCK: usize = 4;
 /// Largest basis (columns) before a restart.
-pub const MAX_BASIS: usize = 56;
+pub const MAX_BASIS: usize = 88;
 /// Ritz vectors kept at a restart (at least `nev` plus a margin).
 const KEEP_EXTRA: usize = 6;
 /// Restart cap.
