@@ -18,6 +18,9 @@ Run:
       numpy==2.4.6 scipy==1.17.1
   cargo build --release --example bench_embed_swiss
   /tmp/sk-venv/bin/python scripts/time_sklearn_swiss.py [N] [DIR]
+
+BEATFOLD_SWISS_BIN=PATH runs another build of the example (e.g. a copy of an earlier commit's,
+to compare two versions under the same machine load).
 """
 import json
 import os
@@ -34,7 +37,8 @@ def main():
     n = int(sys.argv[1]) if len(sys.argv) > 1 else 50_000
     folder = sys.argv[2] if len(sys.argv) > 2 else tempfile.mkdtemp(prefix="swiss-")
     here = os.path.dirname(os.path.abspath(__file__))
-    binary = os.path.join(here, "..", "target", "release", "examples", "bench_embed_swiss")
+    binary = os.environ.get("BEATFOLD_SWISS_BIN") or os.path.join(
+        here, "..", "target", "release", "examples", "bench_embed_swiss")
     load0 = os.getloadavg()
     subprocess.run([binary, str(n), "--dump", folder], check=True)
     with open(os.path.join(folder, "beatfold.json")) as f:

@@ -27,9 +27,10 @@
 //! single-vector iteration needs 64 solves, one right-hand side each. These counts came from a
 //! temporary trace build during development, not from a committed command; the committed
 //! timing is `examples/bench_embed_swiss.rs` (docs/performance.md). The basis: with 56 columns
-//! the iteration restarted once; with 72, 88, 104 or 120 (and 6 or 10 kept vectors) the
-//! eigensolver took 4–10 % less CPU time in the same bench (docs/performance.md, 2026-12-05
-//! 03:00); 88 columns is n × 88 values (35 MB at n = 50 000).
+//! the iteration restarted once; with 72, 88, 104 or 120 the whole bench process (3 fits) took
+//! 3.40–3.56 CPU s against 3.68–3.77 (docs/performance.md, 2026-12-05, about 03:10; a temporary
+//! build reading the size from the environment); 88 columns are n × 88 values (35 MB at
+//! n = 50 000).
 //!
 //! Determinism: the block width is fixed, the caller's solve is sequential, and every
 //! reduction over rows sums fixed chunks of rows in chunk order
