@@ -662,8 +662,7 @@ mod tests {
             }
         }
         assert_eq!(k.nnz(), want.len());
-        let mut e = 0;
-        for (&(i, j), &w) in &want {
+        for (e, (&(i, j), &w)) in want.iter().enumerate() {
             assert!(e >= k.ptr[i] && e < k.ptr[i + 1], "row of entry ({i}, {j})");
             assert_eq!(k.col[e], j);
             assert!(
@@ -671,7 +670,6 @@ mod tests {
                 "({i}, {j}): {} vs {w}",
                 k.val[e]
             );
-            e += 1;
         }
         // Symmetric bit for bit.
         for i in 0..k.n {
