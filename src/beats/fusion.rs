@@ -24,8 +24,10 @@
 //! (3 of 4) of the detector × lead lists; a beat without a majority, or outside clean windows, that splits a normal RR
 //! interval into two short ones is dropped. Beats closer than the refractory period are merged
 //! (the earlier kept). Then a beat outside clean windows that comes early and does not resemble
-//! the recent clean-window beats (template correlation on every lead) is dropped, and a long RR
-//! interval is searched back for a candidate of at least two lists that does resemble them.
+//! the recent clean-window beats or a beat shape seen in clean windows (template correlation on
+//! every lead, each lead weighted by its detectors' agreement) is dropped, and a long RR interval
+//! is searched back for a candidate of at least two lists that does resemble them, the parts of
+//! a filled interval again while they are still long.
 //!
 //! Records sampled at 500 Hz or more are detected after zero-phase decimation to 250–500 Hz
 //! (`signal::resample`), and each beat is then placed on the full-rate signal.
@@ -302,6 +304,14 @@ pub struct VoteParams {
     pub morph_lag_s: f64,
     /// Clean-window beats per lead that serve as templates. Default 16.
     pub morph_bank: usize,
+    /// Beat shapes per lead kept from all clean-window beats as further templates (see
+    /// `Morphology`); 0 switches them off. Default 0 (see [`VoteParams::dev_best`]).
+    pub morph_classes: usize,
+    /// Clean-window beats of one shape needed before the shape serves as a template. Default 3.
+    pub morph_class_min: usize,
+    /// Weight each lead's correlation by the agreement bSQI of its two detectors in the window.
+    /// Default false (see [`VoteParams::dev_best`]).
+    pub morph_quality_weight: bool,
     /// Search-back: in an RR interval longer than this multiple of the local median RR, the
     /// candidate with the highest similarity (at least `searchback_similarity`) among the beats
     /// found by at least `searchback_lists` lists, 0.3 median RR or more from both ends, is
@@ -311,6 +321,10 @@ pub struct VoteParams {
     pub searchback_lists: usize,
     /// See `searchback_ratio`. Default 0.8.
     pub searchback_similarity: f64,
+    /// After a candidate fills a long RR interval, its two parts are searched again while they
+    /// are still longer than `searchback_ratio` times the median, down to this many candidates
+    /// per interval (1: one candidate per interval). Default 1 (see [`VoteParams::dev_best`]).
+    pub searchback_depth: usize,
 }
 
 impl Default for VoteParams {
@@ -326,14 +340,33 @@ impl Default for VoteParams {
             morph_half_s: 0.08,
             morph_lag_s: 0.02,
             morph_bank: 16,
+            morph_classes: 0,
+            morph_class_min: 3,
+            morph_quality_weight: false,
             searchback_ratio: 1.5,
             searchback_lists: 2,
             searchback_similarity: 0.8,
+            searchback_depth: 1,
         }
     }
 }
 
 impl VoteParams {
+    /// The setting with the fewest false plus missed beats on the development records of
+    /// `scripts/fusion_dev/` (`morph3.py`): search-back 4 candidates deep, up to 8 beat shapes
+    /// of at least 3 clean beats, leads weighted by their bSQI. Not the default: on the noise
+    /// stress test it trades false detections for missed beats beyond the +P target
+    /// (docs/validation-noise.md).
+    pub fn dev_best() -> Self {
+        VoteParams {
+            searchback_depth: 4,
+            morph_classes: 8,
+            morph_class_min: 3,
+            morph_quality_weight: true,
+            ..VoteParams::default()
+        }
+    }
+
     /// Validate the parameters.
     pub fn check(&self) -> Result<()> {
         let unit = |name: &str, v: f64, lo: f64, hi: f64| -> Result<()> {
@@ -355,10 +388,13 @@ impl VoteParams {
         unit("morph_half_s", self.morph_half_s, 0.02, 0.3)?;
         unit("morph_lag_s", self.morph_lag_s, 0.0, 0.1)?;
         unit("morph_bank", self.morph_bank as f64, 1.0, 256.0)?;
+        unit("morph_classes", self.morph_classes as f64, 0.0, 64.0)?;
+        unit("morph_class_min", self.morph_class_min as f64, 1.0, 64.0)?;
         if self.searchback_ratio != 0.0 {
             unit("searchback_ratio", self.searchback_ratio, 1.0, 5.0)?;
         }
         unit("searchback_lists", self.searchback_lists as f64, 1.0, 64.0)?;
+        unit("searchback_depth", self.searchback_depth as f64, 1.0, 64.0)?;
         unit(
             "searchback_similarity",
             self.searchback_similarity,
@@ -394,11 +430,13 @@ enum Source {
 ///   of the lists, or outside clean windows, that splits a normal RR interval into two short ones
 ///   is removed (a ventricular beat of bigeminy, followed by its compensatory pause, is kept);
 /// - then the morphology check ([`Morphology`]): outside clean windows, an early beat unlike the
-///   recent clean beats on the leads is removed (noise artefacts do not resemble a recent beat,
-///   while a recurring ectopic beat does once it has appeared in a clean window);
+///   recent clean beats and the beat shapes of earlier clean beats is removed (noise artefacts
+///   do not resemble a recent beat, while a recurring ectopic beat does once it has appeared in
+///   clean windows), each lead's correlation weighted by its window bSQI;
 /// - then the search-back of Pan & Tompkins (1985) in RR intervals longer than
 ///   `searchback_ratio` times the local median, among the beats of at least `searchback_lists`
-///   lists, taking the one most like the recent clean beats.
+///   lists, taking the one most like the recent clean beats, and again in the two parts of a
+///   filled interval while they are still that long.
 fn vote_fusion(
     leads: &[&[f64]],
     per_lead: &[BeatPair],
@@ -488,7 +526,7 @@ fn vote_fusion(
         .copied()
         .filter(|&s| win_of(s) == Source::Clean)
         .collect();
-    let morph = Morphology::new(leads, &clean, fs_hz, v);
+    let morph = Morphology::new(leads, &clean, fs_hz, v, win, len);
     let primary = morphology_check(&primary, |s| win_of(s) == Source::Clean, &morph, v);
     candidates.sort_unstable();
     let primary = search_back(primary, &candidates, &morph, v);
@@ -551,6 +589,14 @@ fn rr_context(beats: &[(usize, bool)], v: &VoteParams) -> Vec<usize> {
 /// Beat shape against recent clean beats: the template matching of QRS detectors with a beat
 /// classifier (e.g. Hamilton & Tompkins 1986), here as a bank of the last clean-window beats per
 /// lead and the Pearson correlation of linearly detrended segments (common practice).
+///
+/// The bank also holds, per lead, up to `morph_classes` beat shapes seen in clean windows (a
+/// clean beat unlike every stored shape, correlation below [`CLASS_SAME`], starts a shape; it
+/// becomes a template once `morph_class_min` clean beats have had it), so that a recurring ectopic
+/// beat is recognised after a run of normal beats (template beat classes; common practice, and
+/// so are the thresholds). With `morph_quality_weight`, each lead's correlation is
+/// weighted by the agreement bSQI of its two detectors in the window (Li, Mark & Clifford 2008),
+/// so the cleaner lead counts more.
 struct Morphology<'a> {
     leads: &'a [&'a [f64]],
     half: usize,
@@ -560,15 +606,69 @@ struct Morphology<'a> {
     clean: &'a [usize],
     /// Per lead, the normalised segment of each clean-window beat (None near the edges).
     segs: Vec<Vec<Option<Vec<f64>>>>,
+    /// Per lead, the beat shapes: (template, number of clean beats before which it is usable).
+    classes: Vec<Vec<(Vec<f64>, usize)>>,
+    /// Per lead, the agreement bSQI of each window (empty: leads weighted equally).
+    quality: &'a [Vec<(f64, f64)>],
+    /// Agreement window length, samples.
+    window: usize,
+}
+
+/// A clean beat whose correlation with a stored beat shape reaches this has that shape.
+const CLASS_SAME: f64 = 0.9;
+
+/// Per lead, the beat shapes of the clean beats in time order (see [`Morphology`]).
+fn beat_classes(segs: &[Option<Vec<f64>>], max: usize, need: usize) -> Vec<(Vec<f64>, usize)> {
+    // (template, count, usable from)
+    let mut cls: Vec<(Vec<f64>, usize, usize)> = Vec::new();
+    if max == 0 {
+        return Vec::new();
+    }
+    for (k, s) in segs.iter().enumerate() {
+        let Some(s) = s else { continue };
+        let mut best: Option<(f64, usize)> = None;
+        for (ci, c) in cls.iter().enumerate() {
+            let r: f64 = c.0.iter().zip(s).map(|(a, b)| a * b).sum();
+            if best.is_none_or(|(br, _)| r > br) {
+                best = Some((r, ci));
+            }
+        }
+        match best {
+            Some((r, ci)) if r >= CLASS_SAME => {
+                let c = &mut cls[ci];
+                c.1 += 1;
+                if c.1 == need {
+                    c.2 = k + 1;
+                }
+            }
+            _ if cls.len() < max => {
+                let from = if need <= 1 { k + 1 } else { usize::MAX };
+                cls.push((s.clone(), 1, from));
+            }
+            _ => {}
+        }
+    }
+    cls.into_iter().map(|(t, _, from)| (t, from)).collect()
 }
 
 impl<'a> Morphology<'a> {
-    fn new(leads: &'a [&'a [f64]], clean: &'a [usize], fs_hz: f64, v: &VoteParams) -> Self {
+    fn new(
+        leads: &'a [&'a [f64]],
+        clean: &'a [usize],
+        fs_hz: f64,
+        v: &VoteParams,
+        quality: &'a [Vec<(f64, f64)>],
+        window: usize,
+    ) -> Self {
         let half = ((v.morph_half_s * fs_hz) as usize).max(2);
         let lag = (v.morph_lag_s * fs_hz) as usize;
-        let segs = leads
+        let segs: Vec<Vec<Option<Vec<f64>>>> = leads
             .iter()
             .map(|x| clean.iter().map(|&p| segment(x, p, half, 0)).collect())
+            .collect();
+        let classes = segs
+            .iter()
+            .map(|s| beat_classes(s, v.morph_classes, v.morph_class_min))
             .collect();
         Morphology {
             leads,
@@ -577,21 +677,36 @@ impl<'a> Morphology<'a> {
             bank: v.morph_bank.max(1),
             clean,
             segs,
+            classes,
+            quality: if v.morph_quality_weight { quality } else { &[] },
+            window: window.max(1),
         }
     }
 
-    /// Mean over the leads of the best correlation (over shifts up to `lag`) of the segment at
-    /// `p` with the last `bank` clean-window beats before `p`; a lead without templates counts 1.
+    /// Mean over the leads (weighted by their window bSQI, floored at 0.05, when asked) of the
+    /// best correlation (over shifts up to `lag`) of the segment at `p` with the last `bank`
+    /// clean-window beats before `p` and the beat shapes known by then; a lead without
+    /// templates counts 1.
     fn similarity(&self, p: usize) -> f64 {
         let k = self.clean.partition_point(|&c| c < p);
-        let mut total = 0.0;
-        for (x, segs) in self.leads.iter().zip(&self.segs) {
+        let (mut total, mut weights) = (0.0, 0.0);
+        for (li, (x, segs)) in self.leads.iter().zip(&self.segs).enumerate() {
+            let w = match self.quality.get(li) {
+                Some(q) if !q.is_empty() => {
+                    let i = (p / self.window).min(q.len() - 1);
+                    q[i].1.max(0.05)
+                }
+                _ => 1.0,
+            };
+            weights += w;
+            let classes = self.classes.get(li).into_iter().flatten();
             let bank: Vec<&Vec<f64>> = segs[k.saturating_sub(self.bank)..k]
                 .iter()
                 .flatten()
+                .chain(classes.filter(|c| c.1 <= k).map(|c| &c.0))
                 .collect();
             if bank.is_empty() {
-                total += 1.0;
+                total += w;
                 continue;
             }
             let mut best = -1.0f64;
@@ -604,9 +719,13 @@ impl<'a> Morphology<'a> {
                     best = best.max(r);
                 }
             }
-            total += best;
+            total += w * best;
         }
-        total / self.leads.len().max(1) as f64
+        if weights > 0.0 {
+            total / weights
+        } else {
+            1.0
+        }
     }
 }
 
@@ -682,7 +801,9 @@ fn morphology_check(
 }
 
 /// Search-back for missed beats in long RR intervals (after Pan & Tompkins 1985), the candidate
-/// chosen by its resemblance to the recent clean beats.
+/// chosen by its resemblance to the recent clean beats. A filled interval's two parts are
+/// searched again while they are still long, up to `searchback_depth` candidates deep, so that
+/// a run of several missed beats is filled beat by beat.
 fn search_back(b: Vec<usize>, candidates: &[usize], m: &Morphology, v: &VoteParams) -> Vec<usize> {
     if v.searchback_ratio <= 0.0 || b.len() < 5 {
         return b;
@@ -692,26 +813,44 @@ fn search_back(b: Vec<usize>, candidates: &[usize], m: &Morphology, v: &VotePara
     let mut add = Vec::new();
     for i in 0..rr.len() {
         let med = local_median(&rr, i, &mut buf);
-        if rr[i] <= v.searchback_ratio * med {
-            continue;
-        }
-        let (lo, hi) = (b[i] as f64 + 0.3 * med, b[i + 1] as f64 - 0.3 * med);
-        let from = candidates.partition_point(|&c| (c as f64) <= lo);
-        let mut best: Option<(f64, usize)> = None;
-        for &c in candidates[from..].iter().take_while(|&&c| (c as f64) < hi) {
-            let s = m.similarity(c);
-            if s >= v.searchback_similarity && best.is_none_or(|(bs, _)| s > bs) {
-                best = Some((s, c));
-            }
-        }
-        if let Some((_, c)) = best {
-            add.push(c);
-        }
+        fill_gap(b[i], b[i + 1], med, 0, candidates, m, v, &mut add);
     }
     let mut out = b;
     out.extend(add);
     out.sort_unstable();
     out
+}
+
+/// One search-back step between the beats `a` and `z` (local median RR `med`, samples): the
+/// best candidate, then the two parts on either side of it.
+#[allow(clippy::too_many_arguments)]
+fn fill_gap(
+    a: usize,
+    z: usize,
+    med: f64,
+    depth: usize,
+    candidates: &[usize],
+    m: &Morphology,
+    v: &VoteParams,
+    add: &mut Vec<usize>,
+) {
+    if depth >= v.searchback_depth || ((z - a) as f64) <= v.searchback_ratio * med {
+        return;
+    }
+    let (lo, hi) = (a as f64 + 0.3 * med, z as f64 - 0.3 * med);
+    let from = candidates.partition_point(|&c| (c as f64) <= lo);
+    let mut best: Option<(f64, usize)> = None;
+    for &c in candidates[from..].iter().take_while(|&&c| (c as f64) < hi) {
+        let s = m.similarity(c);
+        if s >= v.searchback_similarity && best.is_none_or(|(bs, _)| s > bs) {
+            best = Some((s, c));
+        }
+    }
+    if let Some((_, c)) = best {
+        add.push(c);
+        fill_gap(a, c, med, depth + 1, candidates, m, v, add);
+        fill_gap(c, z, med, depth + 1, candidates, m, v, add);
+    }
 }
 
 #[cfg(test)]
@@ -882,7 +1021,7 @@ mod tests {
         }
         let leads: [&[f64]; 2] = [&x, &x];
         let v = VoteParams::default();
-        let m = Morphology::new(&leads, &truth, fs, &v);
+        let m = Morphology::new(&leads, &truth, fs, &v, &[], 2500);
         assert!(
             m.similarity(truth[40]) > 0.95,
             "{}",
@@ -915,6 +1054,70 @@ mod tests {
         no_beat.remove(30);
         let back = search_back(no_beat.clone(), &[at], &m, &v);
         assert_eq!(back, no_beat);
+        // Three beats missing in a row: the parts of a filled interval are searched again, so
+        // all three return; one candidate per interval (depth 1) returns only one.
+        let mut run = truth.clone();
+        run.drain(40..43);
+        let deep = VoteParams {
+            searchback_depth: 4,
+            ..VoteParams::default()
+        };
+        let back = search_back(run.clone(), &truth[40..43], &m, &deep);
+        assert_eq!(back, truth);
+        let one = VoteParams::default();
+        assert_eq!(search_back(run.clone(), &truth[40..43], &m, &one).len(), 58);
+    }
+
+    #[test]
+    fn a_recurring_ectopic_shape_is_remembered_beyond_the_recent_bank() {
+        // Synthetic check (common practice): narrow beats every second at 250 Hz; beats 5 to 7
+        // and beat 50 have a wide biphasic shape. At beat 50 the last 16 clean beats are all
+        // narrow, so only the stored beat shapes recognise it (beats 5, 6 and 7: three clean
+        // beats of the shape, the default `morph_class_min`).
+        let fs = 250.0;
+        let beats: Vec<usize> = (1..60).map(|k| k * 250).collect();
+        let mut x = vec![0.0; 61 * 250];
+        for (i, &b) in beats.iter().enumerate() {
+            let wide = matches!(i, 5..=7 | 50);
+            for (k, y) in x.iter_mut().enumerate().take(b + 60).skip(b - 60) {
+                let t = (k as f64 - b as f64) / fs;
+                *y += if wide {
+                    let u = t / 0.04;
+                    -u * (-0.5 * u * u).exp()
+                } else {
+                    (-0.5 * (t / 0.01).powi(2)).exp()
+                };
+            }
+        }
+        let leads: [&[f64]; 2] = [&x, &x];
+        let with = VoteParams::dev_best();
+        let without = VoteParams::default();
+        let sim = |v: &VoteParams| {
+            Morphology::new(&leads, &beats, fs, v, &[], 2500).similarity(beats[50])
+        };
+        assert!(sim(&with) > 0.95, "{}", sim(&with));
+        assert!(sim(&without) < with.morph_similarity, "{}", sim(&without));
+        // A shape seen twice only is not a template.
+        let mut once = beats.clone();
+        once.remove(7);
+        let m = Morphology::new(&leads, &once, fs, &with, &[], 2500);
+        assert!(m.similarity(beats[50]) < with.morph_similarity);
+        // Lead weighting: lead 1 buried in seeded white noise, its window bSQI 0 (weight floored at
+        // 0.05) against 1 on lead 0: the similarity follows lead 0; unweighted it does not.
+        use rand::SeedableRng;
+        use rand_distr::{Distribution, Normal};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        let normal = Normal::new(0.0, 1.0).unwrap();
+        let q = vec![vec![(0.0, 1.0); 25], vec![(0.0, 0.0); 25]];
+        let noisy: Vec<f64> = x.iter().map(|v| v + normal.sample(&mut rng)).collect();
+        let mixed: [&[f64]; 2] = [&x, &noisy];
+        let weighted = Morphology::new(&mixed, &beats, fs, &with, &q, 2500).similarity(beats[40]);
+        let plain = VoteParams {
+            morph_quality_weight: false,
+            ..VoteParams::dev_best()
+        };
+        let equal = Morphology::new(&mixed, &beats, fs, &plain, &q, 2500).similarity(beats[40]);
+        assert!(weighted > 0.9 && equal < 0.8, "{weighted} {equal}");
     }
 
     #[test]
