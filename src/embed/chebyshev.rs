@@ -222,9 +222,9 @@ fn cheb_rows_any<T: Real>(
     for (ri, pr) in pc.chunks_exact_mut(b).enumerate() {
         let i = first + ri;
         acc.fill(T::ZERO);
-        for ee in s.ptr[i]..s.ptr[i + 1] {
-            let v = val[ee];
-            let j = s.col[ee] as usize;
+        let (a, z) = (s.ptr[i], s.ptr[i + 1]);
+        for (&j, &v) in s.col[a..z].iter().zip(&val[a..z]) {
+            let j = j as usize;
             let xr = &cur[j * b..(j + 1) * b];
             acc.iter_mut().zip(xr).for_each(|(o, &xv)| *o = *o + v * xv);
         }
@@ -325,9 +325,9 @@ fn defect_rows_any(
     for (ri, (pr, rr)) in pc.chunks_exact_mut(b).zip(rc.chunks_exact(b)).enumerate() {
         let i = first + ri;
         acc.fill(0.0);
-        for ee in s.ptr[i]..s.ptr[i + 1] {
-            let v = s.val32[ee];
-            let j = s.col[ee] as usize;
+        let (a, z) = (s.ptr[i], s.ptr[i + 1]);
+        for (&j, &v) in s.col[a..z].iter().zip(&s.val32[a..z]) {
+            let j = j as usize;
             let xr = &cur[j * b..(j + 1) * b];
             acc.iter_mut().zip(xr).for_each(|(o, &xv)| *o += v * xv);
         }
