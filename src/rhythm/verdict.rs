@@ -108,18 +108,18 @@ pub struct VerdictParams {
     pub off_base_min: f64,
     /// Below `min_agreement` the record is still read when the detectors agree on at least this
     /// share of the beats and the beats used (the primary detector's, or else the second's) are
-    /// plausible: every RR within [`PLAUSIBLE_RR_S`] (default 0.8, equal to `min_agreement`:
-    /// off. Chosen on the development set of docs/validation-short-dev.md, where reading such
-    /// records let noisy ones through and lowered the irregular-vs-rest F1).
+    /// plausible: every RR within [`PLAUSIBLE_RR_S`] (0.8, equal to `min_agreement`, is off).
+    /// Default: chosen with the score by inner cross-validation on the labelled short records
+    /// ([`super::score_fit`]) and read from the same file.
     pub min_agreement_plausible: f64,
-    /// The irregular-rhythm score: a logistic combination of RR irregularity, P-wave and f-wave
-    /// measures ([`IrregularScore`]; default [`IrregularScore::fitted`], fitted on the
-    /// development set of docs/validation-short-dev.md).
+    /// The irregular-rhythm score: a logistic combination of RR irregularity, atrial-activity
+    /// and beat-quality measures ([`IrregularScore`]; default [`IrregularScore::fitted`], fitted
+    /// on the labelled short records by `examples/fit_short.rs`).
     pub score: IrregularScore,
     /// A readable record is `irregular` when its score (a probability) is at least this; above
     /// 1 the score is not used and the earlier rule decides (RR irregularly irregular and no
-    /// organised P waves; default chosen on the development set of
-    /// docs/validation-short-dev.md).
+    /// organised P waves; default chosen with the score's coefficients by inner
+    /// cross-validation, [`super::score_fit`], and read from the same file).
     pub score_min: f64,
 }
 
@@ -146,20 +146,20 @@ impl Default for IrregularScore {
 }
 
 impl IrregularScore {
-    /// The coefficients fitted by `cargo run --release --example dev_short` on the development
-    /// set of docs/validation-short-dev.md (copied from that page).
+    /// The coefficients of the committed file `src/rhythm/irregular_score.json`, written by
+    /// `cargo run --release --example fit_short -- ../shared/data/cinc2017-sample --out
+    /// src/rhythm/irregular_score.json` ([`super::score_fit`]).
     pub fn fitted() -> Self {
-        IrregularScore {
-            center: FITTED_CENTER,
-            scale: FITTED_SCALE,
-            weights: FITTED_WEIGHTS,
-            intercept: FITTED_INTERCEPT,
-        }
+        fitted_file().score
     }
 
     /// The probability of the record's measures (see the type's documentation).
     pub fn probability(&self, e: &VerdictEvidence) -> f64 {
-        let x = score_features(e);
+        self.probability_of(&score_features(e))
+    }
+
+    /// The probability of measures `x` in the order of [`SCORE_FEATURE_NAMES`].
+    pub fn probability_of(&self, x: &[f64; SCORE_FEATURES]) -> f64 {
         let mut z = self.intercept;
         for (k, xk) in x.iter().enumerate() {
             let v = (xk - self.center[k]) / self.scale[k];
@@ -197,20 +197,17 @@ impl IrregularScore {
     }
 }
 
-/// Fitted centres (see [`IrregularScore::fitted`]).
-const FITTED_CENTER: [f64; SCORE_FEATURES] = [
-    -1.650299, 0.118280, 0.066615, 0.574650, 0.733006, 0.330705, 0.814432, -1.974474,
-];
-/// Fitted scales (see [`IrregularScore::fitted`]).
-const FITTED_SCALE: [f64; SCORE_FEATURES] = [
-    0.648074, 0.150461, 0.096150, 0.139665, 0.366478, 0.132931, 0.200233, 0.318264,
-];
-/// Fitted weights (see [`IrregularScore::fitted`]).
-const FITTED_WEIGHTS: [f64; SCORE_FEATURES] = [
-    1.873067, -1.102995, 1.006105, 0.852473, -2.447962, 0.344252, 0.425385, -1.884811,
-];
-/// Fitted intercept (see [`IrregularScore::fitted`]).
-const FITTED_INTERCEPT: f64 = -6.447888;
+/// The committed coefficient file of the irregular-rhythm score (see
+/// [`super::score_fit::ScoreFile`]).
+pub const FITTED_SCORE_FILE: &str = include_str!("irregular_score.json");
+
+/// The parsed [`FITTED_SCORE_FILE`]. The file is written by the fit command and checked by a
+/// unit test (`score_fit::tests::committed_file_parses`), so parsing it cannot fail in a build
+/// whose tests pass.
+fn fitted_file() -> super::score_fit::ScoreFile {
+    super::score_fit::ScoreFile::parse(FITTED_SCORE_FILE, "src/rhythm/irregular_score.json")
+        .expect("src/rhythm/irregular_score.json is checked by score_fit's unit tests")
+}
 
 /// RR intervals a beat train may have to count as plausible, seconds: 0.25–3 s (240 to 20
 /// beats per minute, `common practice`).
@@ -240,9 +237,9 @@ impl Default for VerdictParams {
             min_episode_total_s: 30.0,
             base_tolerance: 0.1,
             off_base_min: 0.1,
-            min_agreement_plausible: 0.8,
+            min_agreement_plausible: fitted_file().min_agreement_plausible,
             score: IrregularScore::fitted(),
-            score_min: 0.4,
+            score_min: fitted_file().score_min,
         }
     }
 }
@@ -395,6 +392,12 @@ pub struct VerdictEvidence {
     /// Turning-point ratio of the RR series ([`super::entropy::turning_point_ratio`]).
     #[serde(default = "nan")]
     pub turning_point_ratio: f64,
+    /// Successive-difference measures of the RR series ([`super::drr`]).
+    #[serde(default)]
+    pub delta_rr: super::drr::DeltaRr,
+    /// Median RR interval, seconds (NaN without intervals).
+    #[serde(default = "nan")]
+    pub median_rr_s: f64,
 }
 
 fn nan() -> f64 {
@@ -578,6 +581,8 @@ pub fn evidence(
         plausible_beats: rr.len() == rr_s.len() && plausible_rr(&rr),
         fwave: super::fwave::FWave::NONE,
         turning_point_ratio: super::entropy::turning_point_ratio(&rr),
+        delta_rr: super::drr::delta_rr(&rr),
+        median_rr_s: median(rr.iter().copied()),
     }
 }
 
@@ -587,29 +592,32 @@ pub const SCORE_FEATURES: usize = 8;
 /// Names of the measures of [`score_features`], in order.
 pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
     "cosen",
-    "nrmssd",
-    "off_base_share",
-    "turning_point_ratio",
+    "drr_median_rel",
+    "drr_occupancy",
+    "drr_origin_share",
     "p_wave",
-    "fwave_band_share",
-    "fwave_organisation",
     "log10_fwave_amplitude",
+    "agreement",
+    "ln_median_rr",
 ];
 
 /// The measures the irregular-rhythm score combines, in the order of [`SCORE_FEATURE_NAMES`]:
-/// COSEn, trimmed nRMSSD, off-base share, turning-point ratio, the median P-wave index (0 when
-/// no template was accepted: no consistent P wave), and the f-wave band share, organisation and
-/// log10 relative amplitude ([`super::fwave`]). NaN where not computed.
+/// COSEn (Lake & Moorman 2011); the three ΔRR-scatter measures of [`super::drr`] (relative
+/// median successive difference, bin occupancy, share at the origin); the median P-wave index
+/// (0 when no template was accepted: no consistent P wave); the log10 relative f-wave amplitude
+/// after QRST cancellation ([`super::fwave`]); the beat agreement of the two detectors (low
+/// agreement: noise that mimics irregular RR); and the natural log of the median RR (rate).
+/// NaN where not computed.
 pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
     [
         e.cosen,
-        e.nrmssd,
-        e.off_base_share,
-        e.turning_point_ratio,
+        e.delta_rr.median_rel,
+        e.delta_rr.occupancy,
+        e.delta_rr.origin_share,
         if e.p_template { e.p_wave_median } else { 0.0 },
-        e.fwave.band_share,
-        e.fwave.organisation,
         e.fwave.amplitude.log10(),
+        e.agreement,
+        e.median_rr_s.ln(),
     ]
 }
 
@@ -703,18 +711,18 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
     let varies = rr_varies(e, p);
     let episodes = screen_episodes(e, p);
     let mut reasons = vec![format!(
-        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, nRMSSD {:.2}, {} of the intervals off the base cycle, turning-point ratio {:.2}, P-wave index {:.2}{}, f-wave band share {:.2}, organisation {:.2}, relative amplitude {:.3}",
+        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, median successive RR difference {} of the median RR, ΔRR scatter occupancy {:.2} with {} of its points at the origin, P-wave index {:.2}{}, f-wave relative amplitude {:.3}, detector agreement {}, median RR {:.2} s",
         prob,
         p.score_min,
         e.cosen,
-        e.nrmssd,
-        pct(e.off_base_share),
-        e.turning_point_ratio,
+        pct(e.delta_rr.median_rel),
+        e.delta_rr.occupancy,
+        pct(e.delta_rr.origin_share),
         score_features(e)[4],
         if e.p_template { "" } else { " (no P-wave template)" },
-        e.fwave.band_share,
-        e.fwave.organisation,
-        e.fwave.amplitude
+        e.fwave.amplitude,
+        pct(e.agreement),
+        e.median_rr_s
     )];
     if episodes {
         reasons.push(format!(
