@@ -117,9 +117,10 @@ fn main() -> anyhow::Result<()> {
          the L2 penalty (from {:?}) and the threshold (0.1–0.9 in steps of 0.05) with the \
          highest irregular-vs-rest F1 over an inner {INNER_FOLDS}-fold \
          cross-validation (an irregular record called unreadable counts as a miss), then the \
-         coefficients on every readable training record; the held-out records are decided with \
-         that fold's score. The measures, the readability rules and the grids were fixed \
-         beforehand (the measures were picked by comparing a few candidates over all {} \
+         coefficients on every readable training record whose RR does not follow an organised \
+         pattern (`verdict::returns_to_base_cycle`: such a record is never called irregular); \
+         the held-out records are decided with that fold's score. The measures, the \
+         readability rules, the organised-pattern rule and the grids were fixed beforehand (the measures were picked by comparing a few candidates over all {} \
          records, which the nested estimate does not undo; docs/methods.md, \"Record verdict\").\n",
         AGREEMENT_GRID,
         RIDGE_GRID,
@@ -168,7 +169,7 @@ fn main() -> anyhow::Result<()> {
          coordinates over consecutive beats (Marwan et al. 2007). Rank mean: the mean of the two \
          ranks (no fitted weight). Score: the irregular-rhythm score of the verdict (fitted on \
          these records: in-sample); out-of-fold score: its probability from the nested \
-         cross-validation above (0 for a record the readability rules refuse). AUC (Hanley & McNeil 1982) over the records whose index is \
+         cross-validation above (0 for a record the readability rules refuse or whose RR follows an organised pattern). AUC (Hanley & McNeil 1982) over the records whose index is \
          finite. CV: a threshold chosen on four folds as the lowest that keeps Sp ≥ 97 % there, \
          applied to the fifth (record k in fold k mod 5), pooled. \"readable\": the records whose \
          verdict is not `unreadable`.\n"
