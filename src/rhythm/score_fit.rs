@@ -437,6 +437,14 @@ impl ScoreFile {
             min_agreement_plausible: t.min_agreement_plausible,
             features: t.features,
         };
+        f.check(path)?;
+        Ok(f)
+    }
+
+    /// Check the coefficients, the threshold, the readability rule and the penalty; `path`
+    /// names the file in errors.
+    pub fn check(&self, path: &str) -> Result<()> {
+        let f = self;
         f.score
             .check()
             .map_err(|e| Error::input(path, "center/scale/weights/intercept", e.to_string()))?;
@@ -464,7 +472,7 @@ impl ScoreFile {
                 format!("{}; allowed a finite value ≥ 0", f.ridge),
             ));
         }
-        Ok(f)
+        Ok(())
     }
 
     /// The file's text (pretty JSON, numbers as the fit gave them, a final newline).
