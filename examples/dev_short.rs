@@ -24,6 +24,7 @@ use beatfold::params::{Check, Checked};
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::record::{Lead, Record};
 use beatfold::rhythm::label_score::LabelScore;
+use beatfold::rhythm::score_fit::fit_logistic;
 use beatfold::rhythm::verdict::{
     decide, score_features, unreadable_reason, IrregularScore, VerdictClass, VerdictEvidence,
     VerdictParams, SCORE_FEATURES, SCORE_FEATURE_NAMES,
@@ -426,98 +427,6 @@ fn group(name: &str) -> String {
     }
 }
 
-/// Logistic regression by Newton's method on the standardised measures, L2 penalty [`RIDGE`]
-/// on the weights; a NaN measure counts as its centre (0 once standardised).
-#[allow(clippy::needless_range_loop)]
-fn fit_logistic(x: &[[f64; SCORE_FEATURES]], y: &[bool]) -> IrregularScore {
-    const D: usize = SCORE_FEATURES + 1;
-    let mut center = [0.0; SCORE_FEATURES];
-    let mut scale = [1.0; SCORE_FEATURES];
-    for k in 0..SCORE_FEATURES {
-        let v: Vec<f64> = x.iter().map(|r| r[k]).filter(|v| v.is_finite()).collect();
-        if v.len() >= 2 {
-            let m = v.iter().sum::<f64>() / v.len() as f64;
-            let sd = (v.iter().map(|a| (a - m).powi(2)).sum::<f64>() / (v.len() - 1) as f64).sqrt();
-            center[k] = m;
-            scale[k] = if sd > 0.0 { sd } else { 1.0 };
-        }
-    }
-    let rows: Vec<[f64; D]> = x
-        .iter()
-        .map(|r| {
-            let mut z = [1.0; D];
-            for k in 0..SCORE_FEATURES {
-                let v = (r[k] - center[k]) / scale[k];
-                z[k + 1] = if v.is_finite() { v } else { 0.0 };
-            }
-            z
-        })
-        .collect();
-    let mut beta = [0.0; D];
-    for _ in 0..100 {
-        let mut g = [0.0; D];
-        let mut h = [[0.0; D]; D];
-        for (z, &t) in rows.iter().zip(y) {
-            let eta: f64 = (0..D).map(|i| beta[i] * z[i]).sum();
-            let pr = 1.0 / (1.0 + (-eta).exp());
-            let wgt = (pr * (1.0 - pr)).max(1e-12);
-            let r = if t { 1.0 } else { 0.0 } - pr;
-            for i in 0..D {
-                g[i] += r * z[i];
-                for j in 0..D {
-                    h[i][j] += wgt * z[i] * z[j];
-                }
-            }
-        }
-        for i in 1..D {
-            g[i] -= RIDGE * beta[i];
-            h[i][i] += RIDGE;
-        }
-        let d = solve(h, g);
-        let step: f64 = d.iter().map(|v| v.abs()).fold(0.0, f64::max);
-        for i in 0..D {
-            beta[i] += d[i];
-        }
-        if step < 1e-10 {
-            break;
-        }
-    }
-    let mut weights = [0.0; SCORE_FEATURES];
-    weights.copy_from_slice(&beta[1..]);
-    IrregularScore {
-        center,
-        scale,
-        weights,
-        intercept: beta[0],
-    }
-}
-
-/// Solve `a x = b` by Gaussian elimination with partial pivoting (a small dense system).
-#[allow(clippy::needless_range_loop)]
-fn solve<const D: usize>(mut a: [[f64; D]; D], mut b: [f64; D]) -> [f64; D] {
-    for c in 0..D {
-        let piv = (c..D)
-            .max_by(|&i, &j| a[i][c].abs().total_cmp(&a[j][c].abs()))
-            .unwrap_or(c);
-        a.swap(c, piv);
-        b.swap(c, piv);
-        let d = a[c][c];
-        for r in c + 1..D {
-            let f = a[r][c] / d;
-            for k in c..D {
-                a[r][k] -= f * a[c][k];
-            }
-            b[r] -= f * b[c];
-        }
-    }
-    let mut x = [0.0; D];
-    for c in (0..D).rev() {
-        let s: f64 = (c + 1..D).map(|k| a[c][k] * x[k]).sum();
-        x[c] = (b[c] - s) / a[c][c];
-    }
-    x
-}
-
 /// The readable segments among `idx` (rule 1 of the verdict at the default parameters), as
 /// measures and irregular-vs-rest truth.
 fn training_rows(
@@ -575,18 +484,17 @@ fn best_threshold(
 fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> anyhow::Result<()> {
     let all: Vec<usize> = (0..segs.len()).collect();
     let (x, y) = training_rows(segs, ev, &all);
-    let fitted = fit_logistic(&x, &y);
+    let fitted = fit_logistic(&x, &y, RIDGE);
     writeln!(
         w,
         "\n## Irregular-rhythm score\n\nA logistic regression of irregular against every other \
          label over the {} segments that pass the readability rules at the default parameters \
-         ({} of them irregular), on the standardised measures below (a NaN measure counts as \
-         its centre), Newton's method with an L2 penalty of {RIDGE} on the weights (fixed, not \
-         tuned). The measures: COSEn (Lake & Moorman 2011), trimmed nRMSSD, the off-base share, \
-         the turning-point ratio, the median P-wave index (0 without a template), and the f-wave \
-         band share, organisation index and log10 relative amplitude after QRST cancellation \
-         (docs/methods.md, \"Record verdict\"). These coefficients are the library's defaults \
-         (`IrregularScore::fitted`).\n",
+         ({} of them irregular), on the standardised measures of the library's score (a NaN \
+         measure counts as its centre; docs/methods.md, \"Record verdict\"), Newton's method \
+         (`rhythm::score_fit::fit_logistic`) with an L2 penalty of {RIDGE} on the weights \
+         (fixed, not tuned). Shown for comparison only: the library's score is fitted on the \
+         labelled short records (`examples/fit_short.rs`, docs/validation-short.md), whose \
+         recording conditions differ from these Holter segments.\n",
         x.len(),
         y.iter().filter(|t| **t).count()
     )?;
@@ -602,25 +510,10 @@ fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> an
         )?;
     }
     writeln!(w, "| intercept | | | {:.6} |", fitted.intercept)?;
-    let fmt = |v: &[f64]| {
-        v.iter()
-            .map(|x| format!("{x:.6}"))
-            .collect::<Vec<_>>()
-            .join(", ")
-    };
     writeln!(
         w,
-        "\nAs written in `src/rhythm/verdict.rs`: center [{}]; scale [{}]; weights [{}]; \
-         intercept {:.6}.",
-        fmt(&fitted.center),
-        fmt(&fitted.scale),
-        fmt(&fitted.weights),
-        fitted.intercept
-    )?;
-    writeln!(
-        w,
-        "\nThe verdict with this score for each `score_min` (every other parameter at its \
-         default); `rule` is the earlier rule without the score.\n"
+        "\nThe verdict with this development-set score for each `score_min` (every other \
+         parameter at its default); `rule` is the earlier rule without the score.\n"
     )?;
     writeln!(
         w,
@@ -649,8 +542,8 @@ fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> an
     let (best, f1) = best_threshold(segs, ev, &all, &fitted);
     writeln!(
         w,
-        "\nHighest F1 on this set: score_min {best} (F1 {f1:.3}; the first of equals). This is \
-         the default."
+        "\nHighest F1 on this set: score_min {best} (F1 {f1:.3}; the first of equals). Not \
+         the library's default (chosen by `fit_short`)."
     )?;
     // Grouped cross-validation: fit and threshold on four folds, scored on the fifth.
     let mut groups: Vec<String> = segs.iter().map(|s| group(&s.record.name)).collect();
@@ -671,7 +564,7 @@ fn score_section(w: &mut String, segs: &[Segment], ev: &[VerdictEvidence]) -> an
     for f in 0..FOLDS {
         let train: Vec<usize> = all.iter().copied().filter(|&k| fold_of(k) != f).collect();
         let (xt, yt) = training_rows(segs, ev, &train);
-        let s = fit_logistic(&xt, &yt);
+        let s = fit_logistic(&xt, &yt, RIDGE);
         let (t, f1) = best_threshold(segs, ev, &train, &s);
         writeln!(w, "| {f} | {t} | {f1:.3} |")?;
         let vp = with_score(&s, t);

@@ -7,10 +7,12 @@
 //! [`screen::Screen`], [`recurrence::RqaWindow`]s.
 
 pub mod atrial;
+pub mod drr;
 pub mod entropy;
 pub mod fwave;
 pub mod label_score;
 pub mod recurrence;
+pub mod score_fit;
 pub mod screen;
 pub mod verdict;
 pub mod windowed;

@@ -1,0 +1,82 @@
+//! Fit the irregular-rhythm score on labelled records and write its coefficient file:
+//! `cargo run --release --example fit_short -- DIR [--labels FILE] [--out FILE]`
+//! (labels default to DIR/REFERENCE.csv mapped A=irregular,N=regular,O=other,~=unreadable; the
+//! library's file is made with `-- ../shared/data/cinc2017-sample --out
+//! src/rhythm/irregular_score.json`).
+//!
+//! Every record's evidence is computed at the default parameters (the evidence does not depend
+//! on the score), then `rhythm::score_fit::choose_and_fit` chooses the readability rule
+//! `min_agreement_plausible`, the L2 penalty and the threshold by inner cross-validation and
+//! fits the logistic score on every readable record.
+//! Without `--out` the file is printed. After a change upstream (beat detection, P-wave index,
+//! f-wave measures) run this command again, then `validate_short` for the page. Research use
+//! only.
+
+use beatfold::params::Checked;
+use beatfold::pipeline::AnalyzeParams;
+use beatfold::rhythm::label_score::{read_labels, LabelMap};
+use beatfold::rhythm::score_fit::{choose_and_fit, FitRow, ScoreFile, FOLD_SEED};
+use beatfold::rhythm::verdict::SCORE_FEATURE_NAMES;
+use std::path::PathBuf;
+
+fn main() -> anyhow::Result<()> {
+    let args: Vec<String> = std::env::args().skip(1).collect();
+    let usage = "usage: fit_short DIR [--labels FILE] [--out FILE]";
+    let dir = PathBuf::from(args.first().ok_or_else(|| anyhow::anyhow!(usage))?);
+    let mut labels = dir.join("REFERENCE.csv");
+    let mut out = None;
+    let mut i = 1;
+    while i < args.len() {
+        let v = args
+            .get(i + 1)
+            .ok_or_else(|| anyhow::anyhow!("{} needs a value; {usage}", args[i]))?;
+        match args[i].as_str() {
+            "--labels" => labels = PathBuf::from(v),
+            "--out" => out = Some(PathBuf::from(v)),
+            o => anyhow::bail!("unknown option {o}; {usage}"),
+        }
+        i += 2;
+    }
+    let map = LabelMap::parse("A=irregular,N=regular,O=other,~=unreadable")?;
+    let p = Checked::<AnalyzeParams>::default();
+    let t0 = std::time::Instant::now();
+    let rows =
+        beatfold::verdicts::verdicts_for_labels(&dir, &read_labels(&labels)?, &map, &p, false)?;
+    let fit: Vec<FitRow> = rows
+        .iter()
+        .map(|r| FitRow::of(&r.evidence, r.truth, &p.verdict))
+        .collect();
+    let refs: Vec<&FitRow> = fit.iter().collect();
+    let c = choose_and_fit(&refs, FOLD_SEED);
+    let file = ScoreFile {
+        fitted_by: format!(
+            "cargo run --release --example fit_short -- {} --out src/rhythm/irregular_score.json",
+            dir.display()
+        ),
+        records: fit.len(),
+        irregular: fit.iter().filter(|r| r.irregular).count(),
+        ridge: c.ridge,
+        score_min: c.score_min,
+        min_agreement_plausible: c.min_agreement_plausible,
+        features: SCORE_FEATURE_NAMES.iter().map(|s| s.to_string()).collect(),
+        score: c.score,
+    };
+    let text = file.to_text();
+    // The file must load as the library will load it.
+    ScoreFile::parse(&text, "the fitted file")?;
+    eprintln!(
+        "{} records ({} irregular): min_agreement_plausible {}, ridge {}, score_min {}, inner cross-validated F1 {:.3}; {:.1} s (wall)",
+        file.records,
+        file.irregular,
+        file.min_agreement_plausible,
+        file.ridge,
+        file.score_min,
+        c.inner_f1,
+        t0.elapsed().as_secs_f64()
+    );
+    match out {
+        Some(path) => beatfold::io::write_atomic(&path, text.as_bytes())?,
+        None => print!("{text}"),
+    }
+    Ok(())
+}
