@@ -38,6 +38,10 @@ then x1.12 up to D, running maximum, linear interpolation):
   wrap on the torus). So a set without boundary (a sphere) is corrected against the torus.
 References: numpy default_rng(0xC0FFEE + 97 * delta + p) (p = 0: the torus), N as the data.
 
+--reference-draws R: the cube correction of the benchmark sets with each of R independent
+reference draws alone and with their mean: how much of the error is the references' own
+sampling noise.
+
 Also printed: the references themselves at delta = 10 (TwoNN, MLE, L and B of the torus, of
 u^p and of a standard Gaussian): two densities with the same L can give raw estimates that
 differ by half.
@@ -47,6 +51,8 @@ Run (the venv of scripts/make_dimension_benchmark.py; --bench adds the 24 benchm
   /tmp/venv-dim/bin/python scripts/dimension_density_study.py --seeds 0 1 --noise 0 \
       --bench /tmp/dimbench --bench-seeds 0 1
   /tmp/venv-dim/bin/python scripts/dimension_density_study.py --clifford-check
+  /tmp/venv-dim/bin/python scripts/dimension_density_study.py --reference-draws 4 \
+      --bench /tmp/dimbench --bench-seeds 0 1
 """
 import argparse
 import json
@@ -179,6 +185,47 @@ def corrected(s, n, dim):
     return out
 
 
+def cube_reference(n, delta, r):
+    """Stats of the r-th independent uniform cube (r = 0 is the cube of `reference`)."""
+    key = (n, delta, 1, r)
+    if key not in REF_CACHE:
+        rng = np.random.default_rng(0xC0FFEE + 97 * delta + 1 + 7919 * r)
+        REF_CACHE[key] = stats(rng.random((n, delta)))
+    return REF_CACHE[key]
+
+
+def reference_noise(bench, seeds, draws):
+    """How much of the error is the reference cubes' own sampling noise: the cube correction
+    with each of `draws` independent reference draws alone, and with their mean."""
+    with open(os.path.join(bench, "manifest.json")) as fh:
+        ents = [e for e in json.load(fh)["entries"] if e["seed"] in seeds and e["noise"] == 0]
+    data = []
+    for e in ents:
+        x = np.fromfile(os.path.join(bench, e["file"]), dtype="<f8").reshape(e["n"], e["dim"])
+        data.append((e, stats(x)))
+    for est in ("twonn", "mle"):
+        variants = [[r] for r in range(draws)] + [list(range(draws))]
+        for rs in variants:
+            errs, low = [], []
+            for e, s in data:
+                ds, g = [], []
+                for delta in ladder(e["dim"]):
+                    ds.append(delta)
+                    g.append(float(np.mean([cube_reference(e["n"], delta, r)[est] for r in rs])))
+                    if g[-1] > s[est]:
+                        break
+                v = invert(np.array(ds, float), np.array(g), s[est])
+                errs.append(abs(v - e["d"]) / e["d"])
+                if e["d"] <= 10:
+                    low.append(errs[-1])
+            what = f"draw {rs[0]}" if len(rs) == 1 else f"mean of {len(rs)} draws"
+            print(
+                f"reference noise, benchmark seeds {seeds}, {est:5s} {what:16s} MRE "
+                f"{100 * np.mean(errs):.1f} / {100 * np.mean(low):.1f}",
+                flush=True,
+            )
+
+
 def clifford_check():
     """The torus references without a periodic search: the flat torus [0, 1)^delta sits
     isometrically in R^(2 delta) as (cos 2 pi u, sin 2 pi u) / (2 pi) per coordinate (the
@@ -218,7 +265,11 @@ def main():
     ap.add_argument("--bench")
     ap.add_argument("--bench-seeds", type=int, nargs="+", default=[0])
     ap.add_argument("--clifford-check", action="store_true")
+    ap.add_argument("--reference-draws", type=int, default=0)
     a = ap.parse_args()
+    if a.reference_draws:
+        reference_noise(a.bench, a.bench_seeds, a.reference_draws)
+        return
     if a.clifford_check:
         clifford_check()
         return
