@@ -10,8 +10,8 @@ except where said):
   largest dimension it may return raised from its default 10 to the ambient dimension D;
 - TLE (Amsaleg, Chelly, Houle, Kawarabayashi, Radovanovic & Treeratanajaru 2019), defaults;
 - MADA (Farahmand, Szepesvari & Audibert 2007), defaults;
-- ESS (Johnsson, Soneson & Fontes 2015), defaults (ver "a"), only when asked (--estimators),
-  it costs about 100 CPU seconds per set of 2500 points.
+- ESS (Johnsson, Soneson & Fontes 2015), defaults (ver "a"), only when asked (--estimators):
+  it is much slower than the others here.
 Beside them, the suite's own estimates (corrected TwoNN, MLE, correlation, local PCA and the
 consensus) read from the per-set lines that `cargo run --release --example
 bench_dimension_manifolds` prints (files given with --ours).
