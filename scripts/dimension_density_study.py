@@ -1,13 +1,14 @@
 #!/usr/bin/env python3
 """Side study for docs/validation-dimension.md: can a reference that matches the data's density
-variation (a "matched-reference" calibration in the spirit of MiND and DANCo, Rozza et al. 2012,
-Ceruti et al. 2014, and of Lombardi, Rozza, Ceruti, Casiraghi & Campadelli 2011) remove the
-bias that non-uniform densities give TwoNN and the MLE, where the suite's uniform cubes cannot?
+variation or its boundary (a "matched-reference" calibration in the spirit of MiND and DANCo,
+Rozza et al. 2012, Ceruti et al. 2014, and of Lombardi, Rozza, Ceruti, Casiraghi & Campadelli
+2011) remove the biases that non-uniform densities and missing boundaries give TwoNN and the
+MLE, where the suite's uniform cubes cannot?
 
-Development family (generated here, seeded: numpy default_rng(1000 * seed + set index); not the
-benchmark), N = 2500, d = 2, 5, 8, 12, 16, each set rotated into D = d + 4 coordinates by a
-random orthonormal map, optional Gaussian noise of SD f times the coordinate spread as in
-scripts/make_dimension_benchmark.py:
+Development family (generated here, seeded: numpy default_rng(1000 * seed + 10 * shape index +
+dimension index); not the benchmark), N = 2500, d = 2, 5, 8, 12, 16, each set rotated into
+D = d + 4 coordinates by a random orthonormal map, optional Gaussian noise of SD f times the
+coordinate spread as in scripts/make_dimension_benchmark.py:
 - cube: uniform [0, 1]^d;
 - power3: u^3 coordinate-wise (density piled towards one corner, unbounded there);
 - beta25: Beta(2, 5) coordinates (smooth, bounded density);
@@ -22,7 +23,7 @@ discarded) and the MLE (Levina & Bickel 2004, MacKay & Ghahramani averaging, k 1
 
 Local density variation L (ours): for every point the mean |log r_10(x) - log r_10(y)| over its
 10 nearest neighbours y, the median of that over points, divided by the median of
-log(r_20 / r_10) (which scales as 1/d, so L does not grow with d by itself alone).
+log(r_20 / r_10) (both scale as 1/d on a uniform set, so L is free of that factor).
 
 Corrections (the reference curve is inverted as in src/dimension/calibrate.rs: ladder 1..12
 then x1.12 up to D, running maximum, linear interpolation):
