@@ -39,6 +39,9 @@ then x1.12 up to D, running maximum, linear interpolation):
   wrap on the torus). So a set without boundary (a sphere) is corrected against the torus.
 References: numpy default_rng(0xC0FFEE + 97 * delta + p) (p = 0: the torus), N as the data.
 
+--write DIR: write the development family (--seeds, --noise) in the format of
+scripts/make_dimension_benchmark.py instead, so the suite itself can run on it.
+
 --reference-draws R: the cube correction of the benchmark sets with each of R independent
 reference draws alone and with their mean: how much of the error is the references' own
 sampling noise.
@@ -54,6 +57,8 @@ Run (the venv of scripts/make_dimension_benchmark.py; --bench adds the 24 benchm
   /tmp/venv-dim/bin/python scripts/dimension_density_study.py --clifford-check
   /tmp/venv-dim/bin/python scripts/dimension_density_study.py --reference-draws 4 \
       --bench /tmp/dimbench --bench-seeds 0 1
+  /tmp/venv-dim/bin/python scripts/dimension_density_study.py --write /tmp/dimdev --seeds 0 1 \
+      --noise 0
 """
 import argparse
 import json
@@ -135,6 +140,32 @@ def dev_set(kind, d, rng):
     big = d + 4
     q, _ = np.linalg.qr(rng.normal(size=(big, big)))
     return z @ q[: z.shape[1]]
+
+
+def family(seed, noise):
+    """The development family of one seed: (kind, d, points), drawn as the study draws them."""
+    for ki, kind in enumerate(KINDS):
+        for di, d in enumerate(DIMS):
+            rng = np.random.default_rng(1000 * seed + 10 * ki + di)
+            yield kind, d, add_noise(dev_set(kind, d, rng), noise, rng)
+
+
+def write_family(out, seeds, noise):
+    """Write the family in the format of scripts/make_dimension_benchmark.py, for
+    `cargo run --release --example bench_dimension_manifolds -- OUT`."""
+    os.makedirs(out, exist_ok=True)
+    entries = []
+    for seed in seeds:
+        for kind, d, x in family(seed, noise):
+            fname = f"dev_{kind}_{d}__seed{seed}__noise{noise:g}.f64"
+            x.astype("<f8").tofile(os.path.join(out, fname))
+            entries.append(
+                {"file": fname, "name": f"dev_{kind}_{d}", "d": d, "dim": int(x.shape[1]),
+                 "n": int(x.shape[0]), "seed": seed, "noise": noise}
+            )
+    with open(os.path.join(out, "manifest.json"), "w") as fh:
+        json.dump({"versions": {"numpy": np.__version__}, "entries": entries}, fh, indent=1)
+    print(f"wrote {len(entries)} point sets to {out}")
 
 
 def add_noise(x, f, rng):
@@ -267,7 +298,11 @@ def main():
     ap.add_argument("--bench-seeds", type=int, nargs="+", default=[0])
     ap.add_argument("--clifford-check", action="store_true")
     ap.add_argument("--reference-draws", type=int, default=0)
+    ap.add_argument("--write")
     a = ap.parse_args()
+    if a.write:
+        write_family(a.write, a.seeds, a.noise)
+        return
     if a.reference_draws:
         reference_noise(a.bench, a.bench_seeds, a.reference_draws)
         return
@@ -283,20 +318,17 @@ def main():
     print(f"  Gaussian: {g['twonn']:.2f} {g['mle']:.2f} L {g['L']:.2f} B {g['B']:.3f}")
     rows = []
     for seed in a.seeds:
-        for ki, kind in enumerate(KINDS):
-            for di, d in enumerate(DIMS):
-                rng = np.random.default_rng(1000 * seed + 10 * ki + di)
-                x = add_noise(dev_set(kind, d, rng), a.noise, rng)
-                s = stats(x)
-                c = corrected(s, N, x.shape[1])
-                rows.append({"kind": kind, "d": d, "c": c})
-                print(
-                    f"dev {kind:8s} d {d:2d} seed {seed} noise {a.noise:g}  L {s['L']:.2f}  "
-                    f"twonn {s['twonn']:.2f} -> cube {c['twonn']['cube']:.2f} matched {c['twonn']['matched']:.2f}  "
-                    f"mle {s['mle']:.2f} -> cube {c['mle']['cube']:.2f} matched {c['mle']['matched']:.2f}  "
-                    f"B {s['B']:.3f} boundary: twonn {c['twonn']['boundary']:.2f} mle {c['mle']['boundary']:.2f}",
-                    flush=True,
-                )
+        for kind, d, x in family(seed, a.noise):
+            s = stats(x)
+            c = corrected(s, N, x.shape[1])
+            rows.append({"kind": kind, "d": d, "c": c})
+            print(
+                f"dev {kind:8s} d {d:2d} seed {seed} noise {a.noise:g}  L {s['L']:.2f}  "
+                f"twonn {s['twonn']:.2f} -> cube {c['twonn']['cube']:.2f} matched {c['twonn']['matched']:.2f}  "
+                f"mle {s['mle']:.2f} -> cube {c['mle']['cube']:.2f} matched {c['mle']['matched']:.2f}  "
+                f"B {s['B']:.3f} boundary: twonn {c['twonn']['boundary']:.2f} mle {c['mle']['boundary']:.2f}",
+                flush=True,
+            )
     summary(rows, f"development family, seeds {a.seeds}, noise {a.noise:g}", KINDS)
     if a.bench:
         with open(os.path.join(a.bench, "manifest.json")) as fh:
