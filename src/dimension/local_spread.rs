@@ -64,8 +64,11 @@ pub(crate) fn pointwise(dist: &[f64], width: usize, k: usize) -> Vec<f64> {
         .collect()
 }
 
-fn cache() -> &'static Mutex<HashMap<(usize, usize, usize), Option<f64>>> {
-    static CACHE: OnceLock<Mutex<HashMap<(usize, usize, usize), Option<f64>>>> = OnceLock::new();
+/// Reference spreads by (m, δ, k).
+type SpreadCache = Mutex<HashMap<(usize, usize, usize), Option<f64>>>;
+
+fn cache() -> &'static SpreadCache {
+    static CACHE: OnceLock<SpreadCache> = OnceLock::new();
     CACHE.get_or_init(|| Mutex::new(HashMap::new()))
 }
 
