@@ -120,7 +120,11 @@ fn main() {
                     r.2 += 1;
                 }
             }
-            line += &format!(" | consensus {:.2} {:?} ({:.1} s)", c.d, c.status, secs);
+            line += &format!(" | consensus {:.2} {:?}", c.d, c.status);
+            if let Some([sd, sc]) = c.local_spread {
+                line += &format!(" spread/cube {:.2}", sd / sc);
+            }
+            line += &format!(" ({secs:.1} s)");
         }
         println!("{line}");
     }

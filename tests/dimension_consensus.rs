@@ -106,6 +106,41 @@ fn corrected_estimates_on_cubes_and_spheres() {
 }
 
 #[test]
+fn piled_density_is_not_resolved() {
+    // Source: the construction itself (common practice; docs/validation-dimension.md, the
+    // density study): u³ coordinates of a uniform 8-cube pile the density towards one corner,
+    // so the sample near the pile looks lower-dimensional to every estimator alike, and the
+    // corrected estimates agree on a value well below 8. The uniformity guard (rule 6 of the
+    // consensus) must refuse `resolved` there, with its reason, and keep d; a uniform 5-cube of
+    // the same size stays resolved.
+    let mut piled = cube(1500, 8, 12, 11);
+    for v in &mut piled.data {
+        *v = v.powi(3);
+    }
+    // The correlation dimension reads such a pile lower still (it is left out here, so that
+    // the other rules of the consensus pass and the guard is what decides).
+    let methods = vec![Method::Twonn, Method::Mle, Method::LocalPca];
+    let p = Checked::new(params(methods, 0)).unwrap();
+    let s = dimension_suite(&piled, &p).unwrap();
+    let c = s.consensus.as_ref().unwrap();
+    assert_eq!(c.status, Status::Unresolved, "{}", c.sentence());
+    assert!(
+        c.reason.contains("varies from point to point"),
+        "{}",
+        c.reason
+    );
+    let [sd, sc] = c.local_spread.unwrap();
+    assert!(sd > 1.15 * sc, "{sd} {sc}");
+    assert!(c.d < 8.0 * 0.85, "the guard leaves d as it was: {}", c.d);
+    let s = dimension_suite(&cube(1500, 5, 9, 12), &p).unwrap();
+    let c = s.consensus.as_ref().unwrap();
+    assert_eq!(c.status, Status::Resolved, "{}", c.reason);
+    let [sd, sc] = c.local_spread.unwrap();
+    assert!(sd <= 1.15 * sc, "{sd} {sc}");
+    assert!((c.d / 5.0 - 1.0).abs() < 0.12, "{}", c.d);
+}
+
+#[test]
 fn line_and_blob_is_unresolved() {
     // Source: a union of a segment (d = 1) and a 5-dimensional Gaussian blob has no single
     // dimension (Hein & Audibert 2005 discuss such mixtures); the estimators read different

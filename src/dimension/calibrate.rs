@@ -115,7 +115,7 @@ pub(crate) fn ladder(ambient: usize) -> Vec<usize> {
 }
 
 /// m points uniform in [0, 1]^δ, seeded by m and δ.
-fn reference_cube(m: usize, delta: usize) -> Points {
+pub(crate) fn reference_cube(m: usize, delta: usize) -> Points {
     let seed = REFERENCE_SEED ^ ((m as u64) << 20) ^ (delta as u64);
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     let data = (0..m * delta).map(|_| rng.gen::<f64>()).collect();

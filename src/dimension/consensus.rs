@@ -41,6 +41,15 @@
 //!    scale the sample shows: noise of that size and a set that truly fills the space look the
 //!    same, and whether a lower d holds at coarser scales cannot be told from these data).
 //!    Otherwise `unresolved` with the first failed condition as the reason.
+//! 6. Uniformity guard ([`uniformity_guard`], applied by the suite to a resolved answer):
+//!    `unresolved` when the spread S of the pointwise local dimensions
+//!    ([`super::local_spread`]: interquartile range of their logs) exceeds
+//!    [`SPREAD_RATIO_MAX`] times that of a uniform cube of m points at δ = d rounded. A density
+//!    that changes strongly within neighbourhoods (piled towards a corner) biases every
+//!    calibrated estimator the same way, so they agree on a wrong value; parts of different
+//!    dimension averaged together do the same. The guard changes the status only, never d.
+//!    Its threshold was chosen on the development family of scripts/dimension_density_study.py,
+//!    not on the benchmark (docs/validation-dimension.md).
 
 use super::suite::{Method, MethodEstimate};
 use super::ScalePoint;
@@ -57,6 +66,9 @@ pub const FLAT: f64 = 0.15;
 pub const MIN_PLATEAU: usize = 3;
 /// Factor over d above which a fine scale counts as noise-dominated.
 pub const NOISE_FACTOR: f64 = 1.5;
+/// Largest ratio of the spread of the pointwise local dimensions to a uniform cube's at d for a
+/// resolved answer (rule 6).
+pub const SPREAD_RATIO_MAX: f64 = 1.15;
 
 /// A curve of local dimension against scale, for the shared axis.
 #[derive(Debug, Clone, PartialEq)]
@@ -140,6 +152,10 @@ pub struct Consensus {
     /// The shared scale axis and the median of the curves there (NaN where fewer than two
     /// curves speak).
     pub axis: Vec<ScalePoint>,
+    /// Spread S of the pointwise local dimensions of the data and of a uniform cube at d (rule
+    /// 6), when measured.
+    #[serde(default)]
+    pub local_spread: Option<[f64; 2]>,
 }
 
 impl Consensus {
@@ -397,7 +413,27 @@ pub fn consensus(
             .map(|e| e.method.name().to_string())
             .collect(),
         axis,
+        local_spread: None,
     })
+}
+
+/// Rule 6: record the spread `data_s` of the data's pointwise local dimensions and `cube_s` of a
+/// uniform cube's at d, and refuse `resolved` when their ratio exceeds [`SPREAD_RATIO_MAX`]. d
+/// and the other fields stay.
+pub fn uniformity_guard(c: &mut Consensus, data_s: f64, cube_s: f64) {
+    c.local_spread = Some([data_s, cube_s]);
+    let ratio = data_s / cube_s;
+    if c.status == Status::Resolved && cube_s > 0.0 && ratio > SPREAD_RATIO_MAX {
+        c.status = Status::Unresolved;
+        c.reason = format!(
+            "the local dimension varies from point to point {ratio:.2} times as much as in a \
+             uniform sample of d = {:.0} (interquartile range of its log {data_s:.3} against \
+             {cube_s:.3}): a density that changes strongly within neighbourhoods, or parts of \
+             different dimension; every estimator is biased the same way (low where the \
+             density piles up), so their agreement does not show the error",
+            c.d.round().max(1.0)
+        );
+    }
 }
 
 #[cfg(test)]

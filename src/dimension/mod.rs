@@ -58,6 +58,7 @@ pub mod consensus;
 mod correlation;
 pub mod delay;
 mod local_pca;
+mod local_spread;
 mod suite;
 
 pub use crate::neighbours::{knn_table, knn_table_rows};

@@ -45,9 +45,10 @@
 
 use super::bootstrap::percentile_ci95;
 use super::calibrate::{correct_estimates, Correction};
-use super::consensus::{consensus, Consensus, ScaleCurve};
+use super::consensus::{consensus, uniformity_guard, Consensus, ScaleCurve, Status};
 use super::correlation::correlation_counts;
 use super::local_pca::{local_pca_counts, PcaRule};
+use super::local_spread::{cube_spread, log_iqr, pointwise};
 use super::nn_estimators::{mle_inverse, twonn_fit};
 use super::scaling::{curve_from_distortion, kmeans_scaling_errors};
 use super::{KmeansScalingParams, ScalePoint, ScalingCurve};
@@ -430,13 +431,8 @@ pub fn dimension_suite(points: &Points, p: &Checked<SuiteParams>) -> Result<Dime
     if let (Some(t), true) = (&table, p.methods.contains(&Method::Mle)) {
         let k = p.mle_k2.min(t.k);
         let mut pw = vec![f64::NAN; points.n];
-        for (row, &i) in t.dist.chunks_exact(t.k).zip(&order) {
-            if row[0] > 0.0 && k >= 2 {
-                let inv = mle_inverse(row, k);
-                if inv > 0.0 {
-                    pw[i] = 1.0 / inv;
-                }
-            }
+        for (v, &i) in pointwise(&t.dist, t.k, k).into_iter().zip(&order) {
+            pw[i] = v;
         }
         suite.pointwise = pw;
     }
@@ -454,6 +450,17 @@ pub fn dimension_suite(points: &Points, p: &Checked<SuiteParams>) -> Result<Dime
         .map(ScaleCurve::of_estimate)
         .collect();
     suite.consensus = consensus(&curves, &suite.estimates, points.dim, suite.noise_scale);
+    // Rule 6 of the consensus, measured only where it can change the status.
+    if let (Some(c), Some(t), Some(s)) =
+        (suite.consensus.as_mut(), &table, log_iqr(&suite.pointwise))
+    {
+        if c.status == Status::Resolved {
+            let delta = (c.d.round().max(1.0) as usize).min(points.dim);
+            if let Some(s_cube) = cube_spread(m, delta, p.mle_k2.min(t.k))? {
+                uniformity_guard(c, s, s_cube);
+            }
+        }
+    }
     Ok(suite)
 }
 
