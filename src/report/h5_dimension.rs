@@ -3,7 +3,9 @@
 //! Attributes `consensus_d`, `consensus_ci95_low`, `consensus_ci95_high`,
 //! `consensus_scale_low`, `consensus_scale_high` (NaN when no plateau), `consensus_noise_scale`
 //! (NaN when none), `consensus_status` ("resolved" or "unresolved"), `consensus_reason` and
-//! `consensus_sentence`; dataset `local_d` (one value per beat, NaN where not computed).
+//! `consensus_sentence`, `consensus_local_spread` and `consensus_local_spread_uniform` (the
+//! spread of the pointwise local dimension of the data and of a uniform cube at d, NaN when not
+//! measured); dataset `local_d` (one value per beat, NaN where not computed).
 
 use crate::dimension::{DimensionSuite, Status};
 use hdf5_pure::{AttrValue, GroupBuilder};
@@ -33,6 +35,9 @@ pub(super) fn add_consensus(g: &mut GroupBuilder, s: &DimensionSuite) {
             AttrValue::VarLenString(c.reason.clone()),
         );
         g.set_attr("consensus_sentence", AttrValue::VarLenString(c.sentence()));
+        let [data_s, cube_s] = c.local_spread.unwrap_or([f64::NAN, f64::NAN]);
+        f(g, "consensus_local_spread", data_s);
+        f(g, "consensus_local_spread_uniform", cube_s);
     }
     if !s.pointwise.is_empty() {
         g.create_dataset("local_d").with_f64_data(&s.pointwise);

@@ -50,7 +50,8 @@ pub fn dimension_json(
 }
 
 /// JSON of a consensus answer: `{"d", "ci95", "scale_range": [lo, hi] | null, "status",
-/// "reason", "noise_scale", "members", "sentence"}`, or `null`.
+/// "reason", "noise_scale", "members", "local_spread": {"data", "uniform_cube"} | null,
+/// "sentence"}`, or `null`.
 pub fn consensus_json(c: Option<&crate::dimension::Consensus>) -> serde_json::Value {
     let num = |x: f64| {
         if x.is_finite() {
@@ -70,6 +71,9 @@ pub fn consensus_json(c: Option<&crate::dimension::Consensus>) -> serde_json::Va
             "status": c.status,
             "reason": c.reason,
             "members": c.members,
+            "local_spread": c
+                .local_spread
+                .map(|[data, cube]| json!({"data": num(data), "uniform_cube": num(cube)})),
             "sentence": c.sentence(),
         }),
     }
