@@ -19,14 +19,18 @@ def sim_fn(j,b,cl,half_s=0.08,lag_s=0.02,nbank=16):
             rs.append(corr_bank(x,p,bank,h,ml) if bank else 1.0)
         return float(np.mean(rs))
     return sim
-def M2(j,T=0.5,Q=0.8,fill=0.0,fillk=2,fillT=0.8,**kw):
-    b,cl=base(j,**kw); sim=sim_fn(j,b,cl)
+def morph_keep(b,cl,sim,T,Q):
+    # the morphology check: drop a beat outside clean windows when one of its RR intervals is
+    # below Q times the local median RR and its similarity is below T (T <= 0: keep every beat)
     rr=np.diff(b); keep=np.ones(len(b),bool)
     for i,p in enumerate(b):
         if cl[i] or i==0 or i+1==len(b) or T<=0: continue
         med=np.median(rr[max(0,i-8):min(len(rr),i+8)])
         if min(p-b[i-1],b[i+1]-p)<Q*med and sim(p)<T: keep[i]=False
-    b2=b[keep]
+    return b[keep]
+def M2(j,T=0.5,Q=0.8,fill=0.0,fillk=2,fillT=0.8,**kw):
+    b,cl=base(j,**kw); sim=sim_fn(j,b,cl)
+    b2=morph_keep(b,cl,sim,T,Q)
     if fill<=0 or len(b2)<5: return b2
     v=votes(j); cand=np.array([p for p,src in v if len(src)>=fillk]); rr=np.diff(b2); add=[]
     for i in range(len(b2)-1):

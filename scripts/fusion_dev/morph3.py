@@ -9,6 +9,7 @@ import os, sys
 #   its similarity, and the best is added when it reaches `mfT` (0 = off).
 sys.path.insert(0,os.path.dirname(os.path.abspath(__file__))); from morph import *
 from opt import wins
+from morph2 import morph_keep
 def classes(segs,K,same=0.9,need=2):
     # per lead: distinct shapes among the clean beats, in time order; a shape becomes a template
     # once `need` clean beats have it (correlation >= `same` with its first beat); at most K.
@@ -38,12 +39,7 @@ def sim_fn3(j,b,cl,w="mean",half_s=0.08,lag_s=0.02,nbank=16,K=0,need=2):
     return sim
 def M3(j,T=0.8,Q=0.9,fill=1.5,fillk=2,fillT=0.8,rec=1,w="mean",mfT=0.0,mfw=0.15,K=0,need=2):
     b,cl=base(j); sim=sim_fn3(j,b,cl,w,K=K,need=need)
-    rr=np.diff(b); keep=np.ones(len(b),bool)
-    for i,p in enumerate(b):
-        if cl[i] or i==0 or i+1==len(b) or T<=0: continue
-        med=np.median(rr[max(0,i-8):min(len(rr),i+8)])
-        if min(p-b[i-1],b[i+1]-p)<Q*med and sim(p)<T: keep[i]=False
-    b2=b[keep]
+    b2=morph_keep(b,cl,sim,T,Q)
     if fill<=0 or len(b2)<5: return b2
     v=votes(j); cand=np.array([p for p,src in v if len(src)>=fillk]); rr=np.diff(b2); add=[]
     def fillgap(a,z,med,depth):
