@@ -53,17 +53,9 @@ fn dimension_command_json_figure_and_errors() {
     assert!(c["d"].as_f64().unwrap() > 0.0);
     assert!(["resolved", "unresolved"].contains(&c["status"].as_str().unwrap()));
     assert!(c["ci95"].is_array() && c.get("scale_range").is_some() && c["reason"].is_string());
-    // The uniformity guard's spreads, when measured: both positive, and a resolved answer has
-    // a ratio within the guard's limit (docs/methods.md, "Consensus", rule 6).
-    let spread = &c["local_spread"];
-    if !spread.is_null() {
-        let data = spread["data"].as_f64().unwrap();
-        let cube = spread["uniform_cube"].as_f64().unwrap();
-        assert!(data > 0.0 && cube > 0.0, "{spread}");
-        if c["status"] == "resolved" {
-            assert!(data / cube <= 1.15, "{spread}");
-        }
-    }
+    // The uniformity guard's spreads: an object when measured (resolved answers only), else
+    // null; the values are checked in tests/dimension_consensus.rs.
+    assert!(c.get("local_spread").is_some(), "{c}");
     for m in ["twonn", "mle", "correlation", "local_pca"] {
         assert_eq!(j["estimates"][m]["corrected"]["applied"], true, "{m}");
     }

@@ -131,6 +131,10 @@ fn piled_density_is_not_resolved() {
     );
     let [sd, sc] = c.local_spread.unwrap();
     assert!(sd > 1.15 * sc, "{sd} {sc}");
+    // The two spreads reach the JSON view (dimension --json, summary.json) unchanged.
+    let j = beatfold::report::json_views::consensus_json(Some(c));
+    assert_eq!(j["local_spread"]["data"].as_f64(), Some(sd));
+    assert_eq!(j["local_spread"]["uniform_cube"].as_f64(), Some(sc));
     assert!(c.d < 8.0 * 0.85, "the guard leaves d as it was: {}", c.d);
     let s = dimension_suite(&cube(1500, 5, 9, 12), &p).unwrap();
     let c = s.consensus.as_ref().unwrap();
