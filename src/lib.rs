@@ -14,6 +14,7 @@
 
 pub mod beats;
 pub mod cohort;
+pub mod cpu;
 pub mod dimension;
 pub mod embed;
 pub mod error;

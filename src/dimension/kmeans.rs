@@ -174,6 +174,7 @@ fn block_nearest_two(
         1.0,
         faer::Par::Seq,
     );
+    crate::cpu::clear_upper_state_here();
     let c_max = c_norms.iter().fold(0.0f64, |a, &v| a.max(v));
     (0..b)
         .map(|i| {

@@ -71,6 +71,7 @@ fn components_for(x: &[f64], r: usize, dim: usize, rule: PcaRule) -> Result<usiz
         .self_adjoint_eigenvalues(Side::Lower)
     }
     .map_err(|e| Error::Analysis(format!("local PCA: eigenvalues failed: {e:?}")))?;
+    crate::cpu::clear_upper_state_here();
     let total: f64 = ev.iter().map(|v| v.max(0.0)).sum();
     if total <= 0.0 {
         return Ok(0);

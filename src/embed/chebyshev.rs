@@ -42,6 +42,7 @@ use faer::Mat;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Rows per parallel chunk (fixed, so the reductions do not depend on the thread count).
 pub(super) const ROWS: usize = 2048;
@@ -389,6 +390,7 @@ fn defect_filter(
     m: usize,
     c: f64,
     e: f64,
+    stop: &AtomicBool,
 ) -> Vec<f64> {
     let th: Vec<f64> = theta[..b].iter().map(|t| (t - c) / e).collect();
     // R = S·V − V·Θ, and D_1 = R/e.
@@ -407,6 +409,9 @@ fn defect_filter(
     let mut prev = vec![0.0f32; v.len()];
     let (mut tau_prev, mut tau): (Vec<f64>, Vec<f64>) = (vec![1.0; b], th.clone());
     for _ in 1..m {
+        if stop.load(Ordering::Relaxed) {
+            break;
+        }
         let g: Vec<f32> = tau.iter().map(|t| (2.0 / e * t) as f32).collect();
         defect_step(s, &cur, &mut prev, &r, &g, b, c, e);
         std::mem::swap(&mut cur, &mut prev);
@@ -480,10 +485,14 @@ fn filter<T: Real>(
     m: usize,
     c: f64,
     e: f64,
+    stop: &AtomicBool,
 ) -> (Vec<T>, Vec<T>) {
     cheb_step(s, &x, &mut y, b, c, e, true);
     let (mut cur, mut prev) = (y, x);
     for _ in 1..m {
+        if stop.load(Ordering::Relaxed) {
+            break;
+        }
         cheb_step(s, &cur, &mut prev, b, c, e, false);
         std::mem::swap(&mut cur, &mut prev);
     }
@@ -718,9 +727,29 @@ fn lower_bound(s: &Compact, n: usize, rng: &mut ChaCha8Rng) -> Result<f64> {
 ///
 /// Errors: `nev` is 0 or the block does not fit the graph; no convergence within the cap.
 pub fn top_eigen_chebyshev(s: &SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen> {
+    let never = AtomicBool::new(false);
+    top_eigen_chebyshev_unless(s, nev, seed, tol, &never)?
+        .ok_or_else(|| Error::Analysis("Chebyshev eigensolver: stopped".into()))
+}
+
+/// [`top_eigen_chebyshev`] that gives up, returning `Ok(None)`, soon after `stop` is set (it is
+/// read before each block product), so that another solver running beside it can make it
+/// unnecessary. Whether it stops never changes what it returns when it does not.
+pub(super) fn top_eigen_chebyshev_unless(
+    s: &SymCsr,
+    nev: usize,
+    seed: u64,
+    tol: f64,
+    stop: &AtomicBool,
+) -> Result<Option<ChebyshevEigen>> {
     let order = rcm_order(s);
+    if stop.load(Ordering::Relaxed) {
+        return Ok(None);
+    }
     let sp = permuted(s, &order);
-    let mut r = solve(sp, nev, seed, tol)?;
+    let Some(mut r) = solve(sp, nev, seed, tol, stop)? else {
+        return Ok(None);
+    };
     let mut vectors = Mat::<f64>::zeros(s.n, r.vectors.ncols());
     for (new, &old) in order.iter().enumerate() {
         for j in 0..r.vectors.ncols() {
@@ -728,11 +757,17 @@ pub fn top_eigen_chebyshev(s: &SymCsr, nev: usize, seed: u64, tol: f64) -> Resul
         }
     }
     r.vectors = vectors;
-    Ok(r)
+    Ok(Some(r))
 }
 
 /// [`top_eigen_chebyshev`] on an already reordered S.
-fn solve(sym: SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen> {
+fn solve(
+    sym: SymCsr,
+    nev: usize,
+    seed: u64,
+    tol: f64,
+    stop: &AtomicBool,
+) -> Result<Option<ChebyshevEigen>> {
     let n = sym.n;
     let guard = (nev / 2).max(8);
     let b = block_width(nev + guard);
@@ -744,6 +779,9 @@ fn solve(sym: SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen>
     let s = &Compact::of(sym)?;
     let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0xc4eb_5e1f);
     let mut l = lower_bound(s, n, &mut rng)?;
+    if stop.load(Ordering::Relaxed) {
+        return Ok(None);
+    }
     let mut x: Vec<f64> = (0..n * b).map(|_| rng.gen::<f64>() - 0.5).collect();
     // First cut: damp the lower half of [l, 1] until Ritz values are known.
     let mut u = 0.5 * (l + 1.0);
@@ -759,17 +797,20 @@ fn solve(sym: SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen>
         // In f32 through the defect recurrence once Ritz pairs are known; the first round,
         // from a random block, in plain f32 (its rounding only perturbs a random start).
         let (mut cur, prev) = match &ritz {
-            Some(theta) => (defect_filter(s, &x, y, theta, b, m, c, e), x),
+            Some(theta) => (defect_filter(s, &x, y, theta, b, m, c, e, stop), x),
             None => {
                 let x32: Vec<f32> = x.iter().map(|&v| v as f32).collect();
                 drop((x, y));
-                let (f, spare) = filter(s, x32, vec![0.0; n * b], b, m, c, e);
+                let (f, spare) = filter(s, x32, vec![0.0; n * b], b, m, c, e, stop);
                 drop(spare);
                 let f64s: Vec<f64> = f.iter().map(|&v| f64::from(v)).collect();
                 drop(f);
                 (f64s, vec![0.0; n * b])
             }
         };
+        if stop.load(Ordering::Relaxed) {
+            return Ok(None);
+        }
         let scale = cur.iter().fold(0.0f64, |a, v| a.max(v.abs()));
         if !(scale.is_finite() && scale > 0.0) {
             return Err(Error::Analysis(
@@ -804,12 +845,12 @@ fn solve(sym: SymCsr, nev: usize, seed: u64, tol: f64) -> Result<ChebyshevEigen>
         ritz = Some(theta.clone());
         if worst <= tol {
             let vectors = Mat::<f64>::from_fn(n, nev, |i, j| x[i * b + j]);
-            return Ok(ChebyshevEigen {
+            return Ok(Some(ChebyshevEigen {
                 values: theta[..nev].to_vec(),
                 vectors,
                 products,
                 lower_bound: l,
-            });
+            }));
         }
         // A Ritz value below the bound (it is not a proof) lowers the bound for the next round.
         let low = theta[b - 1];
@@ -947,6 +988,33 @@ mod tests {
     }
 
     #[test]
+    fn a_stopped_iteration_gives_up_and_an_unstopped_one_is_unchanged() {
+        let (s, _) = ring(3000, 3, 1);
+        let stop = AtomicBool::new(true);
+        assert!(top_eigen_chebyshev_unless(&s, 5, 7, 1e-10, &stop)
+            .unwrap()
+            .is_none());
+        let go = AtomicBool::new(false);
+        let a = top_eigen_chebyshev_unless(&s, 5, 7, 1e-10, &go)
+            .unwrap()
+            .unwrap();
+        let b = top_eigen_chebyshev(&s, 5, 7, 1e-10).unwrap();
+        assert_eq!(a.values, b.values);
+        assert_eq!(a.products, b.products);
+        // Stopped from another thread while it runs: it returns None soon after.
+        // (A tolerance of 0 is never reached, so only the stop can end it before the cap.)
+        let late = AtomicBool::new(false);
+        let r = std::thread::scope(|sc| {
+            sc.spawn(|| {
+                std::thread::sleep(std::time::Duration::from_millis(20));
+                late.store(true, Ordering::Relaxed);
+            });
+            top_eigen_chebyshev_unless(&s, 5, 7, 0.0, &late)
+        });
+        assert!(r.unwrap().is_none());
+    }
+
+    #[test]
     fn same_bits_for_one_and_two_threads() {
         let (s, _) = ring(5000, 4, 2);
         let run = |threads: usize| {
@@ -1068,10 +1136,28 @@ mod tests {
         let theta: Vec<f64> = (0..b).map(|j| g[j * b + j] / gv[j * b + j]).collect();
         let (lo, hi, m) = (0.02, 0.99, 60);
         let (c0, e0) = (0.5 * (hi + lo), 0.5 * (hi - lo));
-        let (exact, _) = filter(&c, v.clone(), vec![0.0; n * b], b, m, c0, e0);
-        let mixed = defect_filter(&c, &v, sv, &theta, b, m, c0, e0);
+        let (exact, _) = filter(
+            &c,
+            v.clone(),
+            vec![0.0; n * b],
+            b,
+            m,
+            c0,
+            e0,
+            &AtomicBool::new(false),
+        );
+        let mixed = defect_filter(&c, &v, sv, &theta, b, m, c0, e0, &AtomicBool::new(false));
         let v32: Vec<f32> = v.iter().map(|&x| x as f32).collect();
-        let (plain, _) = filter(&c, v32, vec![0.0f32; n * b], b, m, c0, e0);
+        let (plain, _) = filter(
+            &c,
+            v32,
+            vec![0.0f32; n * b],
+            b,
+            m,
+            c0,
+            e0,
+            &AtomicBool::new(false),
+        );
         let top = exact.iter().fold(0.0f64, |a, x| a.max(x.abs()));
         let err = |o: &mut dyn Iterator<Item = f64>| {
             o.zip(&exact).fold(0.0f64, |a, (x, y)| a.max((x - y).abs())) / top

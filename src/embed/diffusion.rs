@@ -651,6 +651,9 @@ fn fit_sparse(
     let m = lm.n;
     let kq = (p.neighbors + 1).min(m);
     let nb = knn(&lm, &lm, kq)?;
+    // The PCA's and the neighbour search's matrix products may leave wide-vector state behind
+    // on any thread; the kernel phases below call `exp` on every thread.
+    crate::cpu::clear_upper_state_everywhere();
     on_phase("knn");
     let bw = choose_bandwidth(&nb, p)?;
     on_phase("bandwidth");
@@ -834,6 +837,7 @@ fn top_eigen(s: &Mat<f64>, nev: usize, seed: u64) -> Result<(Vec<f64>, Mat<f64>)
             MemStack::new(&mut mem),
             params,
         );
+        crate::cpu::clear_upper_state_here();
         if info.n_converged_eigen >= nev && vals.iter().all(|v| v.is_finite()) {
             let mut order: Vec<usize> = (0..nev).collect();
             order.sort_by(|&a, &b| vals[b].total_cmp(&vals[a]).then(a.cmp(&b)));

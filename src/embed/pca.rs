@@ -61,6 +61,7 @@ impl Pca {
                     1.0,
                     Par::Seq,
                 );
+                crate::cpu::clear_upper_state_here();
                 c
             })
             // Block products are summed in block order, not in rayon's reduction tree, whose

@@ -20,7 +20,10 @@
 //! down, faer's single-vector `partial_self_adjoint_eigen`; λ = 1 + σ − 1/μ. If the factor would exceed
 //! its memory budget (heavy fill-in, as for the kNN graph of a noisy high-dimensional cloud) or
 //! the factorisation fails, Chebyshev-filtered subspace iteration on S itself
-//! ([`super::chebyshev`]) finds them to a residual of 10⁻¹⁰.
+//! ([`super::chebyshev`]) finds them to a residual of 10⁻¹⁰. The sequential ordering and
+//! symbolic analysis that decide whether the factor fits run beside the Chebyshev iteration,
+//! which gives up as soon as the factor is known to fit, so on two cores deciding costs little
+//! wall time; the answer used depends only on that decision, never on timing.
 
 use crate::error::{Error, Result};
 use crate::neighbours::Neighbors;
@@ -37,6 +40,7 @@ use faer::{Col, Conj, Mat, MatMut, MatRef, Par, Side};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Shift σ of the shift-invert transform.
 pub const SHIFT: f64 = 1e-5;
@@ -276,7 +280,7 @@ fn scale_sym(k: &mut SymCsr, f: &[f64]) {
 #[derive(Debug)]
 struct ShiftInvert {
     n: usize,
-    symbolic: SymbolicCholesky<usize>,
+    symbolic: SymbolicCholesky<u32>,
     values: Vec<f64>,
 }
 
@@ -293,12 +297,13 @@ impl LinOp<f64> for ShiftInvert {
     fn apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, st: &mut MemStack) {
         let mut out = out;
         out.copy_from(rhs);
-        LltRef::<usize, f64>::new(&self.symbolic, &self.values).solve_in_place_with_conj(
+        LltRef::<u32, f64>::new(&self.symbolic, &self.values).solve_in_place_with_conj(
             Conj::No,
             out,
             par,
             st,
         );
+        crate::cpu::clear_upper_state_here();
     }
     fn conj_apply(&self, out: MatMut<'_, f64>, rhs: MatRef<'_, f64>, par: Par, s: &mut MemStack) {
         self.apply(out, rhs, par, s);
@@ -310,18 +315,22 @@ const SPLIT: usize = 2;
 
 /// The lower triangle of A = (1+σ)I − S in compressed columns. S is symmetric with sorted
 /// rows, so the entries j ≥ i of its row i are, in order, the rows of column i of the lower
-/// triangle: no sort is needed.
-fn shifted_lower(s: &SymCsr) -> SparseColMat<usize, f64> {
+/// triangle: no sort is needed. Indices are 32-bit (half the memory of the ordering and the
+/// symbolic analysis); `None` when the matrix is too large for them.
+fn shifted_lower(s: &SymCsr) -> Option<SparseColMat<u32, f64>> {
+    if s.n >= u32::MAX as usize || s.nnz() >= u32::MAX as usize {
+        return None;
+    }
     let n = s.n;
     let mut col_ptr = Vec::with_capacity(n + 1);
     let mut row_idx = Vec::with_capacity(s.nnz() / 2 + n);
     let mut val = Vec::with_capacity(s.nnz() / 2 + n);
-    col_ptr.push(0);
+    col_ptr.push(0u32);
     for i in 0..n {
         for e in s.ptr[i]..s.ptr[i + 1] {
             let j = s.col[e];
             if j >= i {
-                row_idx.push(j);
+                row_idx.push(j as u32);
                 val.push(if j == i {
                     1.0 + SHIFT - s.val[e]
                 } else {
@@ -329,15 +338,16 @@ fn shifted_lower(s: &SymCsr) -> SparseColMat<usize, f64> {
                 });
             }
         }
-        col_ptr.push(row_idx.len());
+        col_ptr.push(row_idx.len() as u32);
     }
     let symbolic = SymbolicSparseColMat::new_checked(n, n, col_ptr, None, row_idx);
-    SparseColMat::new(symbolic, val)
+    Some(SparseColMat::new(symbolic, val))
 }
 
 /// Sparse Cholesky factor of the lower triangle `a`, or `None` when the factor would exceed
 /// `budget` stored values or the factorisation fails.
-fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
+/// `fits` is set as soon as the symbolic analysis finds the factor within its budget.
+fn factor(a: &SparseColMat<u32, f64>, budget: usize, fits: &AtomicBool) -> Option<ShiftInvert> {
     let symbolic = factorize_symbolic_cholesky(
         a.symbolic(),
         Side::Lower,
@@ -349,6 +359,7 @@ fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
     if len > budget {
         return None;
     }
+    fits.store(true, Ordering::Relaxed);
     // Sequential on purpose: parallel supernode updates sum in an order that depends on the
     // thread count, and the eigenvalues then differ in their last bits between `--jobs` values.
     let par = Par::Seq;
@@ -367,6 +378,7 @@ fn factor(a: &SparseColMat<usize, f64>, budget: usize) -> Option<ShiftInvert> {
             Default::default(),
         )
         .ok()?;
+    crate::cpu::clear_upper_state_here();
     Some(ShiftInvert {
         n: a.nrows(),
         symbolic,
@@ -412,6 +424,7 @@ pub(crate) fn top_dense_seq(a: &Mat<f64>, nev: usize) -> Result<(Vec<f64>, Mat<f
         Default::default(),
     )
     .map_err(|e| Error::Analysis(format!("diffusion map eigensolver failed: {e:?}")))?;
+    crate::cpu::clear_upper_state_here();
     let vals = vals.column_vector();
     // Dense eigenvalues come in non-decreasing order.
     let values: Vec<f64> = (0..nev.min(n)).map(|l| vals[n - 1 - l]).collect();
@@ -493,12 +506,13 @@ fn run_block(
         let mut m = Mat::<f64>::from_fn(n, q, |i, j| x[i * p + j0 + j]);
         let mut mem = MemBuffer::try_new(scratch)
             .map_err(|_| Error::Analysis("shift-invert solve: out of memory".into()))?;
-        LltRef::<usize, f64>::new(&op.symbolic, &op.values).solve_in_place_with_conj(
+        LltRef::<u32, f64>::new(&op.symbolic, &op.values).solve_in_place_with_conj(
             Conj::No,
             m.as_mut(),
             Par::Seq,
             MemStack::new(&mut mem),
         );
+        crate::cpu::clear_upper_state_here();
         Ok(m)
     };
     let apply = |x: &[f64]| -> Result<Vec<f64>> {
@@ -524,6 +538,19 @@ fn run_block(
 /// The `nev` largest eigenpairs of S (see the module notes). Errors: the solver does not
 /// converge, or `nev` exceeds the size.
 pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
+    // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
+    // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
+    // the Chebyshev-filtered iteration on S is cheaper.
+    top_eigen_sparse_within(s, nev, seed, (FILL_FACTOR * s.nnz()).max(1 << 20))
+}
+
+/// [`top_eigen_sparse`] with the Cholesky factor's budget (stored values) given.
+pub(crate) fn top_eigen_sparse_within(
+    s: &SymCsr,
+    nev: usize,
+    seed: u64,
+    budget: usize,
+) -> Result<TopEigen> {
     let n = s.n;
     if nev > n {
         return Err(Error::Analysis(format!(
@@ -543,11 +570,16 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
         let (values, vectors) = top_dense_seq(&dense, nev)?;
         return finish(s, values, vectors, Solver::Dense);
     }
-    // Budget for the Cholesky factor: FILL_FACTOR times the stored entries of S, at least
-    // 1 million values; above it (heavy fill-in, e.g. a kNN graph of a high-dimensional cloud)
-    // the Chebyshev-filtered iteration on S is cheaper.
-    let budget = (FILL_FACTOR * s.nnz()).max(1 << 20);
-    let llt = factor(&shifted_lower(s), budget);
+    // The ordering and symbolic analysis that decide whether the factor fits are sequential,
+    // and so is the numeric factorisation; the Chebyshev iteration runs beside them on the
+    // other threads and gives up as soon as the factor is known to fit. Which solver's answer
+    // is used depends only on the symbolic analysis, so the result does not depend on timing
+    // or on the thread count (with one thread the two run one after the other).
+    let fits = AtomicBool::new(false);
+    let (llt, beside) = rayon::join(
+        || shifted_lower(s).and_then(|a| factor(&a, budget, &fits)),
+        || super::chebyshev::top_eigen_chebyshev_unless(s, nev, seed, CHEBYSHEV_TOLERANCE, &fits),
+    );
     let mut work = (0, f64::NAN);
     let (values, vectors, solver) = match llt {
         Some(op) => {
@@ -569,7 +601,12 @@ pub fn top_eigen_sparse(s: &SymCsr, nev: usize, seed: u64) -> Result<TopEigen> {
             (lam, v, Solver::ShiftInvert)
         }
         None => {
-            let r = super::chebyshev::top_eigen_chebyshev(s, nev, seed, CHEBYSHEV_TOLERANCE)?;
+            // Stopped only when the symbolic analysis fitted but the numeric factorisation
+            // then failed: run it again to the end.
+            let r = match (fits.load(Ordering::Relaxed), beside?) {
+                (false, Some(r)) => r,
+                _ => super::chebyshev::top_eigen_chebyshev(s, nev, seed, CHEBYSHEV_TOLERANCE)?,
+            };
             work = (r.products, r.lower_bound);
             (r.values, r.vectors, Solver::Chebyshev)
         }
@@ -682,12 +719,55 @@ mod tests {
     }
 
     #[test]
+    fn either_solver_has_the_same_bits_for_one_and_two_threads() {
+        // The Cholesky attempt and the Chebyshev iteration run side by side; which answer is
+        // used depends only on whether the factor fits its budget, never on which finishes
+        // first. A budget of 0 forces the Chebyshev answer, a large one the shift-invert one;
+        // each must have the same bits in pools of 1 and 2 threads, and the two must agree
+        // (residuals ≤ 1e-10, so eigenvalues to about 1e-9 on this graph's gaps).
+        // 1500 seeded points in the unit square, 10 neighbours: a connected graph whose top
+        // eigenvalues are apart by about 10⁻², so both solvers converge in a few rounds.
+        let mut rng = ChaCha8Rng::seed_from_u64(4);
+        let xy: Vec<f64> = (0..3000).map(|_| rng.gen::<f64>()).collect();
+        let pts = crate::points::Points::new(1500, 2, xy).unwrap();
+        let nb = crate::neighbours::knn(&pts, &pts, 11).unwrap();
+        let mut s = kernel_graph(&nb, &|_, _| 0.01);
+        normalise(&mut s, 1.0);
+        let run = |threads: usize, budget: usize| {
+            rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap()
+                .install(|| top_eigen_sparse_within(&s, 4, 5, budget).unwrap())
+        };
+        for budget in [0, 1 << 30] {
+            let (a, b) = (run(1, budget), run(2, budget));
+            let want = if budget == 0 {
+                Solver::Chebyshev
+            } else {
+                Solver::ShiftInvert
+            };
+            assert_eq!((a.solver, b.solver), (want, want));
+            assert_eq!(a.values, b.values);
+            for j in 0..4 {
+                for i in 0..s.n {
+                    assert_eq!(a.vectors[(i, j)].to_bits(), b.vectors[(i, j)].to_bits());
+                }
+            }
+        }
+        let (c, f) = (run(2, 0), run(2, 1 << 30));
+        for (x, y) in c.values.iter().zip(&f.values) {
+            assert!((x - y).abs() < 1e-9, "{x} vs {y}");
+        }
+    }
+
+    #[test]
     fn shifted_lower_triangle_holds_one_plus_shift_minus_s() {
         // A = (1+σ)I − S, lower triangle (definition in the module notes).
         let (_, nb) = line_table(200, 9);
         let mut s = kernel_graph(&nb, &|_, _| 0.01);
         normalise(&mut s, 1.0);
-        let a = shifted_lower(&s);
+        let a = shifted_lower(&s).unwrap();
         let mut count = 0;
         for (i, j, v) in a.triplet_iter().map(|t| (t.row, t.col, *t.val)) {
             assert!(i >= j);

@@ -69,6 +69,7 @@ pub(super) fn table(
                     1.0,
                     Par::Seq,
                 );
+                crate::cpu::clear_upper_state_here();
                 for (i, top) in tops.iter_mut().enumerate() {
                     let qi = qn[q0 + i];
                     let own = if exclude_self { q0 + i } else { usize::MAX };
