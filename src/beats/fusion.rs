@@ -269,9 +269,10 @@ pub fn detect_leads_with(
 
 /// Parameters of the two-lead vote fusion ([`detect_leads`] with several leads).
 ///
-/// Chosen on MIT-BIH records with synthetic electrode-motion-like noise added (not on the noise
-/// stress test records) under the constraint that MIT-BIH pooled Se and +P stay ≥ 99.6 % on the
-/// clean records other than 118 and 119; see docs/validation-noise.md.
+/// Chosen on MIT-BIH records with synthetic electrode-motion-like, recorded muscle and
+/// baseline, and beat-like motion noise added (not on the noise stress test records) under the
+/// constraint that MIT-BIH pooled Se and +P stay ≥ 99.6 % on the clean records other than 118
+/// and 119; see scripts/fusion_dev/README.md and docs/validation-noise.md.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
 pub struct VoteParams {
@@ -303,6 +304,7 @@ pub struct VoteParams {
     /// stays below `rr_merge_ratio` of the median, is dropped when its similarity to the earlier
     /// clean beats is below `morph_similarity` (the RR-context test reaches such beats only
     /// without a majority of the lists; an artefact shaped like a beat on both leads has one).
+    /// Default true.
     pub morph_clean_split: bool,
     /// Half-length of the compared beat segment, seconds. Default 0.08.
     pub morph_half_s: f64,
@@ -316,7 +318,7 @@ pub struct VoteParams {
     /// Clean-window beats of one shape needed before the shape serves as a template. Default 3.
     pub morph_class_min: usize,
     /// Weight each lead's correlation by the agreement bSQI of its two detectors in the window.
-    /// Default false (see [`VoteParams::dev_best`]).
+    /// Default true.
     pub morph_quality_weight: bool,
     /// Search-back: in an RR interval longer than this multiple of the local median RR, the
     /// candidate with the highest similarity (at least `searchback_similarity`) among the beats
@@ -329,7 +331,7 @@ pub struct VoteParams {
     pub searchback_similarity: f64,
     /// After a candidate fills a long RR interval, its two parts are searched again while they
     /// are still longer than `searchback_ratio` times the median, down to this many candidates
-    /// per interval (1: one candidate per interval). Default 1 (see [`VoteParams::dev_best`]).
+    /// per interval (1: one candidate per interval). Default 8.
     pub searchback_depth: usize,
 }
 
@@ -343,29 +345,30 @@ impl Default for VoteParams {
             rr_merge_ratio: 1.3,
             morph_similarity: 0.8,
             morph_rr_ratio: 0.9,
-            morph_clean_split: false,
+            morph_clean_split: true,
             morph_half_s: 0.08,
             morph_lag_s: 0.02,
             morph_bank: 16,
             morph_classes: 0,
             morph_class_min: 3,
-            morph_quality_weight: false,
+            morph_quality_weight: true,
             searchback_ratio: 1.5,
             searchback_lists: 2,
             searchback_similarity: 0.8,
-            searchback_depth: 1,
+            searchback_depth: 8,
         }
     }
 }
 
 impl VoteParams {
-    /// The setting with the fewest false plus missed beats on the development records of
-    /// `scripts/fusion_dev/` (`morph3.py`): search-back 4 candidates deep, up to 8 beat shapes
-    /// of at least 3 clean beats, leads weighted by their bSQI. Not the default: on the noise
-    /// stress test it trades false detections for missed beats beyond the +P target
-    /// (docs/validation-noise.md).
+    /// The setting with the fewest false plus missed beats on the first two development noises
+    /// of `scripts/fusion_dev/` (`morph3.py`): search-back 4 candidates deep, up to 8 beat
+    /// shapes of at least 3 clean beats, leads weighted by their bSQI, no split check in clean
+    /// windows. Not the default: on the noise stress test it trades false detections for missed
+    /// beats beyond the +P target (docs/validation-noise.md).
     pub fn dev_best() -> Self {
         VoteParams {
+            morph_clean_split: false,
             searchback_depth: 4,
             morph_classes: 8,
             morph_class_min: 3,
@@ -1106,7 +1109,10 @@ mod tests {
         };
         let back = search_back(run.clone(), &truth[40..43], &m, &deep);
         assert_eq!(back, truth);
-        let one = VoteParams::default();
+        let one = VoteParams {
+            searchback_depth: 1,
+            ..VoteParams::default()
+        };
         assert_eq!(search_back(run.clone(), &truth[40..43], &m, &one).len(), 58);
     }
 
@@ -1151,12 +1157,13 @@ mod tests {
         want.insert(46, like);
         assert_eq!(out, want);
         // Outside clean windows the check does nothing (the morphology check's domain), and
-        // switched off (the default) it keeps every beat.
+        // switched off it keeps every beat.
         assert_eq!(clean_split_check(&b, |_| false, &m, &on), b);
-        assert_eq!(
-            clean_split_check(&b, |_| true, &m, &VoteParams::default()),
-            b
-        );
+        let off = VoteParams {
+            morph_clean_split: false,
+            ..VoteParams::default()
+        };
+        assert_eq!(clean_split_check(&b, |_| true, &m, &off), b);
         // An early unlike beat followed by a long pause (coupling 0.6, pause 1.4 of the cycle,
         // the RR without it twice the cycle) is not a split: kept.
         let early = truth[19] + (6 * (truth[20] - truth[19])) / 10;
