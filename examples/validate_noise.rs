@@ -309,7 +309,7 @@ fn main() -> anyhow::Result<()> {
         ""
     };
     let split = if vote.morph_clean_split {
-        " (and, in clean windows, a beat that splits a normal RR interval into two short ones by the RR-context ratios and is that unlike them)"
+        " (the same test is also applied, in clean windows, to a beat that splits a normal RR interval into two short ones by the RR-context ratios)"
     } else {
         ""
     };
