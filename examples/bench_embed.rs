@@ -13,7 +13,7 @@
 //! seconds and the process's CPU seconds (less disturbed by other work on a shared machine).
 //!
 //! The fit with the library's defaults prints the wall and CPU seconds of each of its phases
-//! (`diffusion_map_observed`).
+//! (`diffusion_map_observed`) and the process's peak resident memory when each phase ends.
 //!
 //! With `--dump DIR` the windows are also written to `DIR/points.f64` (row-major little-endian
 //! float64, N × 64) and the fit's seconds to `DIR/beatfold.json`, for
@@ -159,11 +159,11 @@ fn main() -> anyhow::Result<()> {
     }
     let t_fit = std::time::Instant::now();
     // Phases of the fit as the library reports them (wall and CPU seconds of each).
-    let mut phases: Vec<(&str, f64, f64)> = Vec::new();
+    let mut phases: Vec<(&str, f64, f64, f64)> = Vec::new();
     let (mut t_last, mut c_last) = (Instant::now(), cpu_seconds());
     let mut on_phase = |name: &'static str| {
         let (t, c) = (Instant::now(), cpu_seconds());
-        phases.push((name, (t - t_last).as_secs_f64(), c - c_last));
+        phases.push((name, (t - t_last).as_secs_f64(), c - c_last, peak_rss_mib()));
         (t_last, c_last) = (t, c);
     };
     let e = time(
@@ -178,8 +178,8 @@ fn main() -> anyhow::Result<()> {
         || diffusion_map_observed(&pts, &Checked::new(p.clone())?, &mut on_phase),
     )?;
     let fit_s = t_fit.elapsed().as_secs_f64();
-    for (name, wall, cpu) in &phases {
-        println!("  phase {name:<20} {wall:>8.2} s  (CPU {cpu:.2} s)");
+    for (name, wall, cpu, peak) in &phases {
+        println!("  phase {name:<20} {wall:>8.2} s  (CPU {cpu:.2} s)  peak so far {peak:.0} MiB");
     }
     if let Some(dir) = &dump {
         dump::write_points(dir, &pts)?;
