@@ -401,6 +401,9 @@ pub struct VerdictEvidence {
     /// Median RR interval, seconds (NaN without intervals).
     #[serde(default = "nan")]
     pub median_rr_s: f64,
+    /// QRS match of the beats ([`super::qrs_match`]; NaN when not computed).
+    #[serde(default = "nan")]
+    pub qrs_match: f64,
 }
 
 fn nan() -> f64 {
@@ -586,11 +589,12 @@ pub fn evidence(
         turning_point_ratio: super::entropy::turning_point_ratio(&rr),
         delta_rr: super::drr::delta_rr(&rr),
         median_rr_s: median(rr.iter().copied()),
+        qrs_match: f64::NAN,
     }
 }
 
 /// Number of measures in [`score_features`].
-pub const SCORE_FEATURES: usize = 8;
+pub const SCORE_FEATURES: usize = 10;
 
 /// Names of the measures of [`score_features`], in order.
 pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
@@ -602,6 +606,8 @@ pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
     "log10_fwave_amplitude",
     "agreement",
     "ln_median_rr",
+    "fwave_organisation",
+    "qrs_match",
 ];
 
 /// The measures the irregular-rhythm score combines, in the order of [`SCORE_FEATURE_NAMES`]:
@@ -609,8 +615,11 @@ pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
 /// median successive difference, bin occupancy, share at the origin); the median P-wave index
 /// (0 when no template was accepted: no consistent P wave); the log10 relative f-wave amplitude
 /// after QRST cancellation ([`super::fwave`]); the beat agreement of the two detectors (low
-/// agreement: noise that mimics irregular RR); and the natural log of the median RR (rate).
-/// NaN where not computed.
+/// agreement: noise that mimics irregular RR); the natural log of the median RR (rate); the
+/// organisation index of the residual after QRST cancellation ([`super::fwave`], after Everett
+/// et al. 2001); and the QRS match of the beats ([`super::qrs_match`], a template-matching
+/// quality index after Orphanidou et al. 2015: one QRS shape with irregular RR against noise,
+/// misplaced detections or frequent ventricular ectopy). NaN where not computed.
 pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
     [
         e.cosen,
@@ -621,6 +630,8 @@ pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
         e.fwave.amplitude.log10(),
         e.agreement,
         e.median_rr_s.ln(),
+        e.fwave.organisation,
+        e.qrs_match,
     ]
 }
 
@@ -741,7 +752,7 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
     let varies = rr_varies(e, p);
     let episodes = screen_episodes(e, p);
     let mut reasons = vec![format!(
-        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, median successive RR difference {} of the median RR, ΔRR scatter occupancy {:.2} with {} of its points at the origin, P-wave index {:.2}{}, f-wave relative amplitude {:.3}, detector agreement {}, median RR {:.2} s",
+        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, median successive RR difference {} of the median RR, ΔRR scatter occupancy {:.2} with {} of its points at the origin, P-wave index {:.2}{}, f-wave relative amplitude {:.3} and organisation {:.2}, detector agreement {}, median RR {:.2} s, QRS match {:.2}",
         prob,
         p.score_min,
         e.cosen,
@@ -751,8 +762,10 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
         score_features(e)[4],
         if e.p_template { "" } else { " (no P-wave template)" },
         e.fwave.amplitude,
+        e.fwave.organisation,
         pct(e.agreement),
-        e.median_rr_s
+        e.median_rr_s,
+        e.qrs_match
     )];
     if episodes {
         reasons.push(format!(
