@@ -1014,6 +1014,30 @@ mod tests {
     }
 
     #[test]
+    fn a_poor_qrs_match_and_an_organised_residual_lower_the_score() {
+        use rand::{Rng, SeedableRng};
+        // Irregular RR without a P-wave template, as AF-like as above; the same record with a
+        // poor QRS match (QRS segments unlike their median: noise, misplaced detections or
+        // frequent ventricular ectopy, `rhythm::qrs_match`) or a residual concentrated on one
+        // frequency (organisation index near 1, `rhythm::fwave`) is less AF-like.
+        let p = VerdictParams::default();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(23);
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let mut e = ev(&af, f64::NAN);
+        e.qrs_match = 0.99;
+        e.fwave.organisation = 0.5;
+        let base = p.score.probability(&e);
+        let poor_match = VerdictEvidence {
+            qrs_match: 0.6,
+            ..e.clone()
+        };
+        assert!(p.score.probability(&poor_match) < base);
+        let mut organised = e.clone();
+        organised.fwave.organisation = 0.95;
+        assert!(p.score.probability(&organised) < base);
+    }
+
+    #[test]
     fn score_and_rule_agree_on_clear_cases_and_bad_coefficients_are_refused() {
         use rand::{Rng, SeedableRng};
         let score = VerdictParams::default();
