@@ -6,7 +6,9 @@
 //! score's threshold, and the out-of-fold verdicts of a nested cross-validation of the score's
 //! whole fit (`rhythm::score_fit::out_of_fold`); prints the wall time of the verdicts on stderr
 //! (not on the page, which must not change from run to run). Exits non-zero when a gate is given
-//! and missed; the gates apply to the out-of-fold numbers.
+//! and missed; the gates apply to the out-of-fold numbers. With the environment variable
+//! `VALIDATE_SHORT_DUMP` set, one CSV line per record follows the page on stdout (lines
+//! starting `row `, a header first): its evidence, in-sample and out-of-fold verdicts and scores.
 //! Labels default to DIR/REFERENCE.csv, mapped A=irregular,N=regular,O=other,~=unreadable.
 //! Research use only.
 
@@ -250,10 +252,13 @@ fn main() -> anyhow::Result<()> {
         beatfold::io::write_atomic(out, page.as_bytes())?;
     }
     if std::env::var_os("VALIDATE_SHORT_DUMP").is_some() {
-        for r in &rows {
+        println!(
+            "row record,label,verdict,cosen,nrmssd,agreement,flagged_fraction,p_template,p_wave_median,n_beats,geometry_index,off_base_share,plausible_beats,fwave_band_share,fwave_organisation,fwave_amplitude,score,qrs_match,drr_occupancy,organised_pattern,out_of_fold_verdict,out_of_fold_score"
+        );
+        for (k, r) in rows.iter().enumerate() {
             let e = &r.evidence;
             println!(
-                "row {},{},{},{:.4},{:.4},{:.4},{:.4},{},{:.4},{},{:.4},{:.4},{},{:.4},{:.4},{:.4},{:.4}",
+                "row {},{},{},{:.4},{:.4},{:.4},{:.4},{},{:.4},{},{:.4},{:.4},{},{:.4},{:.4},{:.4},{:.4},{:.4},{:.4},{},{},{:.4}",
                 r.record,
                 r.label,
                 r.verdict.class.name(),
@@ -270,7 +275,12 @@ fn main() -> anyhow::Result<()> {
                 e.fwave.band_share,
                 e.fwave.organisation,
                 e.fwave.amplitude,
-                p.verdict.score.probability(e)
+                p.verdict.score.probability(e),
+                e.qrs_match,
+                e.delta_rr.occupancy,
+                beatfold::rhythm::verdict::returns_to_base_cycle(e, &p.verdict),
+                oof_pairs[k].1.name(),
+                oof.prob[k]
             );
         }
     }
