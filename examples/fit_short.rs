@@ -89,8 +89,10 @@ fn main() -> anyhow::Result<()> {
     Ok(())
 }
 
-/// Measures computed for every record but not in the score: candidates for it.
-const CANDIDATE_NAMES: [&str; 7] = [
+/// Measures computed for every record, candidates for the score (those the score already uses
+/// are written once, among its measures).
+const CANDIDATE_NAMES: [&str; 8] = [
+    "fwave_organisation",
     "nrmssd",
     "off_base_share",
     "turning_point_ratio",
@@ -103,11 +105,17 @@ const CANDIDATE_NAMES: [&str; 7] = [
 /// One CSV line per record (see the module documentation); NaN is written `NaN`.
 fn dump_csv(rows: &[beatfold::verdicts::LabelledVerdict], fit: &[FitRow]) -> String {
     use std::fmt::Write as _;
+    let extra: Vec<usize> = (0..CANDIDATE_NAMES.len())
+        .filter(|&k| !SCORE_FEATURE_NAMES.contains(&CANDIDATE_NAMES[k]))
+        .collect();
     let mut s = String::from("record,label,irregular,base_cycle");
     for m in AGREEMENT_GRID {
         let _ = write!(s, ",readable_{m}");
     }
-    for n in SCORE_FEATURE_NAMES.iter().chain(CANDIDATE_NAMES.iter()) {
+    for n in SCORE_FEATURE_NAMES
+        .iter()
+        .chain(extra.iter().map(|&k| &CANDIDATE_NAMES[k]))
+    {
         let _ = write!(s, ",{n}");
     }
     s.push('\n');
@@ -121,6 +129,7 @@ fn dump_csv(rows: &[beatfold::verdicts::LabelledVerdict], fit: &[FitRow]) -> Str
             0.0
         };
         let cand = [
+            e.fwave.organisation,
             e.nrmssd,
             e.off_base_share,
             e.turning_point_ratio,
@@ -137,7 +146,7 @@ fn dump_csv(rows: &[beatfold::verdicts::LabelledVerdict], fit: &[FitRow]) -> Str
         for b in f.readable {
             let _ = write!(s, ",{}", b as u8);
         }
-        for v in f.x.iter().chain(cand.iter()) {
+        for v in f.x.iter().chain(extra.iter().map(|&k| &cand[k])) {
             let _ = write!(s, ",{v}");
         }
         s.push('\n');
