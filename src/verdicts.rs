@@ -62,6 +62,7 @@ pub fn verdict_of_beats(
         &p.verdict,
     );
     e.fwave = crate::rhythm::fwave::fwave(&b.conditioned, samples, rec.fs_hz);
+    e.qrs_match = crate::rhythm::qrs_match::qrs_match(&b.conditioned, samples, rec.fs_hz);
     Ok((decide(&e, &p.verdict), e))
 }
 

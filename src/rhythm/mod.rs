@@ -11,6 +11,7 @@ pub mod drr;
 pub mod entropy;
 pub mod fwave;
 pub mod label_score;
+pub mod qrs_match;
 pub mod recurrence;
 pub mod score_fit;
 pub mod screen;

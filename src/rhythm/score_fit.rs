@@ -314,8 +314,14 @@ pub struct OutOfFold {
 /// Nested cross-validation: for each of [`OUTER_FOLDS`] stratified folds (seed [`FOLD_SEED`]),
 /// [`choose_and_fit`] on the other folds and the held-out rows' probabilities under it.
 pub fn out_of_fold(rows: &[FitRow]) -> OutOfFold {
+    out_of_fold_seeded(rows, FOLD_SEED)
+}
+
+/// [`out_of_fold`] with the outer folds drawn by `seed` (the inner folds of outer fold f by
+/// `seed + 1 + f`): another draw of the same estimate, to see how much it depends on the folds.
+pub fn out_of_fold_seeded(rows: &[FitRow], seed: u64) -> OutOfFold {
     let truth: Vec<bool> = rows.iter().map(|r| r.irregular).collect();
-    let folds = stratified_folds(&truth, OUTER_FOLDS, FOLD_SEED);
+    let folds = stratified_folds(&truth, OUTER_FOLDS, seed);
     let mut prob = vec![0.0; rows.len()];
     let mut call = vec![false; rows.len()];
     let mut choices = Vec::with_capacity(OUTER_FOLDS);
@@ -326,7 +332,7 @@ pub fn out_of_fold(rows: &[FitRow]) -> OutOfFold {
             .filter(|(_, &g)| g != f)
             .map(|(r, _)| r)
             .collect();
-        let c = choose_and_fit(&train, FOLD_SEED + 1 + f as u64);
+        let c = choose_and_fit(&train, seed + 1 + f as u64);
         let a = AGREEMENT_GRID
             .iter()
             .position(|&m| m == c.min_agreement_plausible)

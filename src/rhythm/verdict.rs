@@ -401,6 +401,9 @@ pub struct VerdictEvidence {
     /// Median RR interval, seconds (NaN without intervals).
     #[serde(default = "nan")]
     pub median_rr_s: f64,
+    /// QRS match of the beats ([`super::qrs_match`]; NaN when not computed).
+    #[serde(default = "nan")]
+    pub qrs_match: f64,
 }
 
 fn nan() -> f64 {
@@ -586,11 +589,12 @@ pub fn evidence(
         turning_point_ratio: super::entropy::turning_point_ratio(&rr),
         delta_rr: super::drr::delta_rr(&rr),
         median_rr_s: median(rr.iter().copied()),
+        qrs_match: f64::NAN,
     }
 }
 
 /// Number of measures in [`score_features`].
-pub const SCORE_FEATURES: usize = 8;
+pub const SCORE_FEATURES: usize = 13;
 
 /// Names of the measures of [`score_features`], in order.
 pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
@@ -602,6 +606,11 @@ pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
     "log10_fwave_amplitude",
     "agreement",
     "ln_median_rr",
+    "fwave_dominant_hz",
+    "qrs_match",
+    "off_base_share",
+    "turning_point_ratio",
+    "nrmssd",
 ];
 
 /// The measures the irregular-rhythm score combines, in the order of [`SCORE_FEATURE_NAMES`]:
@@ -609,8 +618,14 @@ pub const SCORE_FEATURE_NAMES: [&str; SCORE_FEATURES] = [
 /// median successive difference, bin occupancy, share at the origin); the median P-wave index
 /// (0 when no template was accepted: no consistent P wave); the log10 relative f-wave amplitude
 /// after QRST cancellation ([`super::fwave`]); the beat agreement of the two detectors (low
-/// agreement: noise that mimics irregular RR); and the natural log of the median RR (rate).
-/// NaN where not computed.
+/// agreement: noise that mimics irregular RR); the natural log of the median RR (rate); the
+/// dominant frequency of the residual after QRST cancellation, 3–12 Hz ([`super::fwave`]); the
+/// QRS match of the beats ([`super::qrs_match`], a template-matching quality index after
+/// Orphanidou et al. 2015: one QRS shape with irregular RR against noise,
+/// misplaced detections or frequent ventricular ectopy); the share of RR intervals off the base
+/// cycle ([`off_base_share`]); the turning-point ratio of RR ([`super::entropy::turning_point_ratio`]);
+/// and nRMSSD. The last five were chosen by forward selection over the nested cross-validation
+/// (`scripts/short_measure_selection.py`). NaN where not computed.
 pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
     [
         e.cosen,
@@ -621,6 +636,11 @@ pub fn score_features(e: &VerdictEvidence) -> [f64; SCORE_FEATURES] {
         e.fwave.amplitude.log10(),
         e.agreement,
         e.median_rr_s.ln(),
+        e.fwave.dominant_hz,
+        e.qrs_match,
+        e.off_base_share,
+        e.turning_point_ratio,
+        e.nrmssd,
     ]
 }
 
@@ -741,7 +761,7 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
     let varies = rr_varies(e, p);
     let episodes = screen_episodes(e, p);
     let mut reasons = vec![format!(
-        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, median successive RR difference {} of the median RR, ΔRR scatter occupancy {:.2} with {} of its points at the origin, P-wave index {:.2}{}, f-wave relative amplitude {:.3}, detector agreement {}, median RR {:.2} s",
+        "irregular-rhythm score {:.2} (threshold {:.2}) from COSEn {:.2}, median successive RR difference {} of the median RR, ΔRR scatter occupancy {:.2} with {} of its points at the origin, P-wave index {:.2}{}, f-wave relative amplitude {:.3} and dominant frequency {:.1} Hz, detector agreement {}, median RR {:.2} s, QRS match {:.2}, {} of RR off the base cycle, turning-point ratio {:.2}, nRMSSD {:.3}",
         prob,
         p.score_min,
         e.cosen,
@@ -751,8 +771,13 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
         score_features(e)[4],
         if e.p_template { "" } else { " (no P-wave template)" },
         e.fwave.amplitude,
+        e.fwave.dominant_hz,
         pct(e.agreement),
-        e.median_rr_s
+        e.median_rr_s,
+        e.qrs_match,
+        pct(e.off_base_share),
+        e.turning_point_ratio,
+        e.nrmssd
     )];
     if episodes {
         reasons.push(format!(
@@ -998,6 +1023,31 @@ mod tests {
             assert_ne!(v.class, VerdictClass::Irregular, "{name}: {:?}", v.reasons);
             assert_eq!(v.class, VerdictClass::Other, "{name}: {:?}", v.reasons);
         }
+    }
+
+    #[test]
+    fn a_poor_qrs_match_and_a_slow_residual_lower_the_score() {
+        use rand::{Rng, SeedableRng};
+        // Irregular RR without a P-wave template, as AF-like as above; the same record with a
+        // poor QRS match (QRS segments unlike their median: noise, misplaced detections or
+        // frequent ventricular ectopy, `rhythm::qrs_match`) or a residual whose dominant
+        // frequency is at the 3 Hz floor rather than in the 4–9 Hz band of fibrillatory waves
+        // (`rhythm::fwave`) is less AF-like.
+        let p = VerdictParams::default();
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(23);
+        let af: Vec<f64> = (0..40).map(|_| rng.gen_range(0.4..1.1)).collect();
+        let mut e = ev(&af, f64::NAN);
+        e.qrs_match = 0.99;
+        e.fwave.dominant_hz = 6.0;
+        let base = p.score.probability(&e);
+        let poor_match = VerdictEvidence {
+            qrs_match: 0.6,
+            ..e.clone()
+        };
+        assert!(p.score.probability(&poor_match) < base);
+        let mut slow = e.clone();
+        slow.fwave.dominant_hz = 3.0;
+        assert!(p.score.probability(&slow) < base);
     }
 
     #[test]
