@@ -115,6 +115,7 @@ pub(super) struct Compact {
 
 impl Compact {
     /// Errors: more than 2³² − 1 rows.
+    #[cfg(test)]
     fn of(s: SymCsr) -> Result<Compact> {
         let col = s
             .col
@@ -132,6 +133,45 @@ impl Compact {
             ptr: s.ptr,
             col,
             val: s.val,
+            val32,
+        })
+    }
+
+    /// S renumbered by `order` (row `new` is old row `order[new]`, columns sorted), built
+    /// directly in this form: the same matrix as [`permuted`] followed by [`Compact::of`],
+    /// without the 64-bit copy in between. Errors: more than 2³² − 1 rows.
+    fn permuted(s: &SymCsr, order: &[usize]) -> Result<Compact> {
+        let n = s.n;
+        if n > u32::MAX as usize {
+            return Err(Error::Analysis(format!(
+                "Chebyshev eigensolver: {n} rows exceed 32-bit indices"
+            )));
+        }
+        let mut pos = vec![0u32; n];
+        for (new, &old) in order.iter().enumerate() {
+            pos[old] = new as u32;
+        }
+        let mut ptr = Vec::with_capacity(n + 1);
+        let mut col = Vec::with_capacity(s.col.len());
+        let mut val = Vec::with_capacity(s.val.len());
+        let mut val32 = Vec::with_capacity(s.val.len());
+        ptr.push(0);
+        let mut row: Vec<(u32, f64)> = Vec::new();
+        for &old in order {
+            row.clear();
+            row.extend((s.ptr[old]..s.ptr[old + 1]).map(|e| (pos[s.col[e]], s.val[e])));
+            row.sort_by_key(|&(c, _)| c);
+            for &(c, v) in &row {
+                col.push(c);
+                val.push(v);
+                val32.push(v as f32);
+            }
+            ptr.push(col.len());
+        }
+        Ok(Compact {
+            ptr,
+            col,
+            val,
             val32,
         })
     }
@@ -632,6 +672,7 @@ fn rcm_order(s: &SymCsr) -> Vec<usize> {
 }
 
 /// S with rows and columns renumbered: new index of old `i` is `pos[i]`.
+#[cfg(test)]
 fn permuted(s: &SymCsr, order: &[usize]) -> SymCsr {
     let n = s.n;
     let mut pos = vec![0usize; n];
@@ -746,7 +787,7 @@ pub(super) fn top_eigen_chebyshev_unless(
     if stop.load(Ordering::Relaxed) {
         return Ok(None);
     }
-    let sp = permuted(s, &order);
+    let sp = Compact::permuted(s, &order)?;
     let Some(mut r) = solve(sp, nev, seed, tol, stop)? else {
         return Ok(None);
     };
@@ -762,13 +803,13 @@ pub(super) fn top_eigen_chebyshev_unless(
 
 /// [`top_eigen_chebyshev`] on an already reordered S.
 fn solve(
-    sym: SymCsr,
+    compact: Compact,
     nev: usize,
     seed: u64,
     tol: f64,
     stop: &AtomicBool,
 ) -> Result<Option<ChebyshevEigen>> {
-    let n = sym.n;
+    let n = compact.ptr.len() - 1;
     let guard = (nev / 2).max(8);
     let b = block_width(nev + guard);
     if nev == 0 || 2 * b > n {
@@ -776,16 +817,21 @@ fn solve(
             "Chebyshev eigensolver: {nev} eigenpairs (block of {b}) asked of a {n}-point graph"
         )));
     }
-    let s = &Compact::of(sym)?;
+    let s = &compact;
     let mut rng = ChaCha8Rng::seed_from_u64(seed ^ 0xc4eb_5e1f);
     let mut l = lower_bound(s, n, &mut rng)?;
     if stop.load(Ordering::Relaxed) {
         return Ok(None);
     }
-    let mut x: Vec<f64> = (0..n * b).map(|_| rng.gen::<f64>() - 0.5).collect();
+    // The random start, held in f32 for the first round (the blocks x and S·x exist from the
+    // first Rayleigh–Ritz step on), so that little memory is held while a Cholesky analysis
+    // may run beside this iteration.
+    let mut start: Vec<f32> = (0..n * b)
+        .map(|_| (rng.gen::<f64>() - 0.5) as f32)
+        .collect();
+    let (mut x, mut y): (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
     // First cut: damp the lower half of [l, 1] until Ritz values are known.
     let mut u = 0.5 * (l + 1.0);
-    let mut y = vec![0.0; n * b];
     let mut products = 0;
     let mut ritz: Option<Vec<f64>> = None;
     for _ in 0..MAX_ITER {
@@ -799,7 +845,7 @@ fn solve(
         let (mut cur, prev) = match &ritz {
             Some(theta) => (defect_filter(s, &x, y, theta, b, m, c, e, stop), x),
             None => {
-                let x32: Vec<f32> = x.iter().map(|&v| v as f32).collect();
+                let x32 = std::mem::take(&mut start);
                 drop((x, y));
                 let (f, spare) = filter(s, x32, vec![0.0; n * b], b, m, c, e, stop);
                 drop(spare);
@@ -1054,6 +1100,13 @@ mod tests {
                 .unwrap()
         };
         let p = permuted(&s, &order);
+        // The compact form built directly holds the same entries, bit for bit.
+        let direct = Compact::permuted(&s, &order).unwrap();
+        let via = Compact::of(p.clone()).unwrap();
+        assert_eq!(direct.ptr, via.ptr);
+        assert_eq!(direct.col, via.col);
+        assert_eq!(direct.val, via.val);
+        assert_eq!(direct.val32, via.val32);
         assert!(band(&s) > 500, "shuffled bandwidth {}", band(&s));
         assert!(band(&p) <= 8, "reordered bandwidth {}", band(&p));
         // Same entries, renumbered: the row sums are a permutation of the originals.
