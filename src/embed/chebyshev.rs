@@ -865,17 +865,23 @@ fn solve(
         }
         cur.iter_mut().for_each(|v| *v /= scale);
         // Orthonormalise twice, refilling lost directions with seeded random columns.
+        // (Each block is dropped as soon as it is used up, so that at most three n × b blocks
+        // are held at a time here.)
         let (q, w) = svqb(&cur, b)?;
+        drop(cur);
         let q = refill(q, n, w, b, &mut rng);
-        let (q, w) = svqb(&q, b)?;
-        let q = refill(q, n, w, b, &mut rng);
+        let (q2, w) = svqb(&q, b)?;
+        drop(q);
+        let q = refill(q2, n, w, b, &mut rng);
         // Rayleigh–Ritz.
         let mut sq = prev;
         cheb_step(s, &q, &mut sq, b, 0.0, 1.0, true); // S·q
         let h = gram(&q, &sq, b);
         let (theta, u_small) = small_eigen(&h, b)?;
         let v = rotate(&q, b, &u_small, b);
+        drop(q);
         let sv = rotate(&sq, b, &u_small, b);
+        drop(sq);
         // Residuals of the wanted pairs.
         let mut worst = 0.0f64;
         for (j, &th) in theta.iter().enumerate().take(nev) {
