@@ -148,7 +148,7 @@ def f1(tp, fp, fn):
 def choose_and_fit(x, y, fit_ok, seed, rule):
     folds = stratified_folds(y, INNER_FOLDS, seed)
     best, best_key = None, None
-    for a in range(len(READABILITY_RULES)):
+    for a in range(fit_ok.shape[1]):
         for ridge in RIDGE_GRID:
             prob = np.zeros(len(y))
             for f in range(INNER_FOLDS):
