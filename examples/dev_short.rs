@@ -379,8 +379,11 @@ fn main() -> anyhow::Result<()> {
         w,
         "\n## Detector agreement\n\nBelow `min_agreement` ({}) a record is read when the \
          detectors agree on at least `min_agreement_plausible` of the beats and the beats used \
-         have every RR within 0.25–3 s; {} turns this off. Every other parameter at its default.\n",
+         have every RR within 0.25–3 s and the lead's kurtosis (kSQI) is at least \
+         `min_kurtosis_plausible` ({}; 0 is off); {} turns this off. Every other parameter at \
+         its default.\n",
         VerdictParams::default().min_agreement,
+        VerdictParams::default().min_kurtosis_plausible,
         VerdictParams::default().min_agreement
     )?;
     writeln!(

@@ -6,11 +6,11 @@
 //!
 //! Every record's evidence is computed at the default parameters (the evidence does not depend
 //! on the score), then `rhythm::score_fit::choose_and_fit` chooses the readability rule
-//! `min_agreement_plausible`, the L2 penalty and the threshold by inner cross-validation and
+//! (`min_agreement_plausible`, `min_kurtosis_plausible`), the L2 penalty and the threshold by inner cross-validation and
 //! fits the logistic score on every readable record.
 //! Without `--out` the file is printed. With `--dump FILE.csv` every record's measures are also
 //! written, one line per record: the score's measures, the readability under each rule of
-//! `AGREEMENT_GRID`, the organised-pattern rule, the label, and further candidate measures the
+//! `READABILITY_RULES` (columns `readable_AGREEMENT_kKURTOSIS`), the organised-pattern rule, the label, and further candidate measures the
 //! score does not use (the input of `scripts/short_measure_selection.py`). After a change upstream (beat detection, P-wave index,
 //! f-wave measures) run this command again, then `validate_short` for the page. Research use
 //! only.
@@ -18,7 +18,9 @@
 use beatfold::params::Checked;
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::rhythm::label_score::{read_labels, LabelMap};
-use beatfold::rhythm::score_fit::{choose_and_fit, FitRow, ScoreFile, AGREEMENT_GRID, FOLD_SEED};
+use beatfold::rhythm::score_fit::{
+    choose_and_fit, FitRow, ScoreFile, FOLD_SEED, READABILITY_RULES,
+};
 use beatfold::rhythm::verdict::SCORE_FEATURE_NAMES;
 use std::path::PathBuf;
 
@@ -66,6 +68,7 @@ fn main() -> anyhow::Result<()> {
         ridge: c.ridge,
         score_min: c.score_min,
         min_agreement_plausible: c.min_agreement_plausible,
+        min_kurtosis_plausible: c.min_kurtosis_plausible,
         features: SCORE_FEATURE_NAMES.iter().map(|s| s.to_string()).collect(),
         score: c.score,
     };
@@ -73,10 +76,11 @@ fn main() -> anyhow::Result<()> {
     // The file must load as the library will load it.
     ScoreFile::parse(&text, "the fitted file")?;
     eprintln!(
-        "{} records ({} irregular): min_agreement_plausible {}, ridge {}, score_min {}, inner cross-validated F1 {:.3}; {:.1} s (wall)",
+        "{} records ({} irregular): min_agreement_plausible {}, min_kurtosis_plausible {}, ridge {}, score_min {}, inner cross-validated F1 {:.3}; {:.1} s (wall)",
         file.records,
         file.irregular,
         file.min_agreement_plausible,
+        file.min_kurtosis_plausible,
         file.ridge,
         file.score_min,
         c.inner_f1,
@@ -91,7 +95,7 @@ fn main() -> anyhow::Result<()> {
 
 /// Measures computed for every record, candidates for the score (those the score already uses
 /// are written once, among its measures).
-const CANDIDATE_NAMES: [&str; 8] = [
+const CANDIDATE_NAMES: [&str; 9] = [
     "fwave_organisation",
     "nrmssd",
     "off_base_share",
@@ -100,6 +104,7 @@ const CANDIDATE_NAMES: [&str; 8] = [
     "fwave_dominant_hz",
     "p_wave_segment_share",
     "flagged_fraction",
+    "kurtosis",
 ];
 
 /// One CSV line per record (see the module documentation); NaN is written `NaN`.
@@ -109,8 +114,8 @@ fn dump_csv(rows: &[beatfold::verdicts::LabelledVerdict], fit: &[FitRow]) -> Str
         .filter(|&k| !SCORE_FEATURE_NAMES.contains(&CANDIDATE_NAMES[k]))
         .collect();
     let mut s = String::from("record,label,irregular,base_cycle");
-    for m in AGREEMENT_GRID {
-        let _ = write!(s, ",readable_{m}");
+    for (m, k) in READABILITY_RULES {
+        let _ = write!(s, ",readable_{m}_k{k}");
     }
     for n in SCORE_FEATURE_NAMES
         .iter()
@@ -137,6 +142,7 @@ fn dump_csv(rows: &[beatfold::verdicts::LabelledVerdict], fit: &[FitRow]) -> Str
             e.fwave.dominant_hz,
             p_share,
             e.flagged_fraction,
+            e.kurtosis,
         ];
         let _ = write!(
             s,

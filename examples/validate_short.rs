@@ -15,8 +15,8 @@
 use beatfold::pipeline::AnalyzeParams;
 use beatfold::rhythm::label_score::{auc, LabelMap, LabelScore};
 use beatfold::rhythm::score_fit::{
-    out_of_fold, out_of_fold_seeded, FitRow, AGREEMENT_GRID, FOLD_SEED, INNER_FOLDS, OUTER_FOLDS,
-    RIDGE_GRID, THRESHOLD_GRID,
+    out_of_fold, out_of_fold_seeded, FitRow, FOLD_SEED, INNER_FOLDS, OUTER_FOLDS,
+    READABILITY_RULES, RIDGE_GRID, THRESHOLD_GRID,
 };
 use beatfold::rhythm::verdict::{decide, VerdictClass, VerdictParams, SCORE_FEATURE_NAMES};
 use beatfold::verdicts::LabelledVerdict;
@@ -99,7 +99,8 @@ fn main() -> anyhow::Result<()> {
          2017, Clifford et al. 2017; see the folder's SOURCE.md). Every parameter at its default \
          (docs/methods.md, \"Record verdict\"). The irregular-rhythm score (a logistic \
          combination of {} measures: {}), its L2 penalty ({}), its threshold `score_min` ({}) \
-         and the readability rule `min_agreement_plausible` ({}) were fitted and chosen **on \
+         and the readability rule (`min_agreement_plausible` {}, `min_kurtosis_plausible` {}) \
+         were fitted and chosen **on \
          these records** by `cargo run --release --example fit_short \
          -- {} --out src/rhythm/irregular_score.json` (the file the library reads), so the \
          confusion matrix below is in-sample. The section \"Out of fold\" repeats the whole \
@@ -117,6 +118,7 @@ fn main() -> anyhow::Result<()> {
         fitted_ridge(),
         p.verdict.score_min,
         p.verdict.min_agreement_plausible,
+        p.verdict.min_kurtosis_plausible,
         dir.display(),
         p.verdict.base_tolerance,
         p.verdict.off_base_min,
@@ -137,7 +139,10 @@ fn main() -> anyhow::Result<()> {
         "Nested cross-validation (Varma & Simon 2006): the records are dealt to {OUTER_FOLDS} \
          folds stratified by label (a seeded shuffle within each class, \
          `score_fit::stratified_folds`). For each fold, the fit of `fit_short` is redone on the \
-         other nine: the readability rule `min_agreement_plausible` (from {:?}; 0.8 is off), \
+         other nine: the readability rule (`min_agreement_plausible`, `min_kurtosis_plausible`: \
+         the detector agreement at which a record with plausible beats is still read and the \
+         lead kurtosis, kSQI, such a record needs; from {:?}; an agreement of 0.8 or a kurtosis \
+         of 0 is off), \
          the L2 penalty (from {:?}) and the threshold (0.1–0.9 in steps of 0.05) with the \
          highest irregular-vs-rest F1 over an inner {INNER_FOLDS}-fold \
          cross-validation (an irregular record called unreadable counts as a miss), then the \
@@ -147,20 +152,21 @@ fn main() -> anyhow::Result<()> {
          readability rules, the organised-pattern rule and the grids were fixed beforehand (the measures were picked by a forward selection over all {} \
          records, `scripts/short_measure_selection.py`, which the nested estimate does not \
          undo; docs/methods.md, \"Record verdict\").\n",
-        AGREEMENT_GRID,
+        READABILITY_RULES,
         RIDGE_GRID,
         rows.len()
     )?;
     writeln!(
         w,
-        "| fold | records | min_agreement_plausible | ridge | score_min | inner F1 |\n|---|---|---|---|---|---|"
+        "| fold | records | min_agreement_plausible | min_kurtosis_plausible | ridge | score_min | inner F1 |\n|---|---|---|---|---|---|---|"
     )?;
     for (f, c) in oof.choices.iter().enumerate() {
         writeln!(
             w,
-            "| {f} | {} | {} | {} | {} | {:.3} |",
+            "| {f} | {} | {} | {} | {} | {} | {:.3} |",
             oof.fold.iter().filter(|&&g| g == f).count(),
             c.min_agreement_plausible,
+            c.min_kurtosis_plausible,
             c.ridge,
             c.score_min,
             c.inner_f1
@@ -176,6 +182,7 @@ fn main() -> anyhow::Result<()> {
                 score: c.score.clone(),
                 score_min: c.score_min,
                 min_agreement_plausible: c.min_agreement_plausible,
+                min_kurtosis_plausible: c.min_kurtosis_plausible,
                 ..p.verdict.clone()
             };
             (r.truth, decide(&r.evidence, &vpar).class)

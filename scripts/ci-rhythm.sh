@@ -6,9 +6,9 @@
 # irregular-vs-rest numbers fall below the gates; then checks the demo's episode and verdict
 # through the real binary.
 # Gates on the out-of-fold numbers (fold seed 2017), at the level reached and rounded down,
-# since the targets (Se ≥ 90 %, Sp ≥ 97 %, F1 ≥ 0.85) are not all met (Se 92.0 %, Sp 96.8 %,
-# F1 0.885 on docs/validation-short.md: specificity is short by one record; the page's mean over
-# 8 fold seeds is Se 89.5 %, Sp 97.1 %, F1 0.877).
+# since the targets (Se ≥ 90 %, Sp ≥ 97 %, F1 ≥ 0.85) are not all met on every fold draw (Se 92.0 %,
+# Sp 97.2 %, F1 0.893 on docs/validation-short.md with fold seed 2017; the page's mean over 8 fold
+# seeds is Se 89.8 %, Sp 97.1 %, F1 0.880: sensitivity is short).
 #
 # Usage: scripts/ci-rhythm.sh [SHORT_RECORDS_DIR]   (default: ../shared/data/cinc2017-sample)
 set -euo pipefail
@@ -27,7 +27,7 @@ if ! diff -u src/rhythm/irregular_score.json "$tmp/irregular_score.json"; then
 fi
 
 cargo run --release --quiet --example validate_short -- "$dir" --out "$tmp/validation-short.md" \
-    --min-se 92 --min-sp 96.8 --min-f1 0.88 >/dev/null
+    --min-se 92 --min-sp 97.2 --min-f1 0.89 >/dev/null
 # The page names the folder as given; compare with the committed one made from the default path.
 if ! diff -u docs/validation-short.md "$tmp/validation-short.md"; then
     echo "ci-rhythm: docs/validation-short.md differs from a fresh run (regenerate it with" >&2

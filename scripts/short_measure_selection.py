@@ -7,7 +7,7 @@ Run with /tmp/venv-c (Python 3, numpy 2.4.6; nothing else is imported):
     /tmp/venv-c/bin/python scripts/short_measure_selection.py /tmp/short.csv
 
 The input has one line per record (`fit_short --dump`): the label, the readability of the record
-under each `min_agreement_plausible` of `rhythm::score_fit::AGREEMENT_GRID`, the organised-pattern
+under each rule of `rhythm::score_fit::READABILITY_RULES` (columns `readable_*`), the organised-pattern
 rule, the score's measures and further candidate measures.
 
 The judge of a measure set is the same nested cross-validation as `rhythm::score_fit::out_of_fold`
@@ -35,7 +35,8 @@ import math
 
 import numpy as np
 
-AGREEMENT_GRID = [0.8, 0.7, 0.6]
+# Readability rules (min_agreement_plausible, min_kurtosis_plausible), as READABILITY_RULES.
+READABILITY_RULES = [(0.8, 0.0), (0.7, 5.0), (0.7, 0.0), (0.6, 5.0), (0.6, 0.0)]
 RIDGE_GRID = [30.0, 10.0, 3.0, 1.0]
 THRESHOLD_GRID = [round(0.1 + 0.05 * k, 2) for k in range(17)]
 INNER_FOLDS = 5
@@ -72,7 +73,7 @@ def read(path):
         rows = list(csv.DictReader(f))
     cols = {k: np.array([float(r[k]) for r in rows]) for k in rows[0] if k not in ("record", "label")}
     y = cols["irregular"] > 0.5
-    readable = np.stack([cols[f"readable_{m}"] > 0.5 for m in AGREEMENT_GRID], axis=1)
+    readable = np.stack([cols[f"readable_{m:g}_k{k:g}"] > 0.5 for m, k in READABILITY_RULES], axis=1)
     fit_ok = readable & ~(cols["base_cycle"] > 0.5)[:, None]
     return cols, y, fit_ok
 
@@ -147,7 +148,7 @@ def f1(tp, fp, fn):
 def choose_and_fit(x, y, fit_ok, seed, rule):
     folds = stratified_folds(y, INNER_FOLDS, seed)
     best, best_key = None, None
-    for a in range(len(AGREEMENT_GRID)):
+    for a in range(fit_ok.shape[1]):
         for ridge in RIDGE_GRID:
             prob = np.zeros(len(y))
             for f in range(INNER_FOLDS):

@@ -63,6 +63,7 @@ pub fn verdict_of_beats(
     );
     e.fwave = crate::rhythm::fwave::fwave(&b.conditioned, samples, rec.fs_hz);
     e.qrs_match = crate::rhythm::qrs_match::qrs_match(&b.conditioned, samples, rec.fs_hz);
+    e.kurtosis = crate::rhythm::sqi::kurtosis(&b.conditioned);
     Ok((decide(&e, &p.verdict), e))
 }
 

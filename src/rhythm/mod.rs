@@ -15,6 +15,7 @@ pub mod qrs_match;
 pub mod recurrence;
 pub mod score_fit;
 pub mod screen;
+pub mod sqi;
 pub mod verdict;
 pub mod windowed;
 

@@ -13,9 +13,10 @@
 //!   (ridge; le Cessie & van Houwelingen 1992) on the weights, not on the intercept. Only
 //!   readable records whose RR does not follow an organised pattern are fitted: the verdict gives
 //!   the others `unreadable` or `other` whatever their score;
-//! - the choice ([`choose_and_fit`]): for each readability rule of [`AGREEMENT_GRID`] (the
+//! - the choice ([`choose_and_fit`]): for each readability rule of [`READABILITY_RULES`] (the
 //!   lower detector agreement at which a record with plausible beats is still read,
-//!   `VerdictParams::min_agreement_plausible`) and each penalty of [`RIDGE_GRID`], the
+//!   `VerdictParams::min_agreement_plausible`, and the lead kurtosis such a record needs,
+//!   `VerdictParams::min_kurtosis_plausible`) and each penalty of [`RIDGE_GRID`], the
 //!   out-of-fold probabilities of an inner stratified [`INNER_FOLDS`]-fold cross-validation;
 //!   the (rule, penalty, threshold of [`THRESHOLD_GRID`]) triple with the highest
 //!   irregular-vs-rest F1 over every training record (an unreadable record is never called
@@ -31,9 +32,12 @@ use super::verdict::{IrregularScore, SCORE_FEATURES, SCORE_FEATURE_NAMES};
 use crate::error::{Error, Result};
 use serde::{Deserialize, Serialize};
 
-/// `min_agreement_plausible` values tried, strictest first (0.8, equal to `min_agreement`, is
-/// off: every record below 80 % agreement is unreadable).
-pub const AGREEMENT_GRID: [f64; 3] = [0.8, 0.7, 0.6];
+/// Readability rules tried, (`min_agreement_plausible`, `min_kurtosis_plausible`), strictest
+/// first. An agreement of 0.8, equal to `min_agreement`, is off: every record below 80 %
+/// agreement is unreadable, and the kurtosis rule has nothing to add. A kurtosis of 0 is off; 5
+/// is the clean-ECG bound of kSQI (Clifford et al. 2012, [`super::sqi`]).
+pub const READABILITY_RULES: [(f64, f64); 5] =
+    [(0.8, 0.0), (0.7, 5.0), (0.7, 0.0), (0.6, 5.0), (0.6, 0.0)];
 /// L2 penalties tried (on the standardised weights), largest first.
 pub const RIDGE_GRID: [f64; 4] = [30.0, 10.0, 3.0, 1.0];
 /// Thresholds of the probability tried, lowest first (0.1 to 0.9 in steps of 0.05).
@@ -53,8 +57,8 @@ pub struct FitRow {
     /// The record's measures ([`super::verdict::score_features`]).
     pub x: [f64; SCORE_FEATURES],
     /// The verdict's readability rules pass ([`super::verdict::unreadable_reason`] is `None`)
-    /// with `min_agreement_plausible` at each value of [`AGREEMENT_GRID`].
-    pub readable: [bool; AGREEMENT_GRID.len()],
+    /// under each rule of [`READABILITY_RULES`].
+    pub readable: [bool; READABILITY_RULES.len()],
     /// RR follows an organised pattern ([`super::verdict::returns_to_base_cycle`]): the
     /// verdict never calls such a record irregular by its score, so it is neither fitted nor
     /// called.
@@ -72,9 +76,10 @@ impl FitRow {
     ) -> FitRow {
         FitRow {
             x: super::verdict::score_features(e),
-            readable: AGREEMENT_GRID.map(|m| {
+            readable: READABILITY_RULES.map(|(m, k)| {
                 let q = super::verdict::VerdictParams {
                     min_agreement_plausible: m,
+                    min_kurtosis_plausible: k,
                     ..p.clone()
                 };
                 super::verdict::unreadable_reason(e, &q).is_none()
@@ -96,6 +101,8 @@ pub struct FitChoice {
     pub ridge: f64,
     /// The `min_agreement_plausible` chosen.
     pub min_agreement_plausible: f64,
+    /// The `min_kurtosis_plausible` chosen.
+    pub min_kurtosis_plausible: f64,
     /// The inner cross-validated F1 of the choice.
     pub inner_f1: f64,
 }
@@ -218,7 +225,7 @@ fn solve<const D: usize>(mut a: [[f64; D]; D], mut b: [f64; D]) -> [f64; D] {
 }
 
 /// The probability of each row under `score` (0 for a row unreadable under rule `a` of
-/// [`AGREEMENT_GRID`] or whose RR follows an organised pattern: it is never called).
+/// [`READABILITY_RULES`] or whose RR follows an organised pattern: it is never called).
 fn probabilities(rows: &[&FitRow], score: &IrregularScore, a: usize) -> Vec<f64> {
     rows.iter()
         .map(|r| {
@@ -266,7 +273,7 @@ pub fn choose_and_fit(rows: &[&FitRow], seed: u64) -> FitChoice {
     let truth: Vec<bool> = rows.iter().map(|r| r.irregular).collect();
     let folds = stratified_folds(&truth, INNER_FOLDS, seed);
     let mut best = (0, RIDGE_GRID[0], THRESHOLD_GRID[0], f64::NEG_INFINITY);
-    for a in 0..AGREEMENT_GRID.len() {
+    for a in 0..READABILITY_RULES.len() {
         for ridge in RIDGE_GRID {
             let mut prob = vec![0.0; rows.len()];
             for f in 0..INNER_FOLDS {
@@ -293,7 +300,8 @@ pub fn choose_and_fit(rows: &[&FitRow], seed: u64) -> FitChoice {
         score: fit_rows(rows, best.1, best.0),
         score_min: best.2,
         ridge: best.1,
-        min_agreement_plausible: AGREEMENT_GRID[best.0],
+        min_agreement_plausible: READABILITY_RULES[best.0].0,
+        min_kurtosis_plausible: READABILITY_RULES[best.0].1,
         inner_f1: best.3,
     }
 }
@@ -333,9 +341,9 @@ pub fn out_of_fold_seeded(rows: &[FitRow], seed: u64) -> OutOfFold {
             .map(|(r, _)| r)
             .collect();
         let c = choose_and_fit(&train, seed + 1 + f as u64);
-        let a = AGREEMENT_GRID
+        let a = READABILITY_RULES
             .iter()
-            .position(|&m| m == c.min_agreement_plausible)
+            .position(|&r| r == (c.min_agreement_plausible, c.min_kurtosis_plausible))
             .unwrap_or(0);
         for i in (0..rows.len()).filter(|&i| folds[i] == f) {
             let p = probabilities(&[&rows[i]], &c.score, a)[0];
@@ -370,6 +378,8 @@ pub struct ScoreFile {
     pub score_min: f64,
     /// The readability rule chosen (the default `min_agreement_plausible`).
     pub min_agreement_plausible: f64,
+    /// The readability rule chosen (the default `min_kurtosis_plausible`).
+    pub min_kurtosis_plausible: f64,
     /// Names of the measures, in the order of [`SCORE_FEATURE_NAMES`].
     pub features: Vec<String>,
     /// The coefficients.
@@ -386,6 +396,7 @@ struct ScoreFileText {
     ridge: f64,
     score_min: f64,
     min_agreement_plausible: f64,
+    min_kurtosis_plausible: f64,
     features: Vec<String>,
     center: Vec<f64>,
     scale: Vec<f64>,
@@ -441,6 +452,7 @@ impl ScoreFile {
             ridge: t.ridge,
             score_min: t.score_min,
             min_agreement_plausible: t.min_agreement_plausible,
+            min_kurtosis_plausible: t.min_kurtosis_plausible,
             features: t.features,
         };
         f.check(path)?;
@@ -471,6 +483,16 @@ impl ScoreFile {
                 ),
             ));
         }
+        if !(f.min_kurtosis_plausible.is_finite() && f.min_kurtosis_plausible >= 0.0) {
+            return Err(Error::input(
+                path,
+                "min_kurtosis_plausible",
+                format!(
+                    "{}; allowed a finite value ≥ 0 (0 is off)",
+                    f.min_kurtosis_plausible
+                ),
+            ));
+        }
         if !(f.ridge.is_finite() && f.ridge >= 0.0) {
             return Err(Error::input(
                 path,
@@ -490,6 +512,7 @@ impl ScoreFile {
             ridge: self.ridge,
             score_min: self.score_min,
             min_agreement_plausible: self.min_agreement_plausible,
+            min_kurtosis_plausible: self.min_kurtosis_plausible,
             features: self.features.clone(),
             center: self.score.center.to_vec(),
             scale: self.score.scale.to_vec(),
@@ -516,7 +539,7 @@ mod tests {
         .unwrap();
         assert_eq!(f.features.len(), SCORE_FEATURES);
         assert!(RIDGE_GRID.contains(&f.ridge) && THRESHOLD_GRID.contains(&f.score_min));
-        assert!(AGREEMENT_GRID.contains(&f.min_agreement_plausible));
+        assert!(READABILITY_RULES.contains(&(f.min_agreement_plausible, f.min_kurtosis_plausible)));
         // The file round-trips through its writer.
         assert_eq!(
             ScoreFile::parse(&f.to_text(), "x").unwrap(),
@@ -548,6 +571,9 @@ mod tests {
         let mut f = ScoreFile::parse(good, "x").unwrap();
         f.score_min = 1.5;
         assert!(err(&f.to_text()).contains("coef.json: score_min: 1.5"));
+        let mut f = ScoreFile::parse(good, "x").unwrap();
+        f.min_kurtosis_plausible = -1.0;
+        assert!(err(&f.to_text()).contains("coef.json: min_kurtosis_plausible: -1"));
     }
 
     #[test]
@@ -579,7 +605,7 @@ mod tests {
                 x[0] += if irregular { 1.5 } else { -1.5 };
                 FitRow {
                     x,
-                    readable: [i % 50 != 1, i % 50 != 1, i % 50 != 1],
+                    readable: [i % 50 != 1; READABILITY_RULES.len()],
                     base_cycle: false,
                     irregular,
                 }

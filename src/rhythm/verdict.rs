@@ -112,6 +112,13 @@ pub struct VerdictParams {
     /// Default: chosen with the score by inner cross-validation on the labelled short records
     /// ([`super::score_fit`]) and read from the same file.
     pub min_agreement_plausible: f64,
+    /// A record read by the rule of `min_agreement_plausible` (its detectors agree on fewer
+    /// than `min_agreement` of the beats) must also have a lead kurtosis (kSQI,
+    /// [`super::sqi::kurtosis`]; Li, Mark & Clifford 2008) of at least this: a QRS train that
+    /// stands out of the noise (0 is off; 5 is the clean-ECG bound of Clifford et al. 2012).
+    /// Default: chosen with `min_agreement_plausible` by inner cross-validation
+    /// ([`super::score_fit`]) and read from the same file.
+    pub min_kurtosis_plausible: f64,
     /// The irregular-rhythm score: a logistic combination of RR irregularity, atrial-activity
     /// and beat-quality measures ([`IrregularScore`]; default [`IrregularScore::fitted`], fitted
     /// on the labelled short records by `examples/fit_short.rs`).
@@ -241,6 +248,7 @@ impl Default for VerdictParams {
             base_tolerance: 0.1,
             off_base_min: 0.1,
             min_agreement_plausible: fitted_file().min_agreement_plausible,
+            min_kurtosis_plausible: fitted_file().min_kurtosis_plausible,
             score: IrregularScore::fitted(),
             score_min: fitted_file().score_min,
         }
@@ -273,6 +281,15 @@ impl VerdictParams {
             if !(0.0..=1.0).contains(&v) {
                 return Err(Error::param(name, format!("{v}; allowed 0 ≤ v ≤ 1")));
             }
+        }
+        if !(self.min_kurtosis_plausible.is_finite() && self.min_kurtosis_plausible >= 0.0) {
+            return Err(Error::param(
+                "verdict.min_kurtosis_plausible",
+                format!(
+                    "{}; allowed a finite value ≥ 0 (0 is off)",
+                    self.min_kurtosis_plausible
+                ),
+            ));
         }
         if !self.cosen_min.is_finite() {
             return Err(Error::param(
@@ -404,6 +421,10 @@ pub struct VerdictEvidence {
     /// QRS match of the beats ([`super::qrs_match`]; NaN when not computed).
     #[serde(default = "nan")]
     pub qrs_match: f64,
+    /// Kurtosis of the conditioned lead (kSQI, [`super::sqi::kurtosis`]; NaN when not
+    /// computed).
+    #[serde(default = "nan")]
+    pub kurtosis: f64,
 }
 
 fn nan() -> f64 {
@@ -590,6 +611,7 @@ pub fn evidence(
         delta_rr: super::drr::delta_rr(&rr),
         median_rr_s: median(rr.iter().copied()),
         qrs_match: f64::NAN,
+        kurtosis: f64::NAN,
     }
 }
 
@@ -687,7 +709,9 @@ pub fn unreadable_reason(e: &VerdictEvidence, p: &VerdictParams) -> Option<Strin
             e.n_beats, p.min_beats
         ));
     }
-    let plausible_enough = e.plausible_beats && e.agreement >= p.min_agreement_plausible;
+    // A NaN kurtosis passes only when the kurtosis rule is off.
+    let peaked = p.min_kurtosis_plausible <= 0.0 || e.kurtosis >= p.min_kurtosis_plausible;
+    let plausible_enough = e.plausible_beats && e.agreement >= p.min_agreement_plausible && peaked;
     if e.agreement < p.min_agreement && !plausible_enough {
         return Some(format!(
             "the two beat detectors agree on {} of the beats, below {}: the beats are not trusted",
@@ -820,8 +844,9 @@ fn decide_by_score(e: &VerdictEvidence, p: &VerdictParams) -> (VerdictClass, Vec
 /// The verdict of a record from its evidence (rules in the order tried):
 /// 1. `unreadable` when the record lasts less than `min_duration_s`, has fewer than
 ///    `min_beats` beats, its detectors agree on fewer than `min_agreement` of the beats (bSQI,
-///    Li, Mark & Clifford 2008) unless they agree on at least `min_agreement_plausible` and
-///    the beats used are plausible ([`PLAUSIBLE_RR_S`]), more than `max_flagged_fraction` of its quality segments are
+///    Li, Mark & Clifford 2008) unless they agree on at least `min_agreement_plausible`, the
+///    beats used are plausible ([`PLAUSIBLE_RR_S`]) and the lead's kurtosis (kSQI) is at least
+///    `min_kurtosis_plausible`, more than `max_flagged_fraction` of its quality segments are
 ///    flagged, or its COSEn cannot be computed;
 /// 2. with `score_min` at most 1 (the default): `irregular` when the irregular-rhythm score
 ///    ([`IrregularScore::probability`] of `score`: RR irregularity, P-wave index and f-wave
@@ -1135,9 +1160,10 @@ mod tests {
     #[test]
     fn plausible_beats_are_read_at_lower_agreement() {
         use rand::{Rng, SeedableRng};
-        // Set here at 0.6 (the default comes from the score's fit).
+        // Set here at 0.6, kurtosis rule off (the defaults come from the score's fit).
         let p = VerdictParams {
             min_agreement_plausible: 0.6,
+            min_kurtosis_plausible: 0.0,
             ..VerdictParams::default()
         };
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(5);
@@ -1155,6 +1181,21 @@ mod tests {
         e.agreement = 0.5 * (p.min_agreement + p.min_agreement_plausible);
         e.plausible_beats = false;
         assert_eq!(decide(&e, &p).class, VerdictClass::Unreadable);
+        // With the kurtosis rule on, a record read below `min_agreement` needs a peaked lead.
+        e.plausible_beats = true;
+        let k = VerdictParams {
+            min_kurtosis_plausible: 5.0,
+            ..p.clone()
+        };
+        e.kurtosis = 8.0;
+        assert!(unreadable_reason(&e, &k).is_none());
+        for bad in [4.0, f64::NAN] {
+            e.kurtosis = bad;
+            assert_eq!(decide(&e, &k).class, VerdictClass::Unreadable);
+        }
+        // At full agreement the kurtosis rule does not apply.
+        e.agreement = 1.0;
+        assert!(unreadable_reason(&e, &k).is_none());
         assert!(plausible_rr(&[0.3, 2.9]));
         assert!(!plausible_rr(&[0.2, 0.8]));
         assert!(!plausible_rr(&[]));
