@@ -22,14 +22,18 @@ pub fn clear_upper_state_here() {
     }
 }
 
-/// Clear the upper vector state of every thread of the current rayon pool and of the calling
-/// thread. Call it between phases, not from inside a parallel loop (it waits for every thread
-/// of the pool).
+/// Clear the upper vector state of every thread of the global rayon pool and of the calling
+/// thread, when called from outside any pool (between phases of a command). From inside a pool
+/// (a record of a cohort run on a worker) only the calling thread is cleared: waiting for every
+/// worker there would hold the record up until the others reach a free moment; the clears after
+/// each library call cover the workers then.
 pub fn clear_upper_state_everywhere() {
     #[cfg(target_arch = "x86_64")]
     {
         if std::arch::is_x86_feature_detected!("avx") {
-            rayon::broadcast(|_| clear_upper_state_here());
+            if rayon::current_thread_index().is_none() {
+                rayon::broadcast(|_| clear_upper_state_here());
+            }
             clear_upper_state_here();
         }
     }
