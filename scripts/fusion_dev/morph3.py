@@ -40,6 +40,9 @@ def sim_fn3(j,b,cl,w="mean",half_s=0.08,lag_s=0.02,nbank=16,K=0,need=2):
 def M3(j,T=0.8,Q=0.9,fill=1.5,fillk=2,fillT=0.8,rec=1,w="mean",mfT=0.0,mfw=0.15,K=0,need=2):
     b,cl=base(j); sim=sim_fn3(j,b,cl,w,K=K,need=need)
     b2=morph_keep(b,cl,sim,T,Q)
+    return search_back(j,b2,sim,fill,fillk,fillT,rec,mfT,mfw)
+def search_back(j,b2,sim,fill,fillk,fillT,rec,mfT,mfw):
+    """The repeated search-back on the beats b2 (shared by morph3.py and morph4.py)."""
     if fill<=0 or len(b2)<5: return b2
     v=votes(j); cand=np.array([p for p,src in v if len(src)>=fillk]); rr=np.diff(b2); add=[]
     def fillgap(a,z,med,depth):

@@ -13,7 +13,7 @@ import os, sys
 # noises and MIT-BIH pooled Se/+P without 118 and 119. Nothing about 118e*/119e*.
 sys.path.insert(0,os.path.dirname(os.path.abspath(__file__))); from morph import *
 from morph2 import morph_keep
-from morph3 import sim_fn3
+from morph3 import search_back, sim_fn3
 def split_keep(b,cl,sim,T,short=0.8,merge=1.3):
     rr=np.diff(b); keep=np.ones(len(b),bool)
     for i,p in enumerate(b):
@@ -26,26 +26,7 @@ def M4(j,T=0.8,Q=0.9,fill=1.5,fillk=2,fillT=0.8,rec=1,w="mean",mfT=0.0,mfw=0.15,
     if cs and len(b)>4:
         k=split_keep(b,cl,sim,T); b=b[k]; cl=cl[k]
     b2=morph_keep(b,cl,sim,T,Q)
-    if fill<=0 or len(b2)<5: return b2
-    v=votes(j); cand=np.array([p for p,src in v if len(src)>=fillk]); rr=np.diff(b2); add=[]
-    def fillgap(a,z,med,depth):
-        if z-a<=fill*med or depth>=rec: return
-        m=(cand>a+0.3*med)&(cand<z-0.3*med); best=None
-        for c in cand[m]:
-            s=sim(c)
-            if s>=fillT and (best is None or s>best[0]): best=(s,c)
-        if best is None and mfT>0:
-            e=int(a+med); lo=max(int(a+0.3*med),int(e-mfw*med)); hi=min(int(z-0.3*med),int(e+mfw*med))
-            step=max(1,int(0.008*j['fs']))
-            for c in range(lo,hi+1,step):
-                s=sim(c)
-                if s>=mfT and (best is None or s>best[0]): best=(s,c)
-        if best:
-            add.append(best[1]); fillgap(a,best[1],med,depth+1); fillgap(best[1],z,med,depth+1)
-    for i in range(len(b2)-1):
-        med=np.median(rr[max(0,i-8):min(len(rr),i+8)])
-        fillgap(b2[i],b2[i+1],med,0)
-    return np.array(sorted(list(b2)+add))
+    return search_back(j,b2,sim,fill,fillk,fillT,rec,mfT,mfw)
 def show4(f,label):
     out=[label]
     for grp in 'dmb':
